@@ -1,0 +1,77 @@
+"""eaveline's computational core: roof geometry, setbacks, module placement and shading.
+
+The names a notebook uses most are available here; everything else lives in its module
+(``layout.roof``, ``layout.clearance``, ``layout.placement``, ``layout.shading``, ...).
+Nothing in this package imports a widget or plotting library.
+"""
+
+from .building import (
+    Building,
+    flat_roof,
+    gable_roof,
+    hip_roof,
+    l_shaped_gable_roof,
+    l_shaped_hip_roof,
+    shed_roof,
+)
+from .clearance import (
+    CAUTION,
+    ClearanceRules,
+    ifc_2015_residential,
+    ifc_2021_commercial,
+    ifc_2021_residential,
+    no_setbacks,
+    usable_area,
+)
+from .errors import InputError
+from .modules import ModuleSpec, generic_60_cell, generic_72_cell, generic_108_half_cell
+from .obstructions import Block, Cylinder, HorizonProfile, Tree
+from .placement import FillOptions, Layout, PlacedModule, compare_orientations, fill_building
+from .project import Project, ProjectFileError, load_demo_project, load_project, save_project
+from .roof import RoofFace
+from .site import Site
+from .units import feet_to_m, inches_to_m, parse_length, pitch_from_rise
+
+__version__ = "0.1.0.dev0"
+
+__all__ = [
+    "CAUTION",
+    "Block",
+    "Building",
+    "ClearanceRules",
+    "Cylinder",
+    "FillOptions",
+    "HorizonProfile",
+    "InputError",
+    "Layout",
+    "ModuleSpec",
+    "PlacedModule",
+    "Project",
+    "ProjectFileError",
+    "RoofFace",
+    "Site",
+    "Tree",
+    "compare_orientations",
+    "feet_to_m",
+    "fill_building",
+    "flat_roof",
+    "gable_roof",
+    "generic_60_cell",
+    "generic_72_cell",
+    "generic_108_half_cell",
+    "hip_roof",
+    "ifc_2015_residential",
+    "ifc_2021_commercial",
+    "ifc_2021_residential",
+    "inches_to_m",
+    "l_shaped_gable_roof",
+    "l_shaped_hip_roof",
+    "load_demo_project",
+    "load_project",
+    "no_setbacks",
+    "parse_length",
+    "pitch_from_rise",
+    "save_project",
+    "shed_roof",
+    "usable_area",
+]

@@ -1,0 +1,150 @@
+"""Errors raised for bad input, and the small checks that raise them.
+
+Every check names the field it looked at and the range it allows, so that a form or a
+project loader can put the message beside the value the user typed, and nothing the user
+entered is thrown away.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable
+
+import numpy as np
+
+__all__ = [
+    "InputError",
+    "check_finite",
+    "check_nonnegative",
+    "check_points",
+    "check_positive",
+    "check_range",
+]
+
+
+class InputError(ValueError):
+    """A value given by the user is outside what eaveline can work with.
+
+    Parameters
+    ----------
+    field : str
+        Name of the offending field, as the user sees it (``"pitch_deg"``,
+        ``"faces[2].outline"``).
+    problem : str
+        What is wrong, in plain words.
+    value : object, optional
+        The value the user gave, echoed back in the message.
+    allowed : str, optional
+        The allowed range or form, e.g. ``"0 to 75 degrees"``.
+    """
+
+    def __init__(self, field: str, problem: str, *, value=None, allowed: str | None = None):
+        self.field = field
+        self.problem = problem
+        self.value = value
+        self.allowed = allowed
+        text = f"{field}: {problem}"
+        details = []
+        if value is not None:
+            details.append(f"got {value!r}")
+        if allowed:
+            details.append(f"allowed: {allowed}")
+        if details:
+            text += " (" + "; ".join(details) + ")"
+        super().__init__(text)
+
+    def at(self, prefix: str) -> InputError:
+        """Return the same error with its field placed under ``prefix``.
+
+        Used by containers (a building, a project) to report where in the document the
+        value sits: ``err.at("faces[1]")`` turns field ``pitch_deg`` into
+        ``faces[1].pitch_deg``.
+        """
+        field = f"{prefix}.{self.field}" if self.field else prefix
+        return InputError(field, self.problem, value=self.value, allowed=self.allowed)
+
+
+def check_finite(field: str, value) -> float:
+    """Return ``value`` as a float, or raise if it is not a finite real number."""
+    try:
+        number = float(value)
+    except (TypeError, ValueError):
+        raise InputError(
+            field, "must be a number", value=value, allowed="a finite number"
+        ) from None
+    if not math.isfinite(number):
+        raise InputError(field, "must be a finite number", value=value, allowed="a finite number")
+    return number
+
+
+def check_range(
+    field: str,
+    value,
+    low: float,
+    high: float,
+    *,
+    unit: str = "",
+    low_open: bool = False,
+    high_open: bool = False,
+) -> float:
+    """Return ``value`` as a float, or raise if it lies outside ``low``..``high``.
+
+    ``low_open`` and ``high_open`` exclude the end points.
+    """
+    number = check_finite(field, value)
+    below = number <= low if low_open else number < low
+    above = number >= high if high_open else number > high
+    if below or above:
+        left = "more than" if low_open else "from"
+        right = "less than" if high_open else "to"
+        suffix = f" {unit}" if unit else ""
+        allowed = f"{left} {low:g} {right} {high:g}{suffix}"
+        raise InputError(field, "is out of range", value=value, allowed=allowed)
+    return number
+
+
+def check_positive(field: str, value, *, unit: str = "") -> float:
+    """Return ``value`` as a float, or raise unless it is finite and greater than zero."""
+    number = check_finite(field, value)
+    if number <= 0:
+        suffix = f" {unit}" if unit else ""
+        raise InputError(field, "must be greater than zero", value=value, allowed=f"> 0{suffix}")
+    return number
+
+
+def check_nonnegative(field: str, value, *, unit: str = "") -> float:
+    """Return ``value`` as a float, or raise unless it is finite and at least zero."""
+    number = check_finite(field, value)
+    if number < 0:
+        suffix = f" {unit}" if unit else ""
+        raise InputError(field, "must not be negative", value=value, allowed=f">= 0{suffix}")
+    return number
+
+
+def check_points(field: str, points: Iterable, *, dims: int = 2, min_count: int = 1) -> np.ndarray:
+    """Return ``points`` as a float array of shape (n, dims), or raise naming the bad entry."""
+    try:
+        array = np.asarray(points, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(
+            field, "must be a list of coordinate pairs", allowed="(x, y) pairs in metres"
+        ) from None
+    if array.ndim != 2 or array.shape[1] != dims:
+        raise InputError(
+            field,
+            f"must be a list of {dims}-number points",
+            value=np.asarray(points, dtype=object).tolist() if array.size < 50 else None,
+            allowed=f"{dims} numbers per point",
+        )
+    if len(array) < min_count:
+        raise InputError(
+            field, f"needs at least {min_count} points", value=len(array), allowed=f">= {min_count}"
+        )
+    bad = ~np.isfinite(array).all(axis=1)
+    if bad.any():
+        index = int(np.flatnonzero(bad)[0])
+        raise InputError(
+            f"{field}[{index}]", "must be finite numbers", value=array[index].tolist(),
+            allowed="finite numbers",
+        )
+    return array

@@ -1,0 +1,194 @@
+"""Length and slope conversions between the trade's units and the core's metres and degrees.
+
+The core works in metres and degrees. US setbacks are written in inches and feet, survey tapes
+read feet and inches, and roofers give pitch as rise in 12. These helpers let a user type either.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+
+import numpy as np
+
+from .errors import InputError, check_range
+
+__all__ = [
+    "FOOT_M",
+    "INCH_M",
+    "feet_inches_to_m",
+    "feet_to_m",
+    "format_length",
+    "inches_to_m",
+    "m_to_feet",
+    "m_to_inches",
+    "parse_length",
+    "pitch_from_rise",
+    "rise_from_pitch",
+    "slope_length_factor",
+]
+
+FOOT_M = 0.3048  # exact, international foot (1959 agreement)
+INCH_M = 0.0254  # exact
+
+
+def feet_to_m(feet):
+    """Convert feet to metres. Works on scalars and arrays."""
+    return np.asarray(feet, dtype=float) * FOOT_M if np.ndim(feet) else float(feet) * FOOT_M
+
+
+def inches_to_m(inches):
+    """Convert inches to metres. Works on scalars and arrays."""
+    return np.asarray(inches, dtype=float) * INCH_M if np.ndim(inches) else float(inches) * INCH_M
+
+
+def m_to_feet(metres):
+    """Convert metres to feet. Works on scalars and arrays."""
+    return np.asarray(metres, dtype=float) / FOOT_M if np.ndim(metres) else float(metres) / FOOT_M
+
+
+def m_to_inches(metres):
+    """Convert metres to inches. Works on scalars and arrays."""
+    return np.asarray(metres, dtype=float) / INCH_M if np.ndim(metres) else float(metres) / INCH_M
+
+
+def feet_inches_to_m(feet: float, inches: float = 0.0) -> float:
+    """Convert a tape reading of feet and inches, e.g. 11 ft 6 in, to metres."""
+    return float(feet) * FOOT_M + float(inches) * INCH_M
+
+
+_UNIT_M = {
+    "m": 1.0, "metre": 1.0, "metres": 1.0, "meter": 1.0, "meters": 1.0,
+    "cm": 0.01, "mm": 0.001,
+    "ft": FOOT_M, "foot": FOOT_M, "feet": FOOT_M, "'": FOOT_M, "’": FOOT_M,
+    "in": INCH_M, "inch": INCH_M, "inches": INCH_M, '"': INCH_M, "”": INCH_M, "''": INCH_M,
+}
+_PART = re.compile(r"\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+))\s*(''|[a-zA-Z]+|['\"’”])?")
+
+
+def parse_length(text, *, default_unit: str = "m", field: str = "length") -> float:
+    r"""Read a length typed by a user and return metres.
+
+    Accepts a bare number (in ``default_unit``), a number with a unit (``"3.2 m"``,
+    ``"457 mm"``, ``"18 in"``, ``"36\""``), or feet and inches together (``"11 ft 6 in"``,
+    ``"11' 6\""``, ``"11 ft 6"``: a bare number after feet is inches).
+
+    Parameters
+    ----------
+    text : str or float
+        What the user typed.
+    default_unit : str, default "m"
+        Unit of a bare number: one of m, cm, mm, ft, in.
+    field : str
+        Field name used in the error message.
+
+    Returns
+    -------
+    float
+        Length [m].
+
+    Raises
+    ------
+    InputError
+        If the text is not a length.
+    """
+    if isinstance(text, (int, float)) and not isinstance(text, bool):
+        if not math.isfinite(text):
+            raise InputError(field, "must be a finite length", value=text)
+        return float(text) * _UNIT_M[default_unit]
+    source = str(text).strip()
+    if not source:
+        raise InputError(field, "is empty", allowed="a length such as 3.2 m or 11 ft 6 in")
+    total = 0.0
+    position = 0
+    parts = 0
+    last_unit_m = 0.0
+    while position < len(source):
+        match = _PART.match(source, position)
+        if not match or match.end() == position:
+            break
+        number, unit = match.groups()
+        if unit is None:
+            # A bare number after a feet part is inches, as a tape reads: "11 ft 6".
+            if parts and last_unit_m != FOOT_M:
+                raise InputError(field, "has a number without a unit after a length",
+                                 value=text, allowed="a length such as 3.2 m or 11 ft 6 in")
+            unit = "in" if parts else default_unit
+        elif unit not in ("'", '"', "’", "”", "''"):
+            unit = unit.lower()
+        if unit not in _UNIT_M:
+            raise InputError(
+                field, f"unknown unit {unit!r}", value=text, allowed="m, cm, mm, ft, in, ' or \""
+            )
+        last_unit_m = _UNIT_M[unit]
+        total += float(number) * last_unit_m
+        position = match.end()
+        parts += 1
+    if parts == 0 or source[position:].strip():
+        raise InputError(
+            field, "is not a length", value=text, allowed="a length such as 3.2 m or 11 ft 6 in"
+        )
+    return total
+
+
+def format_length(metres: float, system: str = "metric", *, digits: int = 2) -> str:
+    """Format a length for display: ``"1.83 m"`` or ``"6 ft 0 in"``.
+
+    Parameters
+    ----------
+    metres : float
+        Length [m].
+    system : {"metric", "imperial"}
+        Unit system to show.
+    digits : int
+        Decimals for metres; imperial lengths are rounded to the nearest quarter inch.
+    """
+    if system == "metric":
+        return f"{metres:.{digits}f} m"
+    if system != "imperial":
+        raise InputError("system", "unknown unit system", value=system, allowed="metric, imperial")
+    total_in = round(abs(metres) / INCH_M * 4) / 4
+    feet, inches = divmod(total_in, 12)
+    sign = "-" if metres < 0 else ""
+    return f"{sign}{int(feet)} ft {inches:g} in"
+
+
+def pitch_from_rise(rise, run: float = 12.0):
+    """Roof pitch in degrees from the trade's rise-in-12 notation.
+
+    Parameters
+    ----------
+    rise : numeric
+        Rise per ``run`` of horizontal run (4 for a 4:12 roof).
+    run : float, default 12
+        Horizontal run in the same unit as ``rise``.
+
+    Returns
+    -------
+    numeric
+        Pitch from horizontal [degrees]: 4:12 gives 18.435, 6:12 gives 26.565.
+    """
+    if np.ndim(rise) == 0:
+        value = check_rise(rise)
+        return math.degrees(math.atan2(value, run))
+    return np.degrees(np.arctan2(np.asarray(rise, dtype=float), run))
+
+
+def check_rise(rise) -> float:
+    """Validate a rise-in-12 value (0 to 44.8, the 75° limit of the roof model)."""
+    return check_range("rise_in_12", rise, 0.0, 12.0 * math.tan(math.radians(75.0)))
+
+
+def rise_from_pitch(pitch_deg, run: float = 12.0):
+    """Rise per ``run`` from a pitch in degrees (inverse of :func:`pitch_from_rise`)."""
+    return np.tan(np.radians(pitch_deg)) * run if np.ndim(pitch_deg) else math.tan(
+        math.radians(pitch_deg)
+    ) * run
+
+
+def slope_length_factor(pitch_deg):
+    """Return the true length up the slope per unit of horizontal run: 1 / cos(pitch).
+
+    Equal to sqrt(1 + (rise/12)²); 6:12 gives 1.1180.
+    """
+    return 1.0 / np.cos(np.radians(pitch_deg))

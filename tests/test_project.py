@@ -1,0 +1,191 @@
+"""The project document: round trips, atomic save, all problems at once, versions, the demo."""
+
+import copy
+import json
+import os
+
+import pytest
+
+import layout
+from layout.__main__ import main, project_summary
+from layout.project import (
+    FILE_SUFFIX,
+    SCHEMA_KEY,
+    SCHEMA_VERSION,
+    ProjectFileError,
+    demo_project_path,
+    load_demo_project,
+    load_project,
+    project_from_dict,
+    project_to_dict,
+    save_project,
+)
+
+
+@pytest.fixture(scope="module")
+def demo():
+    return load_demo_project()
+
+
+@pytest.fixture
+def document(demo):
+    return copy.deepcopy(project_to_dict(demo))
+
+
+def test_demo_project_is_an_invented_gable_house_with_a_chimney(demo):
+    assert demo_project_path().name.endswith(FILE_SUFFIX)
+    assert len(demo.buildings) == 1
+    assert {face.name for face in demo.faces} == {"south", "north"}
+    kinds = {getattr(o, "kind", "tree") for o in demo.obstructions}
+    assert "chimney" in kinds
+    assert "invented" in demo.site.name
+
+
+def test_round_trip_is_exact(demo, tmp_path):
+    path = save_project(demo, tmp_path / "job")
+    assert path.name == "job" + FILE_SUFFIX
+    again = load_project(path)
+    assert again == demo
+    assert project_to_dict(again) == project_to_dict(demo)
+    # and the text itself is stable: saving the reloaded project writes the same bytes
+    second = save_project(again, tmp_path / "job2")
+    assert second.read_text() == path.read_text()
+
+
+def test_round_trip_keeps_user_removals_and_units(demo, tmp_path):
+    layout_now = demo.layout()
+    taken = layout_now.active_modules[0].id
+    removed = layout_now.remove([taken]).removed
+    edited = demo.with_changes(removed=removed, units="metric")
+    again = load_project(save_project(edited, tmp_path / "edited"))
+    assert again.units == "metric"
+    assert again.removed == edited.removed
+    assert again.layout().count == layout_now.count - 1
+
+
+def test_save_is_atomic_and_leaves_the_old_file_when_the_rename_fails(demo, tmp_path, monkeypatch):
+    path = save_project(demo, tmp_path / "site")
+    before = path.read_bytes()
+
+    def broken_replace(src, dst):
+        raise OSError("disk full")
+
+    monkeypatch.setattr(os, "replace", broken_replace)
+    with pytest.raises(OSError):
+        save_project(demo.with_changes(name="changed"), path)
+    assert path.read_bytes() == before
+    assert [p.name for p in tmp_path.iterdir()] == [path.name]  # no temporary file left
+
+
+def test_all_problems_are_reported_at_once_with_their_paths(document):
+    document["site"]["latitude"] = 123.0
+    document["buildings"][0]["faces"][1]["pitch_deg"] = 80.0
+    document["buildings"][0]["faces"][0]["outline"][1] = [float("nan"), 0.0]
+    document["module"]["power_w"] = 900.0  # 46 % efficient: beyond the single-junction limit
+    document["obstructions"][0]["top"] = -1.0
+    document["surprise"] = 1
+    with pytest.raises(ProjectFileError) as caught:
+        project_from_dict(document, source="job.eaveline.json")
+    paths = [path for path, _ in caught.value.problems]
+    assert "site.latitude" in paths
+    assert "buildings[0].faces[1].pitch_deg" in paths
+    assert "buildings[0].faces[0].outline[1]" in paths
+    assert any(p.startswith("module.power_w") for p in paths)
+    assert any(p.startswith("obstructions[0]") for p in paths)
+    assert "surprise" in paths
+    message = str(caught.value)
+    assert "job.eaveline.json" in message and "allowed: from -90 to 90 degrees" in message
+
+
+def test_newer_version_is_refused_with_a_clear_message(document):
+    document[SCHEMA_KEY] = SCHEMA_VERSION + 1
+    with pytest.raises(ProjectFileError, match="newer eaveline"):
+        project_from_dict(document)
+
+
+@pytest.mark.parametrize("version", [None, 0, "1", 1.5, True])
+def test_missing_or_malformed_version_is_refused(document, version):
+    if version is None:
+        del document[SCHEMA_KEY]
+    else:
+        document[SCHEMA_KEY] = version
+    with pytest.raises(ProjectFileError, match=SCHEMA_KEY):
+        project_from_dict(document)
+
+
+def test_loading_never_executes_code(document, tmp_path):
+    marker = tmp_path / "executed"
+    document["name"] = f"__import__('pathlib').Path({str(marker)!r}).touch()"
+    document["site"]["timezone"] = f"__import__('pathlib').Path({str(marker)!r}).touch()"
+    path = tmp_path / ("evil" + FILE_SUFFIX)
+    path.write_text(json.dumps(document))
+    with pytest.raises(ProjectFileError, match="timezone"):
+        load_project(path)
+    assert not marker.exists()
+
+
+def test_unreadable_and_non_json_files_get_clear_errors(tmp_path):
+    with pytest.raises(ProjectFileError, match="cannot read"):
+        load_project(tmp_path / "missing.eaveline.json")
+    bad = tmp_path / ("bad" + FILE_SUFFIX)
+    bad.write_text("{ not json")
+    with pytest.raises(ProjectFileError, match="not valid JSON"):
+        load_project(bad)
+
+
+def test_duplicate_face_names_across_buildings_are_reported(document):
+    document["buildings"].append(copy.deepcopy(document["buildings"][0]))
+    for face in document["buildings"][1]["faces"]:
+        face["outline"] = [[x + 30.0, y] for x, y in face["outline"]]
+    with pytest.raises(ProjectFileError) as caught:
+        project_from_dict(document)
+    assert any("used twice" in message for _, message in caught.value.problems)
+
+
+def test_pathways_must_name_faces(document):
+    document["pathways"] = {"attic": 1}
+    with pytest.raises(ProjectFileError, match=r"pathways\.attic"):
+        project_from_dict(document)
+
+
+def test_summary_command_prints_counts_and_cautions(capsys):
+    assert main(["summary", "--demo"]) == 0
+    text = capsys.readouterr().out
+    assert "portrait" in text and "landscape" in text
+    assert "authority having jurisdiction" in text
+    assert "Layout in force" in text
+
+
+def test_check_command_lists_problems_and_fails(document, tmp_path, capsys):
+    document["site"]["longitude"] = 500
+    path = tmp_path / ("broken" + FILE_SUFFIX)
+    path.write_text(json.dumps(document))
+    assert main(["check", str(path)]) == 1
+    assert "site.longitude" in capsys.readouterr().err
+    good = save_project(load_demo_project(), tmp_path / "good")
+    assert main(["check", str(good)]) == 0
+
+
+def test_summary_agrees_with_the_layout(demo):
+    text = project_summary(demo)
+    count = demo.layout().count
+    assert f"{count} modules" in text
+
+
+def test_top_level_names_are_exported():
+    for name in ("Block", "Cylinder", "Tree", "RoofFace", "Site", "Project", "ModuleSpec"):
+        assert hasattr(layout, name)
+
+
+def test_array_faces_must_name_faces(document):
+    document["array_faces"] = ["south", "garage"]
+    with pytest.raises(ProjectFileError) as caught:
+        project_from_dict(document)
+    assert [path for path, _ in caught.value.problems] == ["array_faces[1]"]
+
+
+def test_only_array_faces_take_modules(demo):
+    assert demo.array_faces == ("south",)
+    assert {m.face for m in demo.layout().modules} == {"south"}
+    everywhere = demo.with_changes(array_faces=None).layout()
+    assert {m.face for m in everywhere.modules} == {"south", "north"}
