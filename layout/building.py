@@ -34,7 +34,14 @@ from functools import cached_property
 import numpy as np
 import shapely
 
-from .errors import InputError, check_finite, check_nonnegative, check_points, check_positive
+from .errors import (
+    InputError,
+    check_fields,
+    check_finite,
+    check_nonnegative,
+    check_points,
+    check_positive,
+)
 from .roof import MAX_PITCH_DEG, RoofFace, building_to_site
 from .units import pitch_from_rise
 
@@ -196,16 +203,8 @@ class Building:
 
         A problem inside a face is reported under ``faces[i]`` (``faces[1].pitch_deg``).
         """
-        if not isinstance(data, dict):
-            raise InputError("building", "must be an object with a list of faces",
-                             value=type(data).__name__)
-        known = {"name", "parapet_height_m", "faces"}
-        unknown = sorted(set(data) - known)
-        if unknown:
-            raise InputError(unknown[0], "is not a building field",
-                             allowed=", ".join(sorted(known)))
-        if "faces" not in data:
-            raise InputError("faces", "is missing", allowed="a list of roof faces")
+        check_fields(data, ("name", "parapet_height_m", "faces"), required=("faces",),
+                     what="building")
         entries = data["faces"]
         if not isinstance(entries, list):
             raise InputError("faces", "must be a list of roof faces", value=type(entries).__name__)

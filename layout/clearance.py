@@ -42,7 +42,7 @@ import numpy as np
 import shapely
 from shapely.geometry import mapping, shape
 
-from .errors import InputError, check_nonnegative, check_positive, check_range
+from .errors import InputError, check_fields, check_nonnegative, check_positive, check_range
 from .roof import EDGE_KINDS, MAX_PITCH_DEG
 from .units import FOOT_M, feet_to_m, inches_to_m, pitch_from_rise
 
@@ -252,13 +252,7 @@ class ClearanceRules:
         known = ("name", "source", "edge_setback_m", "ridge_setback_high_m", "share_threshold",
                  "obstruction_clearance_m", "pathway_width_m", "pathway_count",
                  "exempt_max_pitch_deg", "ridge_source")
-        unknown = sorted(set(data) - set(known))
-        if unknown:
-            raise InputError(unknown[0], "is not a clearance rules field",
-                             allowed=", ".join(known))
-        for key in ("name", "edge_setback_m"):
-            if key not in data:
-                raise InputError(key, "is missing")
+        check_fields(data, known, required=("name", "edge_setback_m"), what="clearance rules")
         return cls(**{k: data[k] for k in known if k in data})
 
 
@@ -666,14 +660,7 @@ class UsableArea:
     def from_dict(cls, data: Mapping) -> UsableArea:
         """Inverse of :meth:`to_dict`; raises :class:`InputError` naming the bad field."""
         known = ("face_name", "polygon", "zones", "ridge_setback_m", "notes")
-        if not isinstance(data, Mapping):
-            raise InputError("", "a usable area must be a JSON object", value=type(data).__name__)
-        unknown = sorted(set(data) - set(known))
-        if unknown:
-            raise InputError(unknown[0], "is not a usable area field", allowed=", ".join(known))
-        for key in known:
-            if key not in data:
-                raise InputError(key, "is missing")
+        check_fields(data, known, required=known, what="usable area")
         if not isinstance(data["face_name"], str):
             raise InputError("face_name", "must be text", value=data["face_name"])
         notes = data["notes"]

@@ -14,6 +14,7 @@ import numpy as np
 
 __all__ = [
     "InputError",
+    "check_fields",
     "check_finite",
     "check_nonnegative",
     "check_points",
@@ -148,3 +149,33 @@ def check_points(field: str, points: Iterable, *, dims: int = 2, min_count: int 
             allowed="finite numbers",
         )
     return array
+
+
+def check_fields(data, known, *, required=(), what: str) -> None:
+    """Check the keys of a plain-data mapping read from a document.
+
+    Parameters
+    ----------
+    data : object
+        What the document holds where a ``what`` is expected.
+    known : sequence of str
+        Every field a ``what`` may have.
+    required : sequence of str
+        Fields that must be present.
+    what : str
+        Name of the thing, for messages ("roof face", "module").
+
+    Raises
+    ------
+    InputError
+        If ``data`` is not a mapping, has a field not in ``known`` (named, with the allowed
+        fields), or lacks a required field.
+    """
+    if not isinstance(data, dict):
+        raise InputError(what, "must be an object of named fields", value=type(data).__name__)
+    unknown = sorted(set(data) - set(known))
+    if unknown:
+        raise InputError(unknown[0], f"is not a {what} field", allowed=", ".join(known))
+    for key in required:
+        if key not in data:
+            raise InputError(key, "is missing")

@@ -32,7 +32,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import InputError, check_positive
+from .errors import InputError, check_fields, check_positive
 
 __all__ = [
     "MAX_EFFICIENCY",
@@ -245,14 +245,8 @@ class ModuleSpec:
     @classmethod
     def from_dict(cls, data: dict) -> ModuleSpec:
         """Inverse of :meth:`to_dict`; raises :class:`InputError` naming the bad field."""
-        if not isinstance(data, dict):
-            raise InputError("module", "must be a mapping of fields", value=type(data).__name__)
-        unknown = sorted(set(data) - set(_FIELDS))
-        if unknown:
-            raise InputError(unknown[0], "is not a module field", allowed=", ".join(_FIELDS))
-        for key in ("length_m", "width_m", "power_w", "cell_rows", "cell_columns"):
-            if key not in data:
-                raise InputError(key, "is missing")
+        check_fields(data, _FIELDS, what="module",
+                     required=("length_m", "width_m", "power_w", "cell_rows", "cell_columns"))
         return cls(**data)
 
 

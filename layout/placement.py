@@ -42,13 +42,14 @@ import numpy as np
 import pandas as pd
 import shapely
 
-from .errors import InputError, check_finite, check_range
+from .errors import InputError, check_fields, check_finite, check_range
 from .modules import ModuleSpec
 from .roof import RoofFace
 
 __all__ = [
     "FILL_ORIENTATIONS",
     "FIT_TOLERANCE_M",
+    "FLAT_FACE_MAX_PITCH_DEG",
     "ORIENTATIONS",
     "ROW_MODES",
     "AreaFill",
@@ -266,22 +267,16 @@ class PlacedModule:
         """Inverse of :meth:`to_dict`; raises :class:`InputError` naming the bad field."""
         known = ("id", "face", "row", "column", "orientation", "uv_rect", "corners_3d",
                  "tilt_deg", "azimuth_deg", "uv_corners")
-        _check_keys(data, known, required=known[:-1], what="placed module")
+        check_fields(data, known, required=known[:-1], what="placed module")
         return cls(**{k: data[k] for k in known if k in data})
 
 
-def _check_keys(data, known, *, required, what: str) -> None:
-    if not isinstance(data, dict):
-        raise InputError(what, "must be a mapping of fields", value=type(data).__name__)
-    unknown = sorted(set(data) - set(known))
-    if unknown:
-        raise InputError(unknown[0], f"is not a {what} field", allowed=", ".join(known))
-    for key in required:
-        if key not in data:
-            raise InputError(key, "is missing")
-
-
 # =========================================================================== options
+#: Faces at or below this pitch take rack rows when :attr:`FillOptions.rack_tilt_deg` is set
+#: [degrees]; membrane "flat" roofs drain at about 1/4 in 12 (1.2°), well below it.
+FLAT_FACE_MAX_PITCH_DEG = 5.0
+
+
 @dataclass(frozen=True)
 class FillOptions:
     """How to fill a face with modules.
@@ -302,6 +297,16 @@ class FillOptions:
     offset_steps : int, default 8
         Grid offsets tried per module pitch on each axis (1 tries only the grid anchored at
         the usable area's lower-left corner). Work grows with its square.
+    rack_tilt_deg : float or None, default None
+        Tilt of rack rows on flat faces (pitch up to :data:`FLAT_FACE_MAX_PITCH_DEG`)
+        [degrees], more than 0 and less than 90; None mounts modules flush on flat faces too.
+    rack_azimuth_deg : float, default 180
+        Direction the racked modules face, clockwise from north [degrees].
+    rack_gcr : float or None, default None
+        Ground coverage ratio of the rack rows (module slant length over row pitch), more
+        than 0 and at most 1; None spaces the rows by the no-shade window on the winter
+        solstice, 9:00 to 15:00 solar time (common practice; see
+        :func:`layout.racking.row_pitch_no_shade_window`).
     """
 
     orientation: str = "portrait"
@@ -309,6 +314,9 @@ class FillOptions:
     gap_up_slope_m: float = 0.02
     rows: str = "grid"
     offset_steps: int = 8
+    rack_tilt_deg: float | None = None
+    rack_azimuth_deg: float = 180.0
+    rack_gcr: float | None = None
 
     def __post_init__(self):
         if self.orientation not in FILL_ORIENTATIONS:
@@ -329,20 +337,30 @@ class FillOptions:
             raise InputError("offset_steps", "must be a whole number in range", value=steps,
                              allowed="1 to 32")
         set_(self, "offset_steps", int(steps))
+        if self.rack_tilt_deg is not None:
+            set_(self, "rack_tilt_deg", check_range("rack_tilt_deg", self.rack_tilt_deg, 0, 90,
+                                                    unit="degrees", low_open=True,
+                                                    high_open=True))
+        set_(self, "rack_azimuth_deg", check_range("rack_azimuth_deg", self.rack_azimuth_deg,
+                                                   0, 360, unit="degrees"))
+        if self.rack_gcr is not None:
+            set_(self, "rack_gcr", check_range("rack_gcr", self.rack_gcr, 0, 1, low_open=True))
 
     def to_dict(self) -> dict:
         """Plain-data form used by the project file."""
         return {
             "orientation": self.orientation, "gap_along_eave_m": self.gap_along_eave_m,
             "gap_up_slope_m": self.gap_up_slope_m, "rows": self.rows,
-            "offset_steps": self.offset_steps,
+            "offset_steps": self.offset_steps, "rack_tilt_deg": self.rack_tilt_deg,
+            "rack_azimuth_deg": self.rack_azimuth_deg, "rack_gcr": self.rack_gcr,
         }
 
     @classmethod
     def from_dict(cls, data: dict) -> FillOptions:
         """Inverse of :meth:`to_dict`; raises :class:`InputError` naming the bad field."""
-        known = ("orientation", "gap_along_eave_m", "gap_up_slope_m", "rows", "offset_steps")
-        _check_keys(data, known, required=(), what="fill option")
+        known = ("orientation", "gap_along_eave_m", "gap_up_slope_m", "rows", "offset_steps",
+                 "rack_tilt_deg", "rack_azimuth_deg", "rack_gcr")
+        check_fields(data, known, required=(), what="fill option")
         return cls(**data)
 
 
@@ -631,7 +649,7 @@ def _removal_entry(entry, index: int) -> tuple[str, float, float]:
     """Normalise a removal to (face, u, v); accepts a sequence or a mapping."""
     field_name = f"removed[{index}]"
     if isinstance(entry, dict):
-        _check_keys(entry, ("face", "u", "v"), required=("face", "u", "v"), what="removal")
+        check_fields(entry, ("face", "u", "v"), required=("face", "u", "v"), what="removal")
         entry = (entry["face"], entry["u"], entry["v"])
     try:
         face, u, v = entry
@@ -811,7 +829,7 @@ class Layout:
     @classmethod
     def from_dict(cls, data: dict) -> Layout:
         """Inverse of :meth:`to_dict`; raises :class:`InputError` naming the bad field."""
-        _check_keys(data, ("removed", "notes", "ridge_setback_m", "modules"), required=(),
+        check_fields(data, ("removed", "notes", "ridge_setback_m", "modules"), required=(),
                     what="layout")
         modules = []
         for i, entry in enumerate(data.get("modules", [])):
@@ -837,6 +855,47 @@ def _module_fits_somewhere(faces, module: ModuleSpec, options: FillOptions) -> b
                                    offset_steps=4)):
                 return True
     return False
+
+
+def _takes_racks(face: RoofFace, options: FillOptions) -> bool:
+    return options.rack_tilt_deg is not None and face.pitch_deg <= FLAT_FACE_MAX_PITCH_DEG
+
+
+def _rack_geometry(module: ModuleSpec, options: FillOptions, latitude: float | None):
+    """Return the rack orientation and row pitch [m] that ``options`` ask for."""
+    from .racking import row_pitch_from_gcr, row_pitch_no_shade_window
+
+    orientation = "landscape" if options.orientation == "landscape" else "portrait"
+    slant = module.length_m if orientation == "portrait" else module.width_m
+    if options.rack_gcr is not None:
+        return orientation, row_pitch_from_gcr(slant, options.rack_gcr)
+    if latitude is None:
+        raise InputError("latitude", "is needed to space rack rows by the solstice window",
+                         allowed="the site latitude in degrees, -90 to 90")
+    pitch = row_pitch_no_shade_window(slant, options.rack_tilt_deg, latitude,
+                                      rack_azimuth_deg=options.rack_azimuth_deg)
+    return orientation, pitch
+
+
+def _rack_notes(names, module, options, latitude) -> list[str]:
+    orientation, pitch = _rack_geometry(module, options, latitude)
+    rule = (f"GCR {options.rack_gcr:.2f}" if options.rack_gcr is not None else
+            "no row shade 9:00-15:00 solar time on the winter solstice (common practice)")
+    text = (f"{', '.join(names)}: racks tilted {options.rack_tilt_deg:g}° facing "
+            f"{options.rack_azimuth_deg:g}°, {orientation}, rows {pitch:.3f} m apart ({rule})")
+    if options.orientation == "mixed":
+        text += "; mixed orientation applies to flush faces only, racks are portrait"
+    return [text]
+
+
+def _fill_racked_face(face, usable, module, options, latitude):
+    from .racking import fill_racks  # racking builds on this module's PlacedModule
+
+    orientation, pitch = _rack_geometry(module, options, latitude)
+    return fill_racks(face, usable, module, tilt_deg=options.rack_tilt_deg,
+                      rack_azimuth_deg=options.rack_azimuth_deg, row_pitch_m=pitch,
+                      orientation=orientation, gap_m=options.gap_along_eave_m,
+                      rows=options.rows, offset_steps=options.offset_steps)
 
 
 def _plan_share(modules, spec: ModuleSpec, roof_plan_area_m2: float) -> float:
@@ -894,6 +953,10 @@ def _fill_building(building, module: ModuleSpec, rules, options: FillOptions | N
     removals = [_removal_entry(e, i) for i, e in enumerate(removed)]
     removals = [r for r in removals if r[0] in names]
 
+    racked = {face.name for face in faces if _takes_racks(face, options)}
+    if racked:
+        notes.extend(_rack_notes(sorted(racked), module, options, latitude))
+
     def run(share: float):
         areas, placed = {}, []
         for face in faces:
@@ -904,7 +967,10 @@ def _fill_building(building, module: ModuleSpec, rules, options: FillOptions | N
             except InputError as err:
                 raise err.at(f"faces[{face.name}]") from None
             areas[face.name] = area
-            placed.extend(fill_face(face, area, module, options))
+            if face.name in racked:
+                placed.extend(_fill_racked_face(face, area, module, options, latitude))
+            else:
+                placed.extend(fill_face(face, area, module, options))
         layout = Layout(modules=tuple(placed), removed=tuple(removals))
         return areas, layout
 
@@ -924,7 +990,8 @@ def _fill_building(building, module: ModuleSpec, rules, options: FillOptions | N
                 "kept so that the layout does not switch back and forth"
             )
         share = new_share
-    notes.insert(0, ridge_text)
+    if any("ridge" in face.edge_kinds for face in faces):
+        notes.insert(0, ridge_text)
     for face in faces:
         notes.extend(f'{face.name}: {n}' for n in areas[face.name].notes
                      if not n.startswith("ridge setback"))

@@ -26,7 +26,7 @@ from functools import cached_property
 import numpy as np
 import shapely
 
-from .errors import InputError, check_finite, check_points, check_range
+from .errors import InputError, check_fields, check_finite, check_points, check_range
 from .units import pitch_from_rise
 
 __all__ = [
@@ -347,17 +347,9 @@ class RoofFace:
     @classmethod
     def from_dict(cls, data: dict) -> RoofFace:
         """Inverse of :meth:`to_dict`; raises :class:`InputError` naming the bad field."""
-        if not isinstance(data, dict):
-            raise InputError("face", "must be an object with the fields of a roof face",
-                             value=type(data).__name__)
-        known = {"name", "outline", "pitch_deg", "azimuth_deg", "eave_height_m", "edge_overrides"}
-        unknown = sorted(set(data) - known)
-        if unknown:
-            raise InputError(unknown[0], "is not a roof face field",
-                             allowed=", ".join(sorted(known)))
-        for key in ("outline", "pitch_deg", "azimuth_deg"):
-            if key not in data:
-                raise InputError(key, "is missing")
+        known = ("name", "outline", "pitch_deg", "azimuth_deg", "eave_height_m", "edge_overrides")
+        check_fields(data, known, required=("outline", "pitch_deg", "azimuth_deg"),
+                     what="roof face")
         overrides = data.get("edge_overrides")
         return cls(
             outline=data["outline"], pitch_deg=data["pitch_deg"], azimuth_deg=data["azimuth_deg"],

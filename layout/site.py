@@ -7,7 +7,7 @@ import re
 import zoneinfo
 from dataclasses import dataclass
 
-from .errors import InputError, check_range
+from .errors import InputError, check_fields, check_range
 
 __all__ = ["Site", "parse_timezone"]
 
@@ -103,13 +103,6 @@ class Site:
     @classmethod
     def from_dict(cls, data: dict) -> Site:
         """Inverse of :meth:`to_dict`; raises :class:`InputError` naming the bad field."""
-        if not isinstance(data, dict):
-            raise InputError("site", "must be an object with latitude, longitude and timezone")
         known = ("latitude", "longitude", "timezone", "altitude_m", "name")
-        for key in data:
-            if key not in known:
-                raise InputError(key, "is not a site field", allowed=", ".join(known))
-        for key in known[:3]:
-            if key not in data:
-                raise InputError(key, "is missing")
+        check_fields(data, known, required=known[:3], what="site")
         return cls(**data)

@@ -12,7 +12,7 @@ from hypothesis import strategies as st
 from layout.building import Building, flat_roof, gable_roof, hip_roof
 from layout.clearance import ClearanceRules, ifc_2021_residential, no_setbacks, usable_area
 from layout.errors import InputError
-from layout.modules import ModuleSpec, generic_60_cell
+from layout.modules import ModuleSpec, generic_60_cell, generic_72_cell
 from layout.placement import (
     FIT_TOLERANCE_M,
     FillOptions,
@@ -488,3 +488,35 @@ def test_free_faces_count_as_access_pathways():
     assert len([n for n in both.notes if "access pathway 36 in" in n]) == 2
     with pytest.raises(InputError, match="array_faces"):
         fill_building(house, spec, rules, latitude=40.0, array_faces=["garage"])
+
+
+def test_flat_faces_take_rack_rows_when_asked():
+    # Rows spaced by the no-shade window (common practice; REFERENCES.md worked formula) or a
+    # GCR; checked against layout.racking, which is itself checked against pvlib's
+    # shaded_fraction1d in tests/test_racking.py.
+    from layout.building import flat_roof
+    from layout.clearance import ifc_2021_commercial
+    from layout.racking import row_pitch_from_gcr, row_pitch_no_shade_window
+
+    roof = flat_roof(30.0, 20.0, 8.0, parapet_height_m=0.6, name="warehouse")
+    rules = ifc_2021_commercial(building_length_m=30.0, building_width_m=20.0)
+    spec = generic_72_cell(450.0)
+    flush = fill_building(roof, spec, rules, FillOptions(), latitude=40.0)
+    assert {m.tilt_deg for m in flush.modules} == {0.0}
+    assert not any("ridge setback" in n for n in flush.notes)  # a flat roof has no ridge
+
+    racked = fill_building(roof, spec, rules, FillOptions(rack_tilt_deg=10.0), latitude=40.0)
+    assert {m.tilt_deg for m in racked.modules} == {10.0}
+    pitch = row_pitch_no_shade_window(spec.length_m, 10.0, 40.0)
+    assert any(f"rows {pitch:.3f} m apart" in n for n in racked.notes)
+    fronts = sorted({round(min(c[1] for c in m.corners_3d), 6) for m in racked.modules})
+    assert np.allclose(np.diff(fronts), pitch)
+    assert racked.count < flush.count
+
+    dense = FillOptions(rack_tilt_deg=20.0, rack_gcr=0.5, orientation="landscape")
+    by_gcr = fill_building(roof, spec, rules, dense, latitude=40.0)
+    fronts = sorted({round(min(c[1] for c in m.corners_3d), 6) for m in by_gcr.modules})
+    assert np.allclose(np.diff(fronts), row_pitch_from_gcr(spec.width_m, 0.5))
+    assert FillOptions.from_dict(dense.to_dict()) == dense
+    with pytest.raises(InputError, match="rack_tilt_deg"):
+        FillOptions(rack_tilt_deg=90.0)
