@@ -1,0 +1,458 @@
+"""Irradiance on each module: pvlib's transposition per orientation, then shade per component.
+
+Steps
+-----
+1. **Transposition, once per orientation.** Modules are grouped by their (tilt, azimuth); for
+   each group :func:`pvlib.irradiance.get_total_irradiance` (Perez 1990 by default, with
+   ``diffuse_components=True``) splits the plane-of-array irradiance into beam
+   (``poa_direct``), circumsolar, isotropic and horizon-band sky diffuse, and
+   ground-reflected (``poa_ground_diffuse``) [W/m²]. The sun, the extraterrestrial DNI and the
+   airmass come from :class:`layout.weather.Weather`, computed there once per site.
+2. **Shade, per component** (``f`` is the beam shaded fraction of a cell, 0 to 1, tree
+   transmittance included; ``s`` is the module's sky-view ratio, 0 to 1):
+
+   ==================  =========================================================
+   component           shaded value
+   ==================  =========================================================
+   beam                ``poa_direct · (1 − f)``
+   circumsolar         ``poa_circumsolar · (1 − f)``: it comes from around the sun
+   isotropic sky       ``poa_isotropic · s``
+   horizon band        ``poa_horizon · s`` (rule: a band just above the horizon is
+                       hidden in the same share as the sky dome; Perez may make it
+                       negative, which the rule keeps)
+   ground-reflected    ``poa_ground_diffuse``, unchanged (rule: an obstruction that
+                       hides some ground reflects about as much itself)
+   ==================  =========================================================
+
+   The **sky-view ratio** ``s`` of a module is the isotropic sky diffuse its plane receives with
+   the obstructions present divided by what the same plane receives with none, i.e. divided by
+   the unobstructed view factor ``(1 + cos tilt) / 2``. An unobstructed module has ``s = 1``
+   whatever its tilt; ``s`` is not the raw view factor to the sky.
+3. **Incidence-angle losses** (IAM): beam and circumsolar by the IAM at the angle of incidence,
+   the isotropic, horizon and ground parts by Marion's (2017) integrated diffuse IAM of the same
+   model for the plane's tilt (:func:`pvlib.iam.marion_diffuse`). The default is the
+   ``"physical"`` model (Fresnel reflection and absorption in a 2 mm glass cover, n = 1.526;
+   De Soto et al. 2006): it has physical parameters and no fitted coefficient, and is accurate
+   up to grazing angles, where ``"ashrae"`` (b = 0.05) goes to zero too early (at 87.1°).
+   ``iam_model=None`` skips IAM: the effective irradiance then equals the plane-of-array
+   irradiance.
+4. **Cell temperature** from the Sandia array performance model
+   (:func:`pvlib.temperature.sapm_cell`, King et al. 2004) with the module-mean shaded
+   plane-of-array irradiance. The default mount ``"close_mount_glass_glass"`` is the SAPM
+   configuration measured on a close roof mount: the nearest of pvlib's sets to a flush array
+   on standoffs, which sits a few kelvin hotter than an open rack because its back is barely
+   ventilated. Tilted racks on flat roofs suit ``"open_rack_glass_polymer"``.
+
+Per-cell shade and substrings
+-----------------------------
+``beam_shaded`` is an array (T, M, K): K columns per module, either cells (give
+``cell_substring``, the substring of each cell) or substrings. The module-mean beam shaded
+fraction is the mean over the K columns (cells and substrings have equal areas). A substring's
+current is set by its most shaded cell, so a substring's irradiance uses the **largest** cell
+fraction within it. Per-substring input that is already a mean over the substring's points
+gives an optimistic substring irradiance.
+
+References
+----------
+.. [1] R. Perez, P. Ineichen, R. Seals, J. Michalsky and R. Stewart, "Modeling daylight
+   availability and irradiance components from direct and global irradiance", Solar Energy
+   44(5):271-289, 1990.
+.. [2] B. Marion, "Numerical method for angle-of-incidence correction factors for diffuse
+   radiation incident photovoltaic modules", Solar Energy 147:344-348, 2017.
+.. [3] W. De Soto, S. Klein and W. Beckman, "Improvement and validation of a model for
+   photovoltaic array performance", Solar Energy 80(1):78-88, 2006.
+.. [4] D. King, W. Boyson and J. Kratochvil, "Photovoltaic Array Performance Model",
+   SAND2004-3535, Sandia National Laboratories, 2004.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+import pvlib
+
+from .errors import InputError, check_range
+from .weather import Weather
+
+__all__ = [
+    "IAM_MODELS",
+    "MOUNTS",
+    "SKY_MODELS",
+    "ModuleIrradiance",
+    "iam_factors",
+    "module_irradiance",
+    "orientation_groups",
+    "plane_of_array",
+    "substring_shade",
+]
+
+#: Sky diffuse models offered, each splitting into the components shaded above.
+SKY_MODELS = ("perez", "haydavies", "isotropic")
+
+#: Incidence-angle models offered (None skips IAM).
+IAM_MODELS = ("physical", "ashrae")
+
+#: Mounts offered for the cell temperature: pvlib's SAPM parameter sets.
+MOUNTS = tuple(pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS["sapm"])
+
+#: Component columns of :func:`plane_of_array`.
+COMPONENTS = ("poa_direct", "poa_circumsolar", "poa_isotropic", "poa_horizon",
+              "poa_ground_diffuse")
+
+#: Orientations closer than this are one group [degrees].
+ORIENTATION_DECIMALS = 6
+
+
+# --------------------------------------------------------------------------- transposition
+def _check_model(model: str) -> str:
+    if model not in SKY_MODELS:
+        raise InputError("model", "unknown sky diffuse model", value=model,
+                         allowed=", ".join(SKY_MODELS))
+    return model
+
+
+def plane_of_array(weather: Weather, surface_tilt: float, surface_azimuth: float, *,
+                   model: str = "perez") -> pd.DataFrame:
+    """Return the unshaded plane-of-array components of one orientation, from pvlib.
+
+    Parameters
+    ----------
+    weather : layout.weather.Weather
+        Irradiance, albedo and the sun (computed once per site).
+    surface_tilt : float
+        Tilt of the plane from horizontal [degrees], 0 to 90.
+    surface_azimuth : float
+        Direction the plane faces, clockwise from north [degrees].
+    model : {"perez", "haydavies", "isotropic"}, keyword-only, default "perez"
+        Sky diffuse model of :func:`pvlib.irradiance.get_total_irradiance`.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Indexed by the weather's sun times: pvlib's ``poa_global``, ``poa_direct``,
+        ``poa_sky_diffuse``, ``poa_ground_diffuse``, and ``poa_isotropic``,
+        ``poa_circumsolar``, ``poa_horizon`` (zero where the model has no such part) [W/m²],
+        and ``aoi`` [degrees].
+    """
+    if not isinstance(weather, Weather):
+        raise InputError("weather", "must be a layout.weather.Weather",
+                         value=type(weather).__name__)
+    tilt = _check_angle("surface_tilt", surface_tilt, 0.0, 90.0)
+    azimuth = _check_angle("surface_azimuth", surface_azimuth, 0.0, 360.0)
+    model = _check_model(model)
+    sun, data = weather.solar_position, weather.data
+    kwargs = {}
+    if model in ("perez", "haydavies"):
+        kwargs["dni_extra"] = sun["dni_extra"]
+    if model == "perez":
+        kwargs["airmass"] = sun["airmass_relative"]
+    result = pvlib.irradiance.get_total_irradiance(
+        tilt, azimuth, sun["apparent_zenith"], sun["azimuth"], data["dni"], data["ghi"],
+        data["dhi"], albedo=data["albedo"], model=model, diffuse_components=True, **kwargs)
+    frame = pd.DataFrame(result, index=data.index)
+    for column in ("poa_isotropic", "poa_circumsolar", "poa_horizon"):
+        if column not in frame:
+            frame[column] = 0.0
+    # the Perez model is undefined with the sun down (airmass NaN): no sky there
+    frame = frame.fillna(0.0)
+    frame["aoi"] = pvlib.irradiance.aoi(tilt, azimuth, sun["apparent_zenith"], sun["azimuth"])
+    return frame
+
+
+def _check_angle(field: str, value, low: float, high: float) -> float:
+    return check_range(field, value, low, high, unit="degrees")
+
+
+def iam_factors(aoi, surface_tilt: float, *, iam_model: str | None = "physical") -> dict:
+    """Return the incidence-angle modifiers of each component for one plane.
+
+    Parameters
+    ----------
+    aoi : numeric
+        Angle of incidence of the beam [degrees].
+    surface_tilt : float
+        Tilt of the plane [degrees], for the integrated diffuse modifiers.
+    iam_model : {"physical", "ashrae"} or None, keyword-only, default "physical"
+        Model from :mod:`pvlib.iam`, with pvlib's default parameters; None gives 1 everywhere.
+
+    Returns
+    -------
+    dict
+        ``beam`` (numeric, like ``aoi``; used for beam and circumsolar), ``sky``, ``horizon``,
+        ``ground`` (floats, :func:`pvlib.iam.marion_diffuse`) [fraction].
+    """
+    if iam_model is None:
+        return {"beam": np.ones_like(np.asarray(aoi, dtype=float)), "sky": 1.0,
+                "horizon": 1.0, "ground": 1.0}
+    if iam_model not in IAM_MODELS:
+        raise InputError("iam_model", "unknown incidence-angle model", value=iam_model,
+                         allowed=", ".join(IAM_MODELS) + " or None")
+    function = getattr(pvlib.iam, iam_model)
+    beam = np.nan_to_num(np.asarray(function(np.asarray(aoi, dtype=float)), dtype=float))
+    diffuse = pvlib.iam.marion_diffuse(iam_model, surface_tilt)
+    return {"beam": beam, "sky": float(diffuse["sky"]), "horizon": float(diffuse["horizon"]),
+            "ground": float(diffuse["ground"])}
+
+
+def orientation_groups(surface_tilt, surface_azimuth) -> tuple[np.ndarray, np.ndarray]:
+    """Group modules by orientation so that each orientation is transposed once.
+
+    Parameters
+    ----------
+    surface_tilt, surface_azimuth : array_like, shape (M,)
+        Tilt and azimuth of each module [degrees].
+
+    Returns
+    -------
+    orientations : numpy.ndarray, shape (O, 2)
+        Distinct (tilt, azimuth) pairs [degrees], rounded to 1e-6°.
+    group : numpy.ndarray of int, shape (M,)
+        Row of ``orientations`` of each module.
+    """
+    tilt = np.atleast_1d(np.asarray(surface_tilt, dtype=float))
+    azimuth = np.atleast_1d(np.asarray(surface_azimuth, dtype=float))
+    if tilt.shape != azimuth.shape or tilt.ndim != 1:
+        raise InputError("surface_azimuth", "needs one azimuth per module",
+                         value=azimuth.shape, allowed=f"shape {tilt.shape}")
+    pairs = np.round(np.column_stack([tilt, azimuth % 360.0]), ORIENTATION_DECIMALS)
+    orientations, group = np.unique(pairs, axis=0, return_inverse=True)
+    return orientations, group.reshape(-1)
+
+
+# --------------------------------------------------------------------------- shade inputs
+def _expand_steps(array: np.ndarray, weather: Weather, field: str) -> np.ndarray:
+    """Accept values over all steps or over the sun-up steps only (zero at night)."""
+    n_all = len(weather.data)
+    up = weather.solar_position["sun_up"].to_numpy()
+    if array.shape[0] == n_all:
+        return array
+    if array.shape[0] == int(up.sum()):
+        out = np.zeros((n_all, *array.shape[1:]), dtype=array.dtype)
+        out[up] = array
+        return out
+    raise InputError(field, "has the wrong number of time steps", value=array.shape[0],
+                     allowed=f"{n_all} (every step) or {int(up.sum())} (sun-up steps)")
+
+
+def substring_shade(beam_shaded, *, cell_substring=None, n_substrings: int | None = None,
+                    chunk: int = 32) -> tuple[np.ndarray, np.ndarray]:
+    """Reduce per-cell beam shaded fractions to the module mean and each substring's worst cell.
+
+    Parameters
+    ----------
+    beam_shaded : array_like, shape (T, M, K)
+        Beam shaded fraction of each of K cells (or substrings) of each module [fraction].
+    cell_substring : array_like of int, shape (K,), keyword-only, optional
+        Substring of each column; default: the columns are the substrings.
+    n_substrings : int, keyword-only, optional
+        Number of substrings; default ``cell_substring.max() + 1``.
+    chunk : int, keyword-only, default 32
+        Modules handled at once, to bound temporary memory.
+
+    Returns
+    -------
+    mean : numpy.ndarray, shape (T, M)
+        Module-mean beam shaded fraction.
+    worst : numpy.ndarray of float32, shape (T, M, S)
+        Largest cell fraction in each substring (single precision: it is the largest array).
+    """
+    f = np.asarray(beam_shaded)
+    if f.ndim != 3:
+        raise InputError("beam_shaded", "must be an array (time, module, cell)",
+                         value=f.shape, allowed="3 dimensions")
+    k = f.shape[2]
+    if cell_substring is None:
+        labels = np.arange(k)
+    else:
+        labels = np.asarray(cell_substring)
+        if labels.shape != (k,) or not np.issubdtype(labels.dtype, np.integer) \
+                or (k and labels.min() < 0):
+            raise InputError("cell_substring", "needs one substring number (from 0) per cell",
+                             value=labels.shape, allowed=f"{k} whole numbers >= 0")
+    s = int(n_substrings) if n_substrings is not None else int(labels.max()) + 1
+    if k and labels.max() >= s:
+        raise InputError("cell_substring", "names a substring beyond n_substrings",
+                         value=int(labels.max()), allowed=f"0 to {s - 1}")
+    counts = np.bincount(labels, minlength=s)
+    if (counts == 0).any():
+        raise InputError("cell_substring", "leaves a substring without cells",
+                         value=int(np.flatnonzero(counts == 0)[0]))
+    order = np.argsort(labels, kind="stable")
+    starts = np.concatenate([[0], np.cumsum(counts)[:-1]])
+    t, m = f.shape[:2]
+    mean = np.empty((t, m))
+    worst = np.empty((t, m, s), dtype=np.float32)
+    for lo in range(0, m, chunk):
+        part = np.asarray(f[:, lo:lo + chunk], dtype=float)
+        mean[:, lo:lo + chunk] = part.mean(axis=2)
+        worst[:, lo:lo + chunk] = np.maximum.reduceat(part[:, :, order], starts, axis=2)
+    if np.nanmin(f) < 0 or np.nanmax(f) > 1 or not np.isfinite(mean).all():
+        raise InputError("beam_shaded", "must be fractions from 0 to 1", allowed="0 to 1")
+    return mean, worst
+
+
+# --------------------------------------------------------------------------- result
+@dataclass(frozen=True, eq=False)
+class ModuleIrradiance:
+    """Irradiance and cell temperature of each module at each step. Computed, never saved.
+
+    Attributes
+    ----------
+    times : pandas.DatetimeIndex
+        Sun times of the weather, T steps.
+    poa_global, poa_global_unshaded : numpy.ndarray, shape (T, M)
+        Module-mean plane-of-array irradiance before incidence-angle losses, with and without
+        shade [W/m²]. Unshaded, it equals pvlib's ``poa_global`` for the module's plane.
+    effective, effective_unshaded : numpy.ndarray, shape (T, M)
+        Module-mean irradiance reaching the cells (after IAM), with and without shade [W/m²].
+    substring_effective : numpy.ndarray of float32, shape (T, M, S)
+        Irradiance reaching the most shaded cell of each substring (after IAM) [W/m²]; single
+        precision, as the largest array of the evaluation.
+    temp_cell, temp_cell_unshaded : numpy.ndarray, shape (T, M)
+        Cell temperature from the shaded and the unshaded irradiance [°C].
+    orientations : numpy.ndarray, shape (O, 2)
+        Distinct (tilt, azimuth) planes transposed [degrees].
+    group : numpy.ndarray of int, shape (M,)
+        Plane of each module.
+    settings : dict
+        Sky model, IAM model and mount used.
+    """
+
+    times: pd.DatetimeIndex
+    poa_global: np.ndarray
+    poa_global_unshaded: np.ndarray
+    effective: np.ndarray
+    effective_unshaded: np.ndarray
+    substring_effective: np.ndarray
+    temp_cell: np.ndarray
+    temp_cell_unshaded: np.ndarray
+    orientations: np.ndarray
+    group: np.ndarray
+    settings: dict
+
+
+def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_shaded=None,
+                      cell_substring=None, n_substrings: int | None = None, sky_view=None,
+                      model: str = "perez", iam_model: str | None = "physical",
+                      mount: str = "close_mount_glass_glass") -> ModuleIrradiance:
+    """Compute each module's irradiance with shade applied per component, and its temperature.
+
+    Parameters
+    ----------
+    weather : layout.weather.Weather
+        Weather and sun of the site.
+    surface_tilt, surface_azimuth : array_like, shape (M,)
+        Plane of each module [degrees] (e.g. :attr:`PlacedModule.tilt_deg`, ``azimuth_deg``).
+    beam_shaded : array_like, shape (T, M, K), keyword-only, optional
+        Beam shaded fraction per cell (or per substring) [fraction]; T is every step of the
+        weather or only its sun-up steps (``weather.solar_position["sun_up"]``, the same steps
+        as :func:`layout.sun.sun_above_horizon`). Default: no beam shade, one cell per
+        substring.
+    cell_substring : array_like of int, shape (K,), keyword-only, optional
+        Substring of each of the K columns (e.g. ``ModuleSpec.substring_of_cell``); default:
+        the columns are substrings.
+    n_substrings : int, keyword-only, optional
+        Number of substrings (``ModuleSpec.bypass_diodes``); default from ``cell_substring``,
+        or 3 without ``beam_shaded``.
+    sky_view : array_like, shape (M,), keyword-only, optional
+        Sky-view ratio of each module (isotropic sky diffuse with obstructions over without, 0
+        to 1, see the module docstring); default 1.
+    model : {"perez", "haydavies", "isotropic"}, keyword-only, default "perez"
+        Sky diffuse model.
+    iam_model : {"physical", "ashrae"} or None, keyword-only, default "physical"
+        Incidence-angle model; None skips incidence-angle losses.
+    mount : str, keyword-only, default "close_mount_glass_glass"
+        SAPM temperature parameter set, one of :data:`MOUNTS`.
+
+    Returns
+    -------
+    ModuleIrradiance
+    """
+    if not isinstance(weather, Weather):
+        raise InputError("weather", "must be a layout.weather.Weather",
+                         value=type(weather).__name__)
+    model = _check_model(model)
+    if mount not in MOUNTS:
+        raise InputError("mount", "unknown mount for the cell temperature", value=mount,
+                         allowed=", ".join(MOUNTS))
+    orientations, group = orientation_groups(surface_tilt, surface_azimuth)
+    n_steps, n_modules = len(weather.data), len(group)
+
+    if beam_shaded is None:
+        s = 3 if n_substrings is None else int(n_substrings)
+        mean_f = np.zeros((n_steps, n_modules))
+        worst_f = np.zeros((n_steps, n_modules, s), dtype=np.float32)
+    else:
+        f = np.asarray(beam_shaded)
+        if f.ndim != 3 or f.shape[1] != n_modules:
+            raise InputError("beam_shaded", "must be an array (time, module, cell)",
+                             value=f.shape, allowed=f"(T, {n_modules}, K)")
+        mean_f, worst_f = substring_shade(f, cell_substring=cell_substring,
+                                          n_substrings=n_substrings)
+        mean_f = _expand_steps(mean_f, weather, "beam_shaded")
+        worst_f = _expand_steps(worst_f, weather, "beam_shaded")
+    if sky_view is None:
+        svf = np.ones(n_modules)
+    else:
+        svf = np.asarray(sky_view, dtype=float).reshape(-1)
+        if svf.shape != (n_modules,) or not np.isfinite(svf).all() \
+                or (svf < 0).any() or (svf > 1 + 1e-9).any():
+            raise InputError("sky_view", "needs one ratio from 0 to 1 per module",
+                             value=svf.shape if svf.shape != (n_modules,) else None,
+                             allowed=f"{n_modules} values from 0 to 1")
+        svf = np.minimum(svf, 1.0)
+
+    # per plane (T, O): transposition and IAM once per orientation
+    n_planes = len(orientations)
+    parts = {name: np.empty((n_steps, n_planes)) for name in
+             ("beam", "beam_eff", "sky", "sky_eff", "ground", "ground_eff", "poa_global")}
+    for o, (tilt, azimuth) in enumerate(orientations):
+        frame = plane_of_array(weather, tilt, azimuth, model=model)
+        iam = iam_factors(frame["aoi"].to_numpy(), tilt, iam_model=iam_model)
+        beam = frame["poa_direct"].to_numpy() + frame["poa_circumsolar"].to_numpy()
+        iso = frame["poa_isotropic"].to_numpy()
+        hor = frame["poa_horizon"].to_numpy()
+        ground = frame["poa_ground_diffuse"].to_numpy()
+        parts["beam"][:, o] = beam
+        parts["beam_eff"][:, o] = beam * iam["beam"]
+        # isotropic and horizon band share one rule: both scale with the sky-view ratio
+        parts["sky"][:, o] = iso + hor
+        parts["sky_eff"][:, o] = iso * iam["sky"] + hor * iam["horizon"]
+        parts["ground"][:, o] = ground
+        parts["ground_eff"][:, o] = ground * iam["ground"]
+        parts["poa_global"][:, o] = frame["poa_global"].to_numpy()
+    # per module (T, M): gather the module's plane, then shade
+    beam = parts["beam"][:, group]
+    beam_eff = parts["beam_eff"][:, group]
+    sky = parts["sky"][:, group]
+    sky_eff = parts["sky_eff"][:, group]
+    ground = parts["ground"][:, group]
+    ground_eff = parts["ground_eff"][:, group]
+    poa_un = parts["poa_global"][:, group]
+    lit = 1.0 - mean_f
+    poa = beam * lit
+    poa += sky * svf
+    poa += ground
+    eff_un = beam_eff + sky_eff
+    eff_un += ground_eff
+    diffuse_eff = sky_eff * svf
+    diffuse_eff += ground_eff
+    eff = beam_eff * lit
+    eff += diffuse_eff
+    # substrings, in place in the (T, M, S) buffer, which is ours
+    sub = np.subtract(1.0, worst_f, out=worst_f)
+    sub *= beam_eff[:, :, None].astype(np.float32)
+    sub += diffuse_eff[:, :, None].astype(np.float32)
+    params = pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS["sapm"][mount]
+    temp_air = weather.data["temp_air"].to_numpy()[:, None]
+    wind = weather.data["wind_speed"].to_numpy()[:, None]
+    temp = pvlib.temperature.sapm_cell(poa, temp_air, wind, **params)
+    temp_un = pvlib.temperature.sapm_cell(poa_un, temp_air, wind, **params)
+    settings = {"model": model, "iam_model": iam_model, "mount": mount}
+    return ModuleIrradiance(
+        times=weather.times, poa_global=poa, poa_global_unshaded=poa_un, effective=eff,
+        effective_unshaded=eff_un, substring_effective=sub, temp_cell=np.asarray(temp),
+        temp_cell_unshaded=np.asarray(temp_un), orientations=orientations, group=group,
+        settings=settings)
