@@ -15,6 +15,18 @@ if [ "${1:-}" = "--test" ]; then
   extras="[test]"
 fi
 
+if [ -n "$extras" ] && ! command -v chromium >/dev/null 2>&1; then
+  # Browser tests drive Debian's Chromium through Playwright; Playwright's own browser
+  # download does not work on these machines.
+  sudo=""
+  if [ "$(id -u)" -ne 0 ] && command -v sudo >/dev/null 2>&1; then sudo="sudo"; fi
+  echo "setup: installing Debian's chromium for the browser tests (about a minute)"
+  if ! { $sudo apt-get update -qq && DEBIAN_FRONTEND=noninteractive \
+         $sudo apt-get install -y -qq chromium >/dev/null; }; then
+    echo "setup: could not install chromium; browser tests skip outside CI and fail in CI" >&2
+  fi
+fi
+
 log=$(mktemp)
 quiet_pip() {
   if ! .venv/bin/python -m pip --disable-pip-version-check "$@" >"$log" 2>&1; then
@@ -25,6 +37,11 @@ quiet_pip() {
 }
 quiet_pip install --quiet --upgrade pip
 quiet_pip install --quiet -e ".${extras}"
+# jsonschema's optional rfc3987-syntax builds dozens of parsers at import and triples Voila's
+# start-up time; no Jupyter schema uses the "iri" formats it checks, so it goes.
+if .venv/bin/python -m pip show --quiet rfc3987-syntax >/dev/null 2>&1; then
+  quiet_pip uninstall --quiet --yes rfc3987-syntax
+fi
 rm -f "$log"
 .venv/bin/python -c "import layout" # fail here, not in the first test, if the install broke
 echo "setup: eaveline installed in .venv${extras:+ with test tools}"

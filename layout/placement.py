@@ -59,6 +59,7 @@ __all__ = [
     "compare_orientations",
     "fill_area",
     "fill_building",
+    "fill_building_with_areas",
     "fill_face",
     "module_footprint",
     "pack_rectangles",
@@ -919,11 +920,20 @@ def _array_faces(building, array_faces) -> tuple:
     return tuple(face for face in building.faces if face.name in wanted)
 
 
-def _fill_building(building, module: ModuleSpec, rules, options: FillOptions | None = None, *,
-                   obstructions: Iterable = (), removed: Iterable = (),
-                   pathway_faces: dict | None = None, latitude: float | None = None,
-                   array_faces: Iterable[str] | None = None):
-    """Fill the array faces of a building; returns the layout and each face's usable area."""
+def fill_building_with_areas(building, module: ModuleSpec, rules,
+                             options: FillOptions | None = None, *,
+                             obstructions: Iterable = (), removed: Iterable = (),
+                             pathway_faces: dict | None = None, latitude: float | None = None,
+                             array_faces: Iterable[str] | None = None):
+    """Fill a building as :func:`fill_building` does, and return each face's usable area too.
+
+    Returns
+    -------
+    layout : Layout
+        As :func:`fill_building` returns it.
+    areas : dict of str to layout.clearance.UsableArea
+        Usable area, zones and notes of each array face, as the fill used them (for drawing).
+    """
     from .clearance import choose_pathway_faces, ridge_setback_in_force, usable_area
 
     options = options or FillOptions()
@@ -1074,7 +1084,7 @@ def fill_building(building, module: ModuleSpec, rules, options: FillOptions | No
     InputError
         If the module does not fit on any face even without setbacks.
     """
-    return _fill_building(building, module, rules, options, obstructions=obstructions,
+    return fill_building_with_areas(building, module, rules, options, obstructions=obstructions,
                           removed=removed, pathway_faces=pathway_faces, latitude=latitude,
                           array_faces=array_faces)[0]
 
@@ -1128,7 +1138,7 @@ def compare_orientations(target, module: ModuleSpec, *, usable=None, rules=None,
                 placed = fill_face(target, usable, module, opts)
                 area = float(_as_geometry(usable).area)
             else:
-                layout, areas = _fill_building(
+                layout, areas = fill_building_with_areas(
                     target, module, rules, opts, obstructions=obstructions,
                     pathway_faces=pathway_faces, latitude=latitude, array_faces=array_faces)
                 placed = layout.modules

@@ -19,11 +19,11 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from .building import Building
-from .clearance import ClearanceRules
+from .clearance import ClearanceRules, UsableArea
 from .errors import InputError
 from .modules import ModuleSpec
 from .obstructions import obstruction_from_dict
-from .placement import FillOptions, Layout, fill_building
+from .placement import FillOptions, Layout, fill_building_with_areas
 from .roof import RoofFace
 from .site import Site
 
@@ -145,9 +145,21 @@ class Project:
 
     def layout(self) -> Layout:
         """Fill the array faces with modules under the project's rules and removals."""
-        modules, removed, notes = [], [], []
+        return self.fill_with_areas()[0]
+
+    def fill_with_areas(self) -> tuple[Layout, dict[str, UsableArea]]:
+        """Fill the array faces, and return the usable area of each array face as well.
+
+        Returns
+        -------
+        layout : Layout
+            Modules of every building, the removals still in force and the fill's notes.
+        areas : dict of str to layout.clearance.UsableArea
+            Usable area, zones and notes of each array face, keyed by face name.
+        """
+        modules, removed, notes, areas = [], [], [], {}
         for building in self.buildings:
-            result = fill_building(
+            result, building_areas = fill_building_with_areas(
                 building, self.module, self.clearance, self.fill,
                 obstructions=self.obstructions, removed=self.removed,
                 pathway_faces=self.pathways, latitude=self.site.latitude,
@@ -156,7 +168,9 @@ class Project:
             modules.extend(result.modules)
             removed.extend(result.removed)
             notes.extend(result.notes)
-        return Layout(modules=tuple(modules), removed=tuple(removed), notes=tuple(notes))
+            areas.update(building_areas)
+        layout = Layout(modules=tuple(modules), removed=tuple(removed), notes=tuple(notes))
+        return layout, areas
 
 
 def _cross_check(project: Project) -> list[tuple[str, str]]:

@@ -20,7 +20,7 @@ def test_readme_has_exactly_two_commands():
     commands = readme_commands()
     assert len(commands) == 2
     assert all("\n" not in command for command in commands)
-    assert "layout" in commands[0] and "--demo" in commands[0]
+    assert commands[0].endswith("python -m widgets")  # the planner on the demo project
     assert "pytest" in commands[1]
 
 

@@ -1,5 +1,12 @@
 """eaveline's Jupyter front end (ipywidgets 8 and bqplot).
 
-The widgets observe a project and the core's analysis and render them; they never compute
-physics. The planner arrives with the front-end work; until then this package is empty.
+The widgets observe a project and the core's results and render them; they never compute
+physics. :class:`Planner` is the composite planner (plan, side panel, files, cautions);
+``python -m widgets`` serves it as a web app with Voila.
 """
+
+from .forms import ObstructionForm
+from .plan_view import PlanView
+from .planner import Planner
+
+__all__ = ["ObstructionForm", "PlanView", "Planner"]

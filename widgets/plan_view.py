@@ -1,0 +1,534 @@
+"""The plan: roof faces, zones, usable area, modules and obstructions, seen from above.
+
+Everything is drawn in the site frame (x east, y north) at true scale with equal axes, in
+metres or in feet as the project asks. The view only draws what the core computed
+(:meth:`layout.project.Project.layout` and the usable areas of :mod:`layout.clearance`) and
+reports two gestures back to its owner: an obstruction marker dropped at a new place, and a
+click on a module. It never changes the project itself.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import bqplot as bq
+import ipywidgets as w
+import numpy as np
+import shapely
+
+from layout.units import FOOT_M
+
+from . import style
+
+__all__ = [
+    "PlanScene",
+    "PlanView",
+    "obstruction_anchor",
+    "obstruction_label",
+    "plan_scene",
+    "unit_factor",
+]
+
+#: Fixed size of the plan figure [px]; a fixed size keeps the axes equal on screen.
+FIGURE_WIDTH_PX = 640
+FIGURE_HEIGHT_PX = 560
+FIGURE_MARGIN_PX = {"top": 16, "bottom": 48, "left": 64, "right": 16}
+#: Clear border around the drawing [m].
+BORDER_M = 1.0
+
+
+def unit_factor(units: str) -> float:
+    """Return display units per metre: 1 for ``"metric"``, 1 / 0.3048 for ``"imperial"``."""
+    return 1.0 / FOOT_M if units == "imperial" else 1.0
+
+
+def obstruction_anchor(obstruction) -> tuple[float, float]:
+    """Plan point [m] where an obstruction's drag marker sits.
+
+    The centre of a cylinder or a tree, the centroid of any other footprint.
+    """
+    centre = getattr(obstruction, "center", None)
+    if centre is not None:
+        return float(centre[0]), float(centre[1])
+    point = obstruction.footprint_polygon.centroid
+    return float(point.x), float(point.y)
+
+
+def obstruction_label(obstruction, index: int) -> str:
+    """Short label of an obstruction: its name, or its kind and number."""
+    name = getattr(obstruction, "name", "")
+    if name:
+        return name
+    kind = getattr(obstruction, "kind", type(obstruction).__name__.lower())
+    return f"{kind} {index}"
+
+
+def _is_drawn(obstruction) -> bool:
+    """Obstructions with a plan footprint that can be moved (not a far horizon)."""
+    return hasattr(obstruction, "footprint_polygon") and hasattr(obstruction, "translated")
+
+
+@dataclass(frozen=True)
+class PlanScene:
+    """What the plan shows, as plain data in the site frame [m].
+
+    Attributes
+    ----------
+    faces : tuple of (str, numpy.ndarray)
+        Face name and plan outline (n, 2) [m].
+    edges : tuple of (str, int, str, numpy.ndarray)
+        Face name, edge index, edge kind and the two end points (2, 2) [m].
+    zones : tuple of (str, str, str, shapely geometry)
+        Face name, zone key (as :attr:`layout.clearance.UsableArea.zones`), zone category
+        (setback, pathway, clearance, obstruction) and the zone in plan [m].
+    usable : tuple of (str, shapely geometry)
+        Face name and usable area in plan [m].
+    modules : tuple of (str, numpy.ndarray, bool)
+        Module id, plan corners (4, 2) [m] and whether it is active (not removed).
+    obstructions : tuple of (int, str, bool, shapely geometry, (float, float))
+        Index in the project, label, whether it is a tree, plan footprint [m] and marker
+        anchor [m].
+    """
+
+    faces: tuple
+    edges: tuple
+    zones: tuple
+    usable: tuple
+    modules: tuple
+    obstructions: tuple
+
+    def bounds(self) -> tuple[float, float, float, float]:
+        """``(xmin, ymin, xmax, ymax)`` of everything drawn [m]."""
+        geoms = [shapely.Polygon(ring) for _, ring in self.faces]
+        geoms += [footprint for _, _, _, footprint, _ in self.obstructions]
+        if not geoms:
+            return (0.0, 0.0, 10.0, 10.0)
+        return tuple(float(b) for b in shapely.total_bounds(geoms))
+
+
+def _zone_category(key: str) -> str:
+    if key.endswith("setback"):
+        return "setback"
+    if key.startswith("pathway"):
+        return "pathway"
+    if key.endswith("clearance"):
+        return "clearance"
+    return "obstruction"
+
+
+def plan_scene(project, layout, areas: dict) -> PlanScene:
+    """Collect the plan drawing of a project from the core's results.
+
+    Parameters
+    ----------
+    project : layout.project.Project
+        The project drawn.
+    layout : layout.placement.Layout
+        Its modules and removals, as the core filled them.
+    areas : dict of str to layout.clearance.UsableArea
+        Usable area of each array face, in roof-plane coordinates (mapped to plan here with
+        :meth:`layout.roof.RoofFace.roof_to_plan`).
+
+    Returns
+    -------
+    PlanScene
+    """
+    faces, edges, zones, usable = [], [], [], []
+    by_name = {}
+    for face in project.faces:
+        by_name[face.name] = face
+        faces.append((face.name, np.asarray(face.outline, dtype=float)))
+        for edge in face.edges:
+            edges.append((face.name, edge.index, edge.kind,
+                          np.array([edge.start, edge.end], dtype=float)))
+    for name, area in areas.items():
+        face = by_name[name]
+        usable.append((name, shapely.transform(area.polygon, face.roof_to_plan)))
+        for key, zone in area.zones.items():
+            zones.append((name, key, _zone_category(key),
+                          shapely.transform(zone, face.roof_to_plan)))
+    removed = {m.id for m in layout.removed_modules}
+    modules = tuple((m.id, np.asarray(m.corners_3d, dtype=float)[:, :2], m.id not in removed)
+                    for m in layout.modules)
+    obstructions = tuple(
+        (i, obstruction_label(o, i), type(o).__name__ == "Tree", o.footprint_polygon,
+         obstruction_anchor(o))
+        for i, o in enumerate(project.obstructions) if _is_drawn(o))
+    return PlanScene(faces=tuple(faces), edges=tuple(edges), zones=tuple(zones),
+                     usable=tuple(usable), modules=modules, obstructions=obstructions)
+
+
+# --------------------------------------------------------------------------- drawing helpers
+def _rings(geometry) -> list[np.ndarray]:
+    """Every ring (exteriors and holes) of a polygonal geometry, as (n, 2) arrays."""
+    out = []
+    for part in shapely.get_parts(geometry):
+        if isinstance(part, shapely.Polygon) and not part.is_empty:
+            out.append(np.asarray(part.exterior.coords))
+            out.extend(np.asarray(r.coords) for r in part.interiors)
+    return out
+
+
+def _exteriors(geometry) -> list[np.ndarray]:
+    return [np.asarray(p.exterior.coords) for p in shapely.get_parts(geometry)
+            if isinstance(p, shapely.Polygon) and not p.is_empty]
+
+
+def _padded(rings: list[np.ndarray], k: float) -> tuple[list, list]:
+    """Rings as equal-length x and y lists for one bqplot ``Lines`` mark (display units).
+
+    Shorter rings are padded by repeating their last point, which draws nothing extra.
+    """
+    if not rings:
+        return [], []
+    n = max(len(r) for r in rings)
+    xs, ys = [], []
+    for ring in rings:
+        pad = np.vstack([ring, np.repeat(ring[-1:], n - len(ring), axis=0)])
+        xs.append((pad[:, 0] * k).tolist())
+        ys.append((pad[:, 1] * k).tolist())
+    return xs, ys
+
+
+def _hatch(geometry, spacing: float) -> list[np.ndarray]:
+    """45° hatch segments clipped to a plan geometry [m]."""
+    if geometry.is_empty:
+        return []
+    x0, y0, x1, y1 = geometry.bounds
+    offsets = np.arange(math.floor((x0 - y1) / spacing), math.ceil((x1 - y0) / spacing) + 1)
+    c = offsets * spacing  # lines x - y = c
+    starts = np.stack([c + y0 - 1, np.full_like(c, y0 - 1)], axis=1)
+    ends = np.stack([c + y1 + 1, np.full_like(c, y1 + 1)], axis=1)
+    lines = shapely.linestrings(np.stack([starts, ends], axis=1))
+    clipped = shapely.intersection(lines, geometry)
+    out = []
+    for part in shapely.get_parts(clipped):
+        if isinstance(part, shapely.LineString) and not part.is_empty:
+            out.append(np.asarray(part.coords)[[0, -1]])
+    return out
+
+
+def _edge_label_rotation(start: np.ndarray, end: np.ndarray) -> float:
+    """Screen rotation [degrees] that lays a label along an edge, kept upright."""
+    angle = -math.degrees(math.atan2(end[1] - start[1], end[0] - start[0]))
+    if angle > 90:
+        angle -= 180
+    elif angle < -90:
+        angle += 180
+    return angle
+
+
+# --------------------------------------------------------------------------- the widget
+class PlanView(w.VBox):
+    """The plan figure with drag markers on obstructions and click targets on modules.
+
+    Parameters
+    ----------
+    width_px, height_px : int
+        Figure size [px].
+
+    Notes
+    -----
+    Gestures are reported through callbacks:
+
+    - :meth:`on_obstruction_moved` ``(index, x_m, y_m)``: obstruction ``index`` of the project
+      was dropped with its marker at plan point (x, y) [m];
+    - :meth:`on_module_clicked` ``(module_id)``: the user clicked a module.
+    """
+
+    def __init__(self, *, width_px: int = FIGURE_WIDTH_PX, height_px: int = FIGURE_HEIGHT_PX):
+        self.width_px, self.height_px = int(width_px), int(height_px)
+        self.units = "metric"
+        self._k = 1.0
+        self._scene: PlanScene | None = None
+        self._anchors = np.zeros((0, 2))  # marker positions drawn [display units]
+        self._obstruction_index: list[int] = []
+        self._module_ids: list[str] = []
+        self._quiet = False
+        self._moved: list[Callable] = []
+        self._clicked: list[Callable] = []
+        self.module_values = None
+        self.module_values_label = ""
+
+        self.x_scale = bq.LinearScale(min=0.0, max=10.0)
+        self.y_scale = bq.LinearScale(min=0.0, max=10.0)
+        xs, ys = self.x_scale, self.y_scale
+        scales = {"x": xs, "y": ys}
+        self.colour_scale = bq.ColorScale(colors=list(style.FIGURE_SCALE))
+
+        def lines(**kwargs):
+            return bq.Lines(x=[], y=[], scales=scales, **kwargs)
+
+        self.face_marks = lines(colors=[style.INK], stroke_width=1.6, close_path=True,
+                                fill="inside", fill_colors=["#fbfbf8"], fill_opacities=[1.0])
+        self.zone_fill_marks = lines(colors=["#bdbdbd"], stroke_width=0.6, close_path=True,
+                                     fill="inside", fill_colors=["#dcdcdc"],
+                                     fill_opacities=[0.55])
+        self.hatch_marks = lines(colors=["#9e9e9e"], stroke_width=0.6)
+        self.usable_marks = lines(colors=["#5f7d7b"], stroke_width=1.0, close_path=True,
+                                  line_style="dashed")
+        self.module_fill_marks = lines(colors=[style.MODULE_EDGE], stroke_width=1.0,
+                                       close_path=True, fill="inside",
+                                       fill_colors=[style.MODULE_FILL], fill_opacities=[1.0])
+        self.removed_marks = lines(colors=[style.REMOVED_EDGE], stroke_width=1.0,
+                                   close_path=True, line_style="dashed")
+        self.obstruction_marks = lines(colors=["#5b5b5b"], stroke_width=1.0, close_path=True,
+                                       fill="inside", fill_colors=["#8f8f8f"],
+                                       fill_opacities=[0.85])
+        self.tree_marks = lines(colors=[style.TREE_EDGE], stroke_width=1.2, close_path=True,
+                                fill="inside", fill_colors=[style.TREE_FILL],
+                                fill_opacities=[0.6], line_style="dash_dotted")
+        self.edge_labels = bq.Label(x=[], y=[], text=[], scales=scales, colors=[style.INK],
+                                    default_size=11, align="middle")
+        self.face_labels = bq.Label(x=[], y=[], text=[], scales=scales, colors=["#6a7473"],
+                                    default_size=12, align="middle", font_weight="bold")
+        self.module_targets = bq.Scatter(
+            x=[], y=[], scales=scales, marker="square", default_size=160,
+            colors=["#ffffff"], default_opacities=[0.01], stroke=None,
+            interactions={"click": "select", "hover": "tooltip"},
+            tooltip=bq.Tooltip(fields=["name"], labels=["module"]),
+            display_names=False, selected_style={}, unselected_style={},
+        )
+        self.obstruction_markers = bq.Scatter(
+            x=[], y=[], scales=scales, marker="circle", default_size=110,
+            colors=[style.INK], stroke="white", stroke_width=1.5, enable_move=True,
+            display_names=False, interactions={"hover": "tooltip"},
+            tooltip=bq.Tooltip(fields=["name"], labels=["drag"]),
+        )
+        self.x_axis = bq.Axis(scale=xs, label="x, east [m]", grid_color="#eeeeee",
+                              label_offset="36px")
+        self.y_axis = bq.Axis(scale=ys, label="y, north [m]", side="left",
+                              grid_color="#eeeeee", label_offset="44px")
+        self.colour_axis = bq.ColorAxis(scale=self.colour_scale, label="", side="right",
+                                        visible=False)
+        self._fills = {mark: (mark.fill_colors[0], mark.fill_opacities[0])
+                       for mark in (self.face_marks, self.zone_fill_marks,
+                                    self.module_fill_marks, self.obstruction_marks,
+                                    self.tree_marks)}
+        self.figure = bq.Figure(
+            marks=[self.face_marks, self.zone_fill_marks, self.hatch_marks, self.usable_marks,
+                   self.module_fill_marks, self.removed_marks, self.tree_marks,
+                   self.obstruction_marks, self.edge_labels, self.face_labels,
+                   self.module_targets, self.obstruction_markers],
+            axes=[self.x_axis, self.y_axis],
+            fig_margin=dict(FIGURE_MARGIN_PX), display_toolbar=False,
+            background_style={"fill": "white"}, padding_x=0.0, padding_y=0.0,
+            layout=w.Layout(width=f"{self.width_px}px", height=f"{self.height_px}px",
+                            flex="0 0 auto"),
+        )
+        self.figure.add_class("eaveline-plan")
+        self.pan_zoom = bq.PanZoom(scales={"x": [xs], "y": [ys]})
+        self.zoom_toggle = w.ToggleButton(value=False, description="Zoom and pan",
+                                          tooltip="Wheel to zoom, drag to pan; turn off to "
+                                                  "move obstructions again",
+                                          layout=w.Layout(width="auto"))
+        self.fit_button = w.Button(description="Fit", tooltip="Show the whole site",
+                                   layout=w.Layout(width="auto"))
+        self.zoom_toggle.observe(self._toggle_zoom, names="value")
+        self.fit_button.on_click(lambda _: self.fit())
+        self.hint = w.HTML(
+            "<span style='color:#5d6b6a;font-size:12px'>Drag a dark marker to move that "
+            "obstruction; click a module to take it out or put it back.</span>")
+        self.obstruction_markers.observe(self._marker_moved, names=["x", "y"])
+        self.module_targets.observe(self._module_selected, names=["selected"])
+        super().__init__([w.HBox([self.zoom_toggle, self.fit_button, self.hint],
+                                 layout=w.Layout(align_items="center")),
+                          self.figure])
+
+    # ----------------------------------------------------------------- callbacks
+    def on_obstruction_moved(self, callback: Callable) -> None:
+        """Call ``callback(index, x_m, y_m)`` when an obstruction marker is dropped."""
+        self._moved.append(callback)
+
+    def on_module_clicked(self, callback: Callable) -> None:
+        """Call ``callback(module_id)`` when a module is clicked."""
+        self._clicked.append(callback)
+
+    def _marker_moved(self, change) -> None:
+        if self._quiet:
+            return
+        x = np.asarray(self.obstruction_markers.x, dtype=float)
+        y = np.asarray(self.obstruction_markers.y, dtype=float)
+        if x.shape != y.shape or len(x) != len(self._anchors):
+            return
+        moved = np.flatnonzero(np.hypot(x - self._anchors[:, 0], y - self._anchors[:, 1])
+                               > 1e-9)
+        if not len(moved):
+            return
+        i = int(moved[0])
+        self._anchors[i] = (x[i], y[i])  # a second notification of the same drop is ignored
+        for callback in self._moved:
+            callback(self._obstruction_index[i], x[i] / self._k, y[i] / self._k)
+
+    def _module_selected(self, change) -> None:
+        if self._quiet:
+            return
+        selected = change["new"]
+        if selected is None or len(selected) == 0:
+            return
+        index = int(np.asarray(selected)[-1])
+        with self._silently():
+            self.module_targets.selected = None
+        if 0 <= index < len(self._module_ids):
+            for callback in self._clicked:
+                callback(self._module_ids[index])
+
+    @contextlib.contextmanager
+    def _silently(self):
+        quiet, self._quiet = self._quiet, True
+        try:
+            yield
+        finally:
+            self._quiet = quiet
+
+    # ----------------------------------------------------------------- scale
+    def _toggle_zoom(self, change) -> None:
+        self.figure.interaction = self.pan_zoom if change["new"] else None
+        self.obstruction_markers.enable_move = not change["new"]
+
+    def plot_area_px(self) -> tuple[int, int]:
+        """Width and height of the plot area inside the margins [px]."""
+        m = FIGURE_MARGIN_PX
+        return (self.width_px - m["left"] - m["right"], self.height_px - m["top"] - m["bottom"])
+
+    def fit(self) -> None:
+        """Show the whole scene with equal axes (one metre is as long across as up)."""
+        if self._scene is None:
+            return
+        x0, y0, x1, y1 = self._scene.bounds()
+        x0, y0, x1, y1 = x0 - BORDER_M, y0 - BORDER_M, x1 + BORDER_M, y1 + BORDER_M
+        pw, ph = self.plot_area_px()
+        per_px = max((x1 - x0) / pw, (y1 - y0) / ph)  # metres per pixel on both axes
+        cx, cy = 0.5 * (x0 + x1), 0.5 * (y0 + y1)
+        k = self._k
+        with self.x_scale.hold_sync(), self.y_scale.hold_sync():
+            self.x_scale.min, self.x_scale.max = (cx - 0.5 * pw * per_px) * k, (
+                cx + 0.5 * pw * per_px) * k
+            self.y_scale.min, self.y_scale.max = (cy - 0.5 * ph * per_px) * k, (
+                cy + 0.5 * ph * per_px) * k
+
+    # ----------------------------------------------------------------- drawing
+    def draw(self, scene: PlanScene, *, units: str = "metric") -> None:
+        """Redraw the plan from a scene, in the project's units."""
+        refit = self._scene is None or units != self.units or (
+            scene.bounds() != self._scene.bounds())
+        self._scene = scene
+        self.units = units
+        self._k = k = unit_factor(units)
+        unit = "ft" if units == "imperial" else "m"
+        span = max(scene.bounds()[2] - scene.bounds()[0], scene.bounds()[3] - scene.bounds()[1])
+        spacing = max(span / 90.0, 0.05)
+
+        face_rings = [ring for _, ring in scene.faces]
+        zone_rings, hatch = [], []
+        for _, _, category, zone in scene.zones:
+            if category == "obstruction":
+                continue  # the obstruction itself is drawn from its footprint
+            zone_rings.extend(_exteriors(zone))
+            hatch.extend(_hatch(zone, spacing))
+        usable_rings = [r for _, area in scene.usable for r in _rings(area)]
+        active = [ring for _, ring, on in scene.modules if on]
+        removed = [ring for _, ring, on in scene.modules if not on]
+        solids = [r for _, _, tree, fp, _ in scene.obstructions if not tree for r in _rings(fp)]
+        crowns = [r for _, _, tree, fp, _ in scene.obstructions if tree for r in _rings(fp)]
+
+        centroids = {name: np.asarray(shapely.Polygon(ring).centroid.coords[0])
+                     for name, ring in scene.faces}
+        ex, ey, et, er = [], [], [], []
+        for name, _, kind, ends in scene.edges:
+            mid = ends.mean(axis=0)
+            inward = centroids[name] - mid
+            inward *= min(0.35, 0.25 * float(np.linalg.norm(inward))) / max(
+                float(np.linalg.norm(inward)), 1e-9)
+            ex.append(float((mid + inward)[0] * k))
+            ey.append(float((mid + inward)[1] * k))
+            et.append(kind)
+            er.append(_edge_label_rotation(ends[0], ends[1]))
+
+        self._module_ids = [mid for mid, _, _ in scene.modules]
+        centres = np.array([ring.mean(axis=0) for _, ring, _ in scene.modules]).reshape(-1, 2)
+        self._obstruction_index = [i for i, *_ in scene.obstructions]
+        self._anchors = np.array([a for *_, a in scene.obstructions], dtype=float).reshape(
+            -1, 2) * k
+
+        marks = [self.face_marks, self.zone_fill_marks, self.hatch_marks, self.usable_marks,
+                 self.module_fill_marks, self.removed_marks, self.obstruction_marks,
+                 self.tree_marks, self.edge_labels, self.face_labels, self.module_targets,
+                 self.obstruction_markers]
+        with contextlib.ExitStack() as stack, self._silently():
+            for mark in marks:
+                stack.enter_context(mark.hold_sync())
+            for mark, rings in ((self.face_marks, face_rings),
+                                (self.zone_fill_marks, zone_rings),
+                                (self.hatch_marks, hatch),
+                                (self.usable_marks, usable_rings),
+                                (self.module_fill_marks, active),
+                                (self.removed_marks, removed),
+                                (self.obstruction_marks, solids),
+                                (self.tree_marks, crowns)):
+                mark.x, mark.y = _padded(rings, k)
+                if mark.fill == "inside":  # one fill per curve, as drawn by bqplot
+                    mark.fill_colors = [self._fills[mark][0]] * max(len(rings), 1)
+                    mark.fill_opacities = [self._fills[mark][1]] * max(len(rings), 1)
+            self.edge_labels.x, self.edge_labels.y = ex, ey
+            self.edge_labels.text, self.edge_labels.rotation = et, er
+            self.face_labels.x = [float(c[0] * k) for c in centroids.values()]
+            self.face_labels.y = [float(c[1] * k) for c in centroids.values()]
+            self.face_labels.text = list(centroids)
+            self.module_targets.x = (centres[:, 0] * k).tolist()
+            self.module_targets.y = (centres[:, 1] * k).tolist()
+            self.module_targets.names = self._module_ids
+            self.module_targets.selected = None
+            self.obstruction_markers.x = self._anchors[:, 0].tolist()
+            self.obstruction_markers.y = self._anchors[:, 1].tolist()
+            self.obstruction_markers.names = [label for _, label, *_ in scene.obstructions]
+            self._paint_modules(scene)
+        self.x_axis.label = f"x, east [{unit}]"
+        self.y_axis.label = f"y, north [{unit}]"
+        if refit:
+            self.fit()
+
+    # ----------------------------------------------------------------- module figures
+    def show_module_values(self, values=None, *, label: str = "",
+                           vmin: float | None = None, vmax: float | None = None) -> None:
+        """Colour the active modules by a per-module figure, or draw them plain.
+
+        Parameters
+        ----------
+        values : pandas.Series or None
+            One figure per module id (annual shade loss [%], TSRF, annual energy [kWh] ...);
+            None draws every module white. Modules missing from the index are drawn white.
+        label : str
+            Name and unit of the figure, shown on the colour bar.
+        vmin, vmax : float, optional
+            Ends of the colour scale; default the smallest and largest value shown.
+        """
+        self.module_values = values
+        self.module_values_label = label
+        self._scale_limits = (vmin, vmax)
+        if self._scene is not None:
+            with self.module_fill_marks.hold_sync():
+                self._paint_modules(self._scene)
+
+    def _paint_modules(self, scene: PlanScene) -> None:
+        values = self.module_values
+        active_ids = [mid for mid, _, on in scene.modules if on]
+        if values is None or not active_ids:
+            self.module_fill_marks.fill_colors = [style.MODULE_FILL] * max(len(active_ids), 1)
+            self.colour_axis.visible = False
+            self.figure.axes = [self.x_axis, self.y_axis]
+            return
+        data = np.array([float(values.get(mid, np.nan)) for mid in active_ids])
+        vmin, vmax = getattr(self, "_scale_limits", (None, None))
+        colours = style.figure_colours(data, vmin=vmin, vmax=vmax)
+        self.module_fill_marks.fill_colors = [c or style.MODULE_FILL for c in colours]
+        finite = data[np.isfinite(data)]
+        if len(finite):
+            self.colour_scale.min = float(finite.min() if vmin is None else vmin)
+            self.colour_scale.max = float(finite.max() if vmax is None else vmax)
+        self.colour_axis.label = self.module_values_label
+        self.colour_axis.visible = True
+        self.figure.axes = [self.x_axis, self.y_axis, self.colour_axis]

@@ -1,0 +1,613 @@
+"""The planner: one project, the plan beside a side panel, files and cautions.
+
+:class:`Planner` owns a :class:`layout.project.Project` and the core's results for it. Every
+gesture becomes a new project (projects never change in place): a dropped obstruction marker,
+a click on a module, an accepted form. The core then refills the layout and the planner
+redraws from what it returned. Nothing here computes geometry or physics of its own.
+
+Side panel tabs
+---------------
+Module
+    Module size and power, orientation, row mode, gaps, the setback preset and its values,
+    and the refill; the module count, kWp and the rules in force are always shown.
+Objects
+    The obstruction form (edit, add, delete).
+Compare
+    The roof filled in every orientation and row mode, as a table and a bar chart.
+File
+    Save and load the project; export the module table (CSV) and outlines (GeoJSON).
+"""
+
+from __future__ import annotations
+
+import html
+import time
+from dataclasses import replace
+from pathlib import Path
+
+import bqplot as bq
+import ipywidgets as w
+import pandas as pd
+
+from layout.clearance import (
+    ClearanceRules,
+    ifc_2015_residential,
+    ifc_2021_residential,
+    no_setbacks,
+)
+from layout.errors import InputError
+from layout.placement import FILL_ORIENTATIONS, compare_orientations
+from layout.project import FILE_SUFFIX, ProjectFileError, load_project, save_project
+from layout.units import INCH_M
+
+from . import style
+from .export import write_layout_geojson, write_module_table
+from .forms import FieldRow, ObstructionForm, error_text, length_text, read_length
+from .plan_view import PlanView, obstruction_label, plan_scene
+
+__all__ = [
+    "CAUTIONS",
+    "SETBACK_PRESETS",
+    "Planner",
+    "compare_table",
+    "fill_project",
+    "snap_length",
+]
+
+#: The cautions shown in the app: short, calm, and always visible.
+CAUTIONS = (
+    "Setbacks and pathways are defaults: the authority having jurisdiction decides which fire "
+    "code and local amendments apply.",
+    "Wiring, rapid shutdown and interconnection are licensed electrical work; added roof load "
+    "needs a structural review by a licensed person.",
+    "Work on a roof only with fall protection; measure from the ground where you can.",
+)
+
+#: Setback presets offered in the Module tab (label → rules factory).
+SETBACK_PRESETS = {
+    "IFC 2021 residential": ifc_2021_residential,
+    "IFC 2021 residential, sprinklered": lambda: ifc_2021_residential(sprinklered=True),
+    "IFC 2015 residential": ifc_2015_residential,
+    "no setbacks": no_setbacks,
+}
+_AS_IN_PROJECT = "as in the project"
+
+#: Drag positions snap to this grid [m]: 1 cm, or a quarter inch in imperial projects.
+SNAP_M = {"metric": 0.01, "imperial": INCH_M / 4}
+
+
+def snap_length(metres: float, units: str) -> float:
+    """Round a dragged position [m] to 1 cm (metric) or 1/4 in (imperial)."""
+    step = SNAP_M.get(units, 0.01)
+    return round(metres / step) * step
+
+
+def fill_project(project):
+    """Fill a project with the core; see :meth:`layout.project.Project.fill_with_areas`."""
+    return project.fill_with_areas()
+
+
+def compare_table(project) -> pd.DataFrame:
+    """Every orientation and row mode for the project's array faces, summed over buildings.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Indexed by option (``"portrait, grid"`` ...): ``modules``, ``power_kwp`` [kWp],
+        ``module_area_m2`` and ``usable_area_m2`` [m², true area], ``usable_use_pct`` [%],
+        as :func:`layout.placement.compare_orientations` gives them.
+    """
+    frames = [compare_orientations(
+        building, project.module, rules=project.clearance, options=project.fill,
+        obstructions=project.obstructions, pathway_faces=project.pathways,
+        latitude=project.site.latitude, array_faces=project.array_faces_of(building))
+        for building in project.buildings]
+    columns = ["modules", "power_kwp", "module_area_m2", "usable_area_m2"]
+    table = pd.concat(frames).groupby("option", sort=False)[columns].sum()
+    area = table["usable_area_m2"]
+    table["usable_use_pct"] = (100.0 * table["module_area_m2"] / area).where(area > 0, 0.0)
+    return table
+
+
+def _html_lines(lines, *, colour: str = "#34403f") -> str:
+    items = "".join(f"<li>{html.escape(line)}</li>" for line in lines)
+    return f"<ul style='margin:2px 0 0 16px;padding:0;color:{colour};font-size:12px'>{items}</ul>"
+
+
+class Planner(w.VBox):
+    """The composite planner widget: plan, side panel, status line and cautions.
+
+    Parameters
+    ----------
+    project : layout.project.Project
+        The project to plan.
+    path : str or pathlib.Path, optional
+        File the project came from; the File tab saves there by default.
+
+    Attributes
+    ----------
+    project : layout.project.Project
+        The project shown now.
+    array_layout : layout.placement.Layout
+        Its modules as the core placed them.
+    areas : dict of str to layout.clearance.UsableArea
+        Usable area of each array face.
+    """
+
+    def __init__(self, project, *, path=None):
+        self.project = None
+        self.array_layout = None
+        self.areas: dict = {}
+        self.last_recompute_s = 0.0
+        self._compare_for = None
+
+        self.plan = PlanView()
+        self.plan.on_obstruction_moved(self._obstruction_moved)
+        self.plan.on_module_clicked(self._module_clicked)
+
+        self.title = w.HTML()
+        self.units_toggle = w.ToggleButtons(options=[("metres", "metric"), ("feet", "imperial")],
+                                            value=project.units, tooltip="Units shown and typed",
+                                            style={"button_width": "70px"})
+        self.units_toggle.observe(self._units_changed, names="value")
+        self.status = w.HTML()
+        self.status.add_class("eaveline-status")
+        self.count_label = w.HTML()
+        self.count_label.add_class("eaveline-count")
+        self.last_move = w.HTML()
+        self.last_move.add_class("eaveline-last-move")
+
+        self.objects = ObstructionForm()
+        self.objects.on_change(self._obstructions_edited)
+        self._build_module_tab()
+        self._build_compare_tab()
+        self._build_file_tab(path)
+        self.tabs = w.Tab(children=[self.module_tab, self.objects, self.compare_tab,
+                                    self.file_tab],
+                          titles=("Module", "Objects", "Compare", "File"),
+                          layout=w.Layout(width="560px", min_width="480px"))
+        self.tabs.add_class("eaveline-side")
+        self.tabs.observe(self._tab_changed, names="selected_index")
+        self.cautions = w.HTML(
+            "<div style='color:#5d6b6a;font-size:12px;line-height:1.5'>"
+            + "<br>".join(html.escape(c) for c in CAUTIONS) + "</div>")
+        self.cautions.add_class("eaveline-cautions")
+
+        figures = w.VBox([self.count_label, self.last_move, self.status])
+        super().__init__([
+            w.HBox([self.title, self.units_toggle],
+                   layout=w.Layout(justify_content="space-between", align_items="center")),
+            w.HBox([w.VBox([self.plan, figures]), self.tabs]),
+            self.cautions,
+        ])
+        self.add_class("eaveline-planner")
+        self.set_project(project)
+        if self.array_layout is None:
+            raise InputError("project", self.status.value)
+
+    # ================================================================= project changes
+    def set_project(self, project, *, message: str = "") -> bool:
+        """Show a new project: refill with the core and redraw.
+
+        Returns
+        -------
+        bool
+            False when the core refused the project; the previous one then stays shown and
+            the status line says why.
+        """
+        self._status("Recomputing the layout…", busy=True)
+        start = time.perf_counter()
+        try:
+            layout, areas = fill_project(project)
+        except (InputError, ProjectFileError) as err:
+            self._status(f"Not changed: {err}", error=True)
+            return False
+        self.project, self.array_layout, self.areas = project, layout, areas
+        self._quiet_units(project.units)
+        self.plan.draw(plan_scene(project, layout, areas), units=project.units)
+        self.objects.show(project.obstructions, units=project.units,
+                          new_position=self._roof_middle())
+        self._show_figures()
+        self._show_module_fields()
+        if self.tabs.selected_index == 2:
+            self._run_compare()
+        self.last_recompute_s = time.perf_counter() - start
+        self._status(message or f"Ready (layout filled in {self.last_recompute_s * 1000:.0f} ms).")
+        return True
+
+    def _roof_middle(self) -> tuple[float, float]:
+        point = self.project.buildings[0].footprint.centroid
+        return float(point.x), float(point.y)
+
+    def _status(self, text: str, *, busy: bool = False, error: bool = False) -> None:
+        colour = "#8a2d2d" if error else ("#2b7c79" if busy else "#5d6b6a")
+        self.status.value = (f"<span style='color:{colour};font-size:12px'>"
+                             f"{html.escape(text)}</span>")
+
+    def _show_figures(self) -> None:
+        p, layout = self.project, self.array_layout
+        name = p.name or "untitled project"
+        self.title.value = f"<b style='font-size:15px;color:#34403f'>{html.escape(name)}</b>"
+        self.count_label.value = (
+            f"<span style='font-size:14px;color:#34403f'><b>{layout.count}</b> modules · "
+            f"<b>{layout.kwp(p.module):.2f}</b> kWp</span>")
+        rules = [n for n in layout.notes if n.startswith("ridge setback")]
+        others = [n for n in layout.notes if not n.startswith("ridge setback")]
+        self.rule_label.value = (
+            f"<div style='font-size:13px;color:#34403f'><b>{layout.count}</b> modules · "
+            f"<b>{layout.kwp(p.module):.2f}</b> kWp · {html.escape(p.clearance.name)}</div>"
+            + _html_lines(rules or ["no ridge setback applies to these faces"])
+            + (_html_lines(others, colour="#5d6b6a") if others else ""))
+
+    # ----------------------------------------------------------------- gestures
+    def _obstruction_moved(self, index: int, x_m: float, y_m: float) -> None:
+        units = self.project.units
+        x, y = snap_length(x_m, units), snap_length(y_m, units)
+        old = self.project.obstructions[index]
+        ax, ay = self._anchor(old)
+        moved = old.translated(x - ax, y - ay)
+        obstructions = list(self.project.obstructions)
+        obstructions[index] = moved
+        label = obstruction_label(old, index)
+        text = (f"{label} moved to x = {length_text(x, units)}, "
+                f"y = {length_text(y, units)}")
+        if self.set_project(self.project.with_changes(obstructions=tuple(obstructions))):
+            self.last_move.value = (f"<span style='font-size:12px;color:#5d6b6a'>"
+                                    f"{html.escape(text)}</span>")
+        else:  # put the marker back where the project still has it
+            self.plan.draw(plan_scene(self.project, self.array_layout, self.areas),
+                           units=self.project.units)
+
+    @staticmethod
+    def _anchor(obstruction):
+        from .plan_view import obstruction_anchor
+
+        return obstruction_anchor(obstruction)
+
+    def _module_clicked(self, module_id: str) -> None:
+        module = self.array_layout.module(module_id)
+        taken_out = self.array_layout.is_removed(module)
+        current = self.array_layout
+        edited = current.restore(module_id) if taken_out else current.remove(module_id)
+        verb = "put back" if taken_out else "taken out"
+        self.set_project(self.project.with_changes(removed=edited.removed),
+                         message=f"Module {module_id} {verb}.")
+
+    def _obstructions_edited(self, obstructions, index) -> None:
+        if self.set_project(self.project.with_changes(obstructions=tuple(obstructions))):
+            self.objects.show(self.project.obstructions, units=self.project.units, index=index,
+                              new_position=self._roof_middle())
+
+    def _units_changed(self, change) -> None:
+        if self.project is not None and change["new"] != self.project.units:
+            shown = "feet and inches" if change["new"] == "imperial" else "metres"
+            self.set_project(self.project.with_changes(units=change["new"]),
+                             message=f"Lengths now shown and typed in {shown}.")
+
+    def show_module_figure(self, values=None, *, label: str = "") -> None:
+        """Colour the modules by a per-module figure (a Series by module id), or clear it.
+
+        The hook for the analysis results (annual shade loss [%], TSRF, annual energy [kWh]).
+        """
+        self.plan.show_module_values(values, label=label)
+
+    # ================================================================= Module tab
+    def _build_module_tab(self) -> None:
+        def text():
+            return w.Text(continuous_update=False)
+
+        self.module_rows = {
+            "length_m": FieldRow("length_m", "Module long side", text()),
+            "width_m": FieldRow("width_m", "Module short side", text()),
+            "power_w": FieldRow("power_w", "Power at STC [W]", text()),
+            "gap_along_eave_m": FieldRow("gap_along_eave_m", "Gap in a row", text()),
+            "gap_up_slope_m": FieldRow("gap_up_slope_m", "Gap between rows", text()),
+        }
+        self.orientation = w.ToggleButtons(options=list(FILL_ORIENTATIONS),
+                                           style={"button_width": "90px"})
+        self.rows_mode = w.ToggleButtons(options=[("one grid", "grid"),
+                                                  ("sliding rows", "sliding")],
+                                         style={"button_width": "110px"})
+        self.preset = w.Dropdown(options=[_AS_IN_PROJECT, *SETBACK_PRESETS],
+                                 value=_AS_IN_PROJECT, description="Setbacks",
+                                 layout=w.Layout(width="360px"))
+        self.preset.observe(self._preset_chosen, names="value")
+        self.setback_rows = {
+            "ridge": FieldRow("ridge", "Ridge", text()),
+            "ridge_setback_high_m": FieldRow("ridge_setback_high_m", "Ridge, large array",
+                                             text()),
+            "eave": FieldRow("eave", "Eave", text()),
+            "rake": FieldRow("rake", "Rake", text()),
+            "hip": FieldRow("hip", "Hip", text()),
+            "valley": FieldRow("valley", "Valley", text()),
+            "obstruction_clearance_m": FieldRow("obstruction_clearance_m",
+                                                "Ring around objects", text()),
+            "pathway_width_m": FieldRow("pathway_width_m", "Pathway width", text()),
+            "pathway_count": FieldRow("pathway_count", "Pathways needed", text()),
+        }
+        self.refill_button = w.Button(description="Refill", button_style="",
+                                      tooltip="Fill the roof again with these values")
+        self.refill_button.add_class("eaveline-refill")
+        self.refill_button.on_click(lambda _: self.refill())
+        self.rule_label = w.HTML()
+        self.rule_label.add_class("eaveline-rules")
+        self.module_message = w.HTML()
+        self._quiet_fields = False
+        for row in [*self.module_rows.values(), *self.setback_rows.values()]:
+            row.input.observe(self._field_edited, names="value")
+        self.orientation.observe(self._field_edited, names="value")
+        self.rows_mode.observe(self._field_edited, names="value")
+        heading = "<div style='margin-top:8px;color:#34403f'><b>{}</b></div>".format
+        self.module_tab = w.VBox([
+            self.rule_label,
+            w.HTML(heading("Module")), *self.module_rows.values(),
+            w.HBox([w.Label("Orientation", layout=w.Layout(width="150px")), self.orientation]),
+            w.HBox([w.Label("Rows", layout=w.Layout(width="150px")), self.rows_mode]),
+            w.HTML(heading("Setbacks and clearances (on the roof surface)")),
+            self.preset, *self.setback_rows.values(),
+            w.HBox([self.refill_button, self.module_message],
+                   layout=w.Layout(align_items="center")),
+        ])
+
+    def _field_edited(self, change) -> None:
+        if not self._quiet_fields:
+            self.refill()
+
+    def _show_module_fields(self, rules: ClearanceRules | None = None) -> None:
+        p = self.project
+        rules = rules or p.clearance
+        units = p.units
+        values = {
+            "length_m": length_text(p.module.length_m, units),
+            "width_m": length_text(p.module.width_m, units),
+            "power_w": f"{p.module.power_w:g}",
+            "gap_along_eave_m": length_text(p.fill.gap_along_eave_m, units),
+            "gap_up_slope_m": length_text(p.fill.gap_up_slope_m, units),
+        }
+        setbacks = {kind: length_text(rules.edge_setback_m[kind], units)
+                    for kind in ("ridge", "eave", "rake", "hip", "valley")}
+        setbacks["ridge_setback_high_m"] = ("" if rules.ridge_setback_high_m is None
+                                            else length_text(rules.ridge_setback_high_m, units))
+        setbacks["obstruction_clearance_m"] = length_text(rules.obstruction_clearance_m, units)
+        setbacks["pathway_width_m"] = length_text(rules.pathway_width_m, units)
+        setbacks["pathway_count"] = str(rules.pathway_count)
+        self._quiet_fields = True
+        try:
+            for key, value in values.items():
+                self.module_rows[key].input.value = value
+                self.module_rows[key].set_error(None)
+            for key, value in setbacks.items():
+                self.setback_rows[key].input.value = value
+                self.setback_rows[key].set_error(None)
+            self.orientation.value = p.fill.orientation
+            self.rows_mode.value = p.fill.rows
+        finally:
+            self._quiet_fields = False
+        self._base_rules = rules
+        self._shown_module = dict(values)
+        self._shown_setbacks = dict(setbacks)
+
+    def _preset_chosen(self, change) -> None:
+        if change["new"] == _AS_IN_PROJECT:
+            self._show_module_fields()
+        else:
+            self._show_module_fields(SETBACK_PRESETS[change["new"]]())
+        self.refill()
+
+    def _length(self, rows, shown, key, exact):
+        text = rows[key].input.value
+        if text == shown[key]:
+            return exact
+        return read_length(text, self.project.units, field=key)
+
+    def refill(self) -> bool:
+        """Read the Module tab, and refill when every field is valid.
+
+        Returns
+        -------
+        bool
+            True when the project changed or was already as typed.
+        """
+        p = self.project
+        rows, setback_rows = self.module_rows, self.setback_rows
+        for row in [*rows.values(), *setback_rows.values()]:
+            row.set_error(None)
+        bad = False
+
+        def attempt(row_map, key, make):
+            nonlocal bad
+            try:
+                return make()
+            except InputError as err:
+                target = row_map.get(err.field.split(".")[-1], row_map.get(key))
+                target.set_error(error_text(err))
+                bad = True
+                return None
+
+        sm, ss = self._shown_module, self._shown_setbacks
+        base = self._base_rules
+        length = attempt(rows, "length_m",
+                         lambda: self._length(rows, sm, "length_m", p.module.length_m))
+        width = attempt(rows, "width_m",
+                        lambda: self._length(rows, sm, "width_m", p.module.width_m))
+        power = attempt(rows, "power_w", lambda: _number(rows["power_w"].input.value,
+                                                         "power_w"))
+        gap_u = attempt(rows, "gap_along_eave_m", lambda: self._length(
+            rows, sm, "gap_along_eave_m", p.fill.gap_along_eave_m))
+        gap_v = attempt(rows, "gap_up_slope_m", lambda: self._length(
+            rows, sm, "gap_up_slope_m", p.fill.gap_up_slope_m))
+        edge = {}
+        for kind in ("ridge", "eave", "rake", "hip", "valley"):
+            edge[kind] = attempt(setback_rows, kind, lambda k=kind: self._length(
+                setback_rows, ss, k, base.edge_setback_m[k]))
+        high_text = setback_rows["ridge_setback_high_m"].input.value.strip()
+        high = None if not high_text else attempt(
+            setback_rows, "ridge_setback_high_m", lambda: self._length(
+                setback_rows, ss, "ridge_setback_high_m", base.ridge_setback_high_m))
+        ring = attempt(setback_rows, "obstruction_clearance_m", lambda: self._length(
+            setback_rows, ss, "obstruction_clearance_m", base.obstruction_clearance_m))
+        path_w = attempt(setback_rows, "pathway_width_m", lambda: self._length(
+            setback_rows, ss, "pathway_width_m", base.pathway_width_m))
+        path_n = attempt(setback_rows, "pathway_count", lambda: _whole(
+            setback_rows["pathway_count"].input.value, "pathway_count"))
+        if bad:
+            self.module_message.value = ""
+            return False
+        module = attempt(rows, "length_m", lambda: replace(
+            p.module, length_m=length, width_m=width, power_w=power))
+        fill = attempt(rows, "gap_along_eave_m", lambda: replace(
+            p.fill, gap_along_eave_m=gap_u, gap_up_slope_m=gap_v,
+            orientation=self.orientation.value, rows=self.rows_mode.value))
+        setbacks = dict(base.edge_setback_m)
+        setbacks.update(edge)
+        rules = attempt(setback_rows, "ridge", lambda: replace(
+            base, edge_setback_m=setbacks, ridge_setback_high_m=high,
+            obstruction_clearance_m=ring, pathway_width_m=path_w, pathway_count=path_n))
+        if bad:
+            return False
+        if rules != base and not rules.name.endswith("(edited)"):
+            rules = replace(rules, name=f"{rules.name} (edited)")
+        if rules == p.clearance and module == p.module and fill == p.fill:
+            return True
+        return self.set_project(p.with_changes(module=module, fill=fill, clearance=rules),
+                                message="Refilled with the Module tab's values.")
+
+    # ================================================================= Compare tab
+    def _build_compare_tab(self) -> None:
+        self.compare_html = w.HTML()
+        self.compare_html.add_class("eaveline-compare-table")
+        x = bq.OrdinalScale()
+        y = bq.LinearScale(min=0.0)
+        self.compare_bars = bq.Bars(x=[], y=[], scales={"x": x, "y": y},
+                                    colors=[style.FIGURE_SCALE[4]], padding=0.25)
+        self.compare_figure = bq.Figure(
+            marks=[self.compare_bars],
+            axes=[bq.Axis(scale=x, label="option", tick_rotate=-30),
+                  bq.Axis(scale=y, side="left", label="modules")],
+            fig_margin={"top": 16, "bottom": 80, "left": 56, "right": 16},
+            display_toolbar=False,
+            layout=w.Layout(width="520px", height="300px"))
+        self.compare_button = w.Button(description="Compare again")
+        self.compare_button.on_click(lambda _: self._run_compare(force=True))
+        self.compare_tab = w.VBox([
+            w.HTML("<div style='font-size:12px;color:#5d6b6a'>The same faces, setbacks and "
+                   "gaps filled in each orientation, with one rigid grid or sliding rows."
+                   "</div>"),
+            self.compare_html, self.compare_figure, self.compare_button])
+
+    def _tab_changed(self, change) -> None:
+        if change["new"] == 2:
+            self._run_compare()
+
+    def _run_compare(self, *, force: bool = False) -> None:
+        if self._compare_for is self.project and not force:
+            return
+        self._status("Filling every orientation for the comparison…", busy=True)
+        table = compare_table(self.project)
+        self._compare_for = self.project
+        current = f"{self.project.fill.orientation}, {self.project.fill.rows}"
+        rows = []
+        for option, r in table.iterrows():
+            weight = "bold" if option == current else "normal"
+            rows.append(f"<tr style='font-weight:{weight}'><td>{html.escape(option)}</td>"
+                        f"<td style='text-align:right'>{int(r.modules)}</td>"
+                        f"<td style='text-align:right'>{r.power_kwp:.2f}</td>"
+                        f"<td style='text-align:right'>{r.usable_use_pct:.0f} %</td></tr>")
+        self.compare_html.value = (
+            "<table style='font-size:12px;border-collapse:collapse'>"
+            "<tr><th style='text-align:left'>option</th><th>modules</th><th>kWp</th>"
+            "<th>usable area used</th></tr>" + "".join(rows) + "</table>")
+        with self.compare_bars.hold_sync():
+            self.compare_bars.x = list(table.index)
+            self.compare_bars.y = table["modules"].astype(float).tolist()
+        self.compare_result = table
+        self._status("Ready.")
+
+    # ================================================================= File tab
+    def _build_file_tab(self, path) -> None:
+        default = Path(path) if path else Path.home() / "eaveline" / f"project{FILE_SUFFIX}"
+        self.project_path = w.Text(value=str(default), description="Project file",
+                                   layout=w.Layout(width="500px"))
+        self.save_button = w.Button(description="Save")
+        self.load_button = w.Button(description="Load")
+        self.save_button.on_click(lambda _: self.save())
+        self.load_button.on_click(lambda _: self.load())
+        base = default.name[: -len(FILE_SUFFIX)] if default.name.endswith(FILE_SUFFIX) \
+            else default.stem
+        self.export_path = w.Text(value=str(default.with_name(f"{base}-modules")),
+                                  description="Export to", layout=w.Layout(width="500px"))
+        self.csv_button = w.Button(description="Module table (CSV)",
+                                   layout=w.Layout(width="auto"))
+        self.geojson_button = w.Button(description="Outlines (GeoJSON)",
+                                       layout=w.Layout(width="auto"))
+        self.csv_button.on_click(lambda _: self.export_csv())
+        self.geojson_button.on_click(lambda _: self.export_geojson())
+        self.file_message = w.HTML()
+        self.file_tab = w.VBox([
+            self.project_path, w.HBox([self.save_button, self.load_button]),
+            w.HTML("<div style='font-size:12px;color:#5d6b6a;margin-top:8px'>Exports use the "
+                   "site frame in metres (x east, y north, z up).</div>"),
+            self.export_path, w.HBox([self.csv_button, self.geojson_button]),
+            self.file_message])
+
+    def _file_note(self, text: str, *, error: bool = False) -> None:
+        colour = "#8a2d2d" if error else "#34403f"
+        self.file_message.value = (f"<pre style='font-size:12px;color:{colour};"
+                                   f"white-space:pre-wrap'>{html.escape(text)}</pre>")
+
+    def save(self) -> Path | None:
+        """Save the project to the path in the File tab; return the path written."""
+        try:
+            written = save_project(self.project, self.project_path.value)
+        except OSError as err:
+            self._file_note(f"Not saved: {err}", error=True)
+            return None
+        self.project_path.value = str(written)
+        self._file_note(f"Saved {written}")
+        return written
+
+    def load(self) -> bool:
+        """Load the project named in the File tab; on problems keep the current one."""
+        try:
+            project = load_project(self.project_path.value)
+        except ProjectFileError as err:
+            self._file_note(str(err), error=True)
+            return False
+        if not self.set_project(project, message=f"Loaded {self.project_path.value}"):
+            self._file_note("The file was read but the roof cannot be filled; see the status "
+                            "line.", error=True)
+            return False
+        self._file_note(f"Loaded {self.project_path.value}")
+        return True
+
+    def _quiet_units(self, units: str) -> None:
+        self.units_toggle.unobserve(self._units_changed, names="value")
+        self.units_toggle.value = units
+        self.units_toggle.observe(self._units_changed, names="value")
+
+    def export_csv(self) -> Path:
+        """Write the module table next to the export path; return the path."""
+        target = write_module_table(self.array_layout, self.export_path.value)
+        self._file_note(f"Wrote {target}")
+        return target
+
+    def export_geojson(self) -> Path:
+        """Write the module outlines as GeoJSON; return the path."""
+        target = write_layout_geojson(self.array_layout, self.export_path.value,
+                                      name=self.project.name)
+        self._file_note(f"Wrote {target}")
+        return target
+
+
+def _number(text: str, field: str) -> float:
+    try:
+        return float(str(text).strip())
+    except ValueError:
+        raise InputError(field, "must be a number", value=text) from None
+
+
+def _whole(text: str, field: str) -> int:
+    number = _number(text, field)
+    if not number.is_integer() or number < 0:
+        raise InputError(field, "must be a whole number", value=text, allowed="0, 1, 2, ...")
+    return int(number)
