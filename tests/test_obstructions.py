@@ -206,3 +206,63 @@ def test_translated_moves_geometry():
     assert b.bounds == (1.0, 2.0, 1.5, 2.0, 3.0, 2.5)
     assert Cylinder((0, 0), 1, 2).translated(3, 4).center == (3.0, 4.0)
     assert Tree((0, 0), 5, 1, 1).translated(-1, 1).center == (-1.0, 1.0)
+
+
+# ------------------------------------------------------------------ plates
+def test_plate_geometry_and_round_trip():
+    from layout.obstructions import PLANE_TOLERANCE_M, Plate
+    from layout.roof import RoofFace
+
+    # closed form: a 2 m × 1.5 m rectangle tilted 30° has true area 3 m² and the unit normal
+    # (0, -sin 30°, cos 30°) up to sign
+    t = math.radians(30)
+    corners = [(0, 0, 3), (2, 0, 3), (2, 1.5 * math.cos(t), 3 + 1.5 * math.sin(t)),
+               (0, 1.5 * math.cos(t), 3 + 1.5 * math.sin(t))]
+    plate = Plate(corners, kind="module", name="m1")
+    _, e1, e2, normal = plate.frame
+    assert plate.area_m2 == pytest.approx(3.0)
+    assert np.allclose(np.abs(normal), [0, math.sin(t), math.cos(t)])
+    assert abs(e1 @ e2) < 1e-12 and abs(e1 @ normal) < 1e-12
+    assert plate.bounds == pytest.approx((0, 0, 3, 2, 1.5 * math.cos(t), 3 + 1.5 * math.sin(t)))
+    data = json.loads(json.dumps(plate.to_dict()))
+    assert Plate.from_dict(data) == plate and obstruction_from_dict(data) == plate
+    assert plate.translated(1, 2, 3).bounds[:3] == pytest.approx((1, 2, 6))
+    face = RoofFace([(0, 0), (10, 0), (10, 6), (0, 6)], 30.0, 180.0, 3.0, name="south")
+    from_face = Plate.from_face(face)
+    assert from_face.name == "south" and from_face.area_m2 == pytest.approx(face.true_area_m2)
+    # a vertical plate: its plan footprint is a line
+    wall = Plate([(0, 0, 0), (4, 0, 0), (4, 0, 2), (0, 0, 2)])
+    assert wall.footprint_polygon.geom_type == "LineString"
+    assert wall.footprint_polygon.length == pytest.approx(4.0)
+    assert PLANE_TOLERANCE_M == 1e-3
+
+
+@pytest.mark.parametrize(("corners", "field"), [
+    ([(0, 0, 0), (1, 0, 0)], "corners"),
+    ([(0, 0, 0), (1, 0, 0), (1, 1, 0), (1, 0, 0)], "corners[1]"),
+    ([(0, 0, 0), (1, 0, 0), (2, 0, 0)], "corners"),  # no area
+    ([(0, 0, 0), (1, 0, 0), (1, 1, 0.01), (0, 1, 0)], "corners[2]"),  # 1 cm off the plane
+    ([(0, 0, 0), (1, 1, 0), (1, 0, 0), (0, 1, 0)], "corners"),  # bow tie
+    ([(0, 0, 0), (1, 0, math.nan), (1, 1, 0)], "corners[1]"),
+])
+def test_plate_rejects_bad_corners(corners, field):
+    from layout.obstructions import Plate
+
+    with pytest.raises(InputError) as info:
+        Plate(corners)
+    assert info.value.field == field
+
+
+def test_plate_rejects_bad_fields():
+    from layout.obstructions import Plate
+
+    square = [(0, 0, 0), (1, 0, 0), (1, 1, 0), (0, 1, 0)]
+    with pytest.raises(InputError) as info:
+        Plate(square, kind="chimney")
+    assert info.value.field == "kind"
+    with pytest.raises(InputError) as info:
+        Plate.from_dict({"type": "plate", "corners": square, "colour": "red"})
+    assert info.value.field == "colour"
+    with pytest.raises(InputError) as info:
+        Plate.from_dict({"type": "plate"})
+    assert info.value.field == "corners"

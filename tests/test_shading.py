@@ -2,6 +2,7 @@ import math
 
 import numpy as np
 import pandas as pd
+import pvlib
 import pytest
 import shapely
 import trimesh
@@ -9,7 +10,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from layout.errors import InputError
-from layout.obstructions import Block, Cylinder, HorizonProfile, Tree
+from layout.obstructions import Block, Cylinder, HorizonProfile, Plate, Tree
+from layout.roof import RoofFace
 from layout.shading import (
     RAY_START_M,
     ShadeCache,
@@ -17,6 +19,8 @@ from layout.shading import (
     _hit_spheroid,
     _hit_vertical_cylinder,
     group_mean,
+    module_samples,
+    module_shade,
     obstruction_hits,
     shaded,
     transmitted,
@@ -318,3 +322,310 @@ def test_cache_moves_one_obstruction_and_matches_full_recompute():
     assert cache.update(fewer) == 0
     assert np.array_equal(cache.transmitted(), transmitted(pts, sun, fewer, month=month))
     assert cache.update([*fewer, Cylinder((0, 0), 0.3, 2.0)]) == 1
+
+
+# ------------------------------------------------------------------ plates: roof faces, modules
+def _rack_plates(n_rows, n_cols, width, slant, tilt_deg, pitch, z0=3.0):
+    """Abutting south-facing modules in rows along x, lower edges at y = r · pitch."""
+    t = math.radians(tilt_deg)
+    dy, dz = slant * math.cos(t), slant * math.sin(t)
+    plates = []
+    for r in range(n_rows):
+        y0 = r * pitch
+        for c in range(n_cols):
+            x0 = (c - n_cols / 2) * width
+            plates.append(Plate([(x0, y0, z0), (x0 + width, y0, z0), (x0 + width, y0 + dy, z0 + dz),
+                                 (x0, y0 + dy, z0 + dz)], kind="module", name=f"r{r}c{c}"))
+    return plates
+
+
+YEAR_SITE = Site(40.0, -105.0, "America/Denver", 1600.0)
+
+
+@pytest.fixture(scope="module")
+def year_sun():
+    from layout.sun import sun_above_horizon, typical_year_index
+
+    return sun_above_horizon(YEAR_SITE, typical_year_index(YEAR_SITE))
+
+
+@pytest.mark.parametrize(("tilt", "pitch"), [(25.0, 3.5), (10.0, 2.2)])
+def test_rows_match_pvlib_shaded_fraction1d(year_sun, tilt, pitch):
+    # pvlib.shading.shaded_fraction1d (Anderson & Jensen 2024, J. Renewable Sustainable Energy
+    # 16(2):023504; REFERENCES.md) for infinite rows, against the middle module of the middle
+    # of three rows of 41 abutting 1 m modules, hourly for a year at 40° N. The finite row is
+    # exactly infinite for the middle module while the shadow-casting ray travels less than
+    # 20 m along the row, (pitch + slant·cos tilt)·|sun_x / sun_y| <= 20 m: those steps are
+    # compared. The engine samples 200 points along the slant at their midpoints, so its
+    # fraction is the true one rounded to 1/200: tolerance 1/(2·200).
+    slant, n = 2.0, 200
+    plates = _rack_plates(3, 41, 1.0, slant, tilt, pitch)
+    t = math.radians(tilt)
+    f = (np.arange(n) + 0.5) / n
+    pts = np.column_stack([np.full(n, 0.5), pitch + f * slant * math.cos(t),
+                           3.0 + f * slant * math.sin(t)])
+    sun = year_sun.vectors
+    ours = shaded(pts, sun, plates).mean(axis=1)
+    ref = pvlib.shading.shaded_fraction1d(90.0 - year_sun.elevation_deg, year_sun.azimuth_deg,
+                                          90.0, tilt, collector_width=slant, pitch=pitch)
+    normal = np.array([0.0, -math.sin(t), math.cos(t)])
+    lit = sun @ normal > 0  # the front face sees the sun
+    south = sun[:, 1] < 0  # pvlib's roles: the row in front (south) shades this one
+    in_row = (pitch + slant * math.cos(t)) * np.abs(sun[:, 0] / sun[:, 1]) <= 20.0
+    sel = lit & south & in_row
+    assert sel.sum() > 2000 and (ref[sel] > 0.05).sum() > 50  # the check has teeth
+    assert np.abs(ours[sel] - ref[sel]).max() <= 0.5 / n + 1e-9
+    # a sun in front of the plane but north of the row axis: nothing shades the front face
+    assert not ours[lit & ~south].any()
+
+
+def test_module_never_shades_itself_and_face_never_shades_points_on_it():
+    # self-shading rule (layout.obstructions): points in a plate's own plane are never
+    # shaded by it, whatever the sun (also from behind); points off the plane are.
+    face = RoofFace([(0, 0), (10, 0), (10, 6), (0, 6)], 30.0, 180.0, 3.0, name="south")
+    plate = Plate.from_face(face)
+    rng = np.random.default_rng(4)
+    uv = np.column_stack([rng.uniform(0, 10, 300), rng.uniform(0, 6 / math.cos(math.pi / 6),
+                                                                  300)])
+    on = face.roof_to_3d(uv) + rng.uniform(-1e-4, 1e-4, (300, 1)) * face.normal
+    sun = sun_vectors(rng.uniform(0, 360, 300), rng.uniform(-30, 90, 300))
+    assert not shaded(on, sun, [plate]).any()
+    assert not shaded(on, sun, [plate], cull=False).any()
+    # 5 cm under the face, at least 1 m inside its edges: hidden whenever the sun is more
+    # than asin(0.05) above the face's plane (the ray crosses it within 1 m), never when it is
+    # below the plane (closed-form geometry)
+    under = face.roof_to_3d(uv[:50] * 0.5 + 1.0) - 0.05 * face.normal
+    got = shaded(under, sun, [plate])
+    height = sun @ face.normal
+    assert got[height > 0.05].all() and not got[height <= 0].any()
+
+
+def test_dormer_and_higher_face_agree_with_trimesh():
+    # Independent check: trimesh's ray caster (a general-purpose library) on the plates
+    # triangulated. A shed dormer (vertical front and cheek walls, sloped roof) sits on a 30°
+    # south face and a higher west-facing wing rises beside it; random points on the lower
+    # face, random suns. Plates are flat, so triangles represent them exactly: the only
+    # disagreements allowed are rays that graze an edge (none expected).
+    low = RoofFace([(0, 0), (12, 0), (12, 5), (0, 5)], 30.0, 180.0, 3.0, name="low")
+    wing = RoofFace([(12, -2), (18, -2), (18, 7), (12, 7)], 40.0, 270.0, 5.0, name="wing")
+    wall = Plate([(12, -2, 0), (12, 7, 0), (12, 7, 5), (12, -2, 5)], kind="other")
+    y_front, y_back, x0, x1, top = 1.0, 3.5, 4.0, 6.5, 6.2
+    z_front = float(low.height_at([4.0, y_front]))
+    z_back = float(low.height_at([4.0, y_back]))
+    dormer = [
+        Plate([(x0, y_front, z_front), (x1, y_front, z_front), (x1, y_front, top - 0.3),
+               (x0, y_front, top - 0.3)], kind="roof", name="dormer front"),
+        Plate([(x0, y_front, z_front), (x0, y_back, z_back), (x0, y_back, top),
+               (x0, y_front, top - 0.3)], kind="roof", name="west cheek"),
+        Plate([(x1, y_front, z_front), (x1, y_back, z_back), (x1, y_back, top),
+               (x1, y_front, top - 0.3)], kind="roof", name="east cheek"),
+        Plate([(x0, y_front, top - 0.3), (x1, y_front, top - 0.3), (x1, y_back, top),
+               (x0, y_back, top)], kind="roof", name="dormer roof"),
+    ]
+    casters = [Plate.from_face(low), Plate.from_face(wing), wall, *dormer]
+    rng = np.random.default_rng(8)
+    xy = np.column_stack([rng.uniform(0, 12, 150), rng.uniform(0, 5, 150)])
+    outside = ~((xy[:, 0] > x0) & (xy[:, 0] < x1) & (xy[:, 1] > y_front) & (xy[:, 1] < y_back))
+    pts = low.plan_to_3d(xy[outside])
+    sun = sun_vectors(rng.uniform(0, 360, 120), np.degrees(np.arcsin(rng.uniform(0.02, 1, 120))))
+    ours = shaded(pts, sun, casters)
+    tris = []
+    for plate in casters[1:]:  # the lower face never shades its own points
+        origin, e1, e2, _ = plate.frame
+        parts = shapely.get_parts(shapely.constrained_delaunay_triangles(plate.plane_polygon))
+        for part in parts:
+            uv = shapely.get_coordinates(part)[:-1]
+            tris.append(origin + uv[:, :1] * e1 + uv[:, 1:] * e2)
+    mesh = trimesh.Trimesh(*trimesh.triangles.to_kwargs(np.array(tris)).values(), process=False)
+    origins = np.repeat(pts[None], len(sun), axis=0).reshape(-1, 3)
+    dirs = np.repeat(sun, len(pts), axis=0)
+    caster = trimesh.ray.ray_triangle.RayMeshIntersector(mesh)
+    theirs = caster.intersects_any(origins + RAY_START_M * dirs, dirs).reshape(ours.shape)
+    lit = sun @ low.normal > 0
+    assert 0.03 < ours[lit].mean() < 0.6  # the dormer and the wing do shade the face
+    assert (ours == theirs).mean() >= 0.999
+    assert np.array_equal(shaded(pts, sun, casters[1:]), ours)
+
+
+def test_cache_covers_plates():
+    # moving one module plate recomputes only its share; combined answer equals a full
+    # recompute (issue 3, incremental); group_shade equals 1 - group_mean(transmitted)
+    plates = _rack_plates(3, 4, 1.0, 1.7, 20.0, 2.0)
+    rng = np.random.default_rng(9)
+    face = Plate([(-5, -3, 3.0), (5, -3, 3.0), (5, 8, 3.0), (-5, 8, 3.0)], name="flat")
+    tree = Tree.deciduous((0.0, -9.0), 9.0, 3.0, 2.5)
+    scene = [face, tree, *plates]
+    pts = np.vstack([shapely_free_points(p, 6) for p in plates])
+    sun = sun_vectors(rng.uniform(60, 300, 120), rng.uniform(3, 70, 120))
+    month = rng.integers(1, 13, 120)
+    cache = ShadeCache(pts, sun, scene, month=month)
+    moved = list(scene)
+    moved[5] = plates[3].translated(0.0, -0.4, 0.1)
+    assert cache.update(moved) == 1
+    assert np.array_equal(cache.shaded(), shaded(pts, sun, moved))
+    full = transmitted(pts, sun, moved, month=month)
+    assert np.array_equal(cache.transmitted(), full)
+    labels = np.repeat(np.arange(len(plates)), 6)
+    assert np.allclose(cache.group_shade(labels), 1 - group_mean(full, labels), atol=1e-6)
+    assert 0 < cache.shaded().mean() < 0.5
+
+
+def shapely_free_points(plate, n):
+    """n points inside a quadrilateral plate (bilinear midpoints along its diagonal band)."""
+    c = np.asarray(plate.corners)
+    f = (np.arange(n) + 0.5) / n
+    return (1 - f)[:, None] * (0.7 * c[0] + 0.3 * c[2]) + f[:, None] * (0.3 * c[1] + 0.7 * c[3])
+
+
+# ------------------------------------------------------------------ per-module beam shade
+def _rack_modules(spec, orientation, tilt, pitch, n_rows=3, n_cols=9):
+    from layout.placement import PlacedModule
+
+    slant, along = ((spec.length_m, spec.width_m) if orientation == "portrait"
+                    else (spec.width_m, spec.length_m))
+    t = math.radians(tilt)
+    dy, dz = slant * math.cos(t), slant * math.sin(t)
+    out = []
+    for r in range(n_rows):
+        for c in range(n_cols):
+            x0, y0, z0 = (c - n_cols / 2) * along, r * pitch, 3.0
+            corners = [(x0, y0, z0), (x0 + along, y0, z0), (x0 + along, y0 + dy, z0 + dz),
+                       (x0, y0 + dy, z0 + dz)]
+            out.append(PlacedModule(id=f"r{r}c{c}", face="flat", row=r, column=c,
+                                    orientation=orientation,
+                                    uv_rect=(x0, y0, x0 + along, y0 + dy), corners_3d=corners,
+                                    tilt_deg=tilt, azimuth_deg=180.0))
+    return out
+
+
+def test_module_shade_by_substring_matches_pvlib_rows():
+    # Rows of abutting modules, sun due south and low (no lateral travel): the middle module
+    # of the middle row equals pvlib.shading.shaded_fraction1d (Anderson & Jensen 2024) to the
+    # resolution of its samples along the slant, midpoints of n equal parts, so within 1/(2n):
+    # n = 10 cell rows × 2 in portrait, 6 cell columns × 2 in landscape. Portrait:
+    # substrings run along the length, so a shadow along the lower edge hits all three alike;
+    # landscape: it reaches substring 0 only while it covers under a third of the slant
+    # (PlacedModule.cell_points; common practice: 3 bypass diodes, one per third).
+    from layout.modules import generic_60_cell
+
+    spec = generic_60_cell(330.0)
+    tilt, pitch = 20.0, 2.4
+    el = np.array([8.0, 12.0, 16.0, 25.0])
+    sun = sun_vectors(np.full(4, 180.0), el)
+    for orientation, slant, n in (("portrait", spec.length_m, 20),
+                                  ("landscape", spec.width_m, 12)):
+        p = pitch if orientation == "portrait" else 1.5
+        mods = _rack_modules(spec, orientation, tilt, p)
+        res = module_shade(mods, spec, sun, [], samples_per_cell=4)
+        mid = mods.index(next(m for m in mods if m.id == "r1c4"))
+        ref = pvlib.shading.shaded_fraction1d(90 - el, 180.0, 90.0, tilt,
+                                              collector_width=slant, pitch=p)
+        assert res.cell.dtype == np.float32 and res.cell.shape == (4, 27, 60)
+        assert np.abs(res.module[:, mid] - ref).max() <= 0.5 / n + 1e-6
+        assert (ref > 0.1).any()
+        front = [i for i, m in enumerate(mods) if m.row == 0]
+        assert not res.module[:, front].any()  # nothing in front of the front row
+        sub = res.substring[:, mid]
+        if orientation == "portrait":
+            assert np.allclose(sub, sub[:, :1], atol=1e-6)
+        else:
+            low = ref < 1 / 3 - 0.5 / n
+            assert np.allclose(sub[low, 1:], 0) and np.allclose(sub[low, 0],
+                                                                3 * res.module[low, mid])
+
+
+def test_module_shade_cache_and_trees():
+    # the cached path equals the direct one; moving one obstruction recomputes only it; a
+    # deciduous crown (Heisler 1986 via the preset) counts by its transmittance.
+    from layout.modules import generic_60_cell
+
+    spec = generic_60_cell(330.0)
+    mods = _rack_modules(spec, "portrait", 20.0, 2.4, n_rows=2, n_cols=3)
+    rng = np.random.default_rng(2)
+    sun = sun_vectors(rng.uniform(90, 270, 60), rng.uniform(5, 60, 60))
+    month = rng.integers(1, 13, 60)
+    tree = Tree.deciduous((0.0, -6.0), 10.0, 3.0, 3.0)
+    scene = [tree, Block([(-4, -3), (-3, -3), (-3, -2), (-4, -2)], 5.0)]
+    direct = module_shade(mods, spec, sun, scene, month=month, max_rays=3000)
+    samples = module_samples(mods, spec)
+    cache = ShadeCache(samples.points, sun, month=month)
+    cached = module_shade(mods, spec, sun, scene, month=month, cache=cache)
+    assert np.array_equal(direct.cell, cached.cell)
+    moved = [tree.translated(1.0, 0.0), scene[1]]
+    again = module_shade(mods, spec, sun, moved, month=month, cache=cache)
+    assert again.cell.shape == direct.cell.shape
+    assert np.array_equal(again.cell, module_shade(mods, spec, sun, moved, month=month).cell)
+    assert cache.update([*moved, *(Plate.from_module(m) for m in mods)]) == 0
+    # a crown alone (its trunk ends below the modules): a cell is 0 or 1 - tau
+    crown_only = module_shade(mods, spec, sun, [tree],
+                              month=month, include_modules=False)
+    tau = tree.monthly_transmittance[month - 1]
+    hit = crown_only.cell > 0
+    assert hit.any()
+    assert np.allclose(crown_only.cell[hit], np.broadcast_to((1 - tau)[:, None, None],
+                                                             hit.shape)[hit], atol=1e-6)
+    with pytest.raises(InputError) as info:
+        module_shade(mods[:1], spec, sun, scene, month=month, cache=cache)
+    assert info.value.field == "cache"
+
+
+@settings(max_examples=10, deadline=None)
+@given(st.integers(0, 10_000))
+def test_tabulated_kernels_equal_the_direct_ones(seed):
+    # the per-edge tabulated block kernel and the tabulated tree kernel (speed paths) give
+    # exactly the direct kernels' answers on random rays with the sun up
+    from layout.shading import _block_kernel, _hit_block, _ray_effect, _tree_kernel
+
+    rng = np.random.default_rng(seed)
+    scene = random_scene(rng)
+    pts = np.column_stack([rng.uniform(-10, 10, 40), rng.uniform(-10, 10, 40),
+                           rng.uniform(0, 5, 40)])
+    sun = sun_vectors(rng.uniform(0, 360, 60), rng.uniform(0.5, 89, 60))
+    p = np.repeat(np.arange(40), 60)
+    s = np.tile(np.arange(60), 40)
+    for ob in scene:
+        if isinstance(ob, Block):
+            fast = _block_kernel(ob, pts, sun, RAY_START_M)
+            assert np.array_equal(fast(p, s)[0], _hit_block(ob, pts[p], sun[s], RAY_START_M))
+        elif isinstance(ob, Tree) and ob.crown_shape == "spheroid":
+            fast = _tree_kernel(ob, pts, sun, RAY_START_M)
+            got, want = fast(p, s), _ray_effect(ob, pts[p], sun[s], RAY_START_M)
+            assert np.array_equal(got[0], want[0]) and np.array_equal(got[1], want[1])
+
+
+def random_plates(rng):
+    """Random plates: tilted quads (either winding), a vertical wall, a concave tilted L."""
+    plates = []
+    for _ in range(3):
+        c = rng.uniform(-6, 6, 3) + np.array([0.0, 0.0, 3.0])
+        a, b = rng.normal(size=3), rng.normal(size=3)
+        a *= rng.uniform(0.5, 3) / np.linalg.norm(a)
+        b *= rng.uniform(0.5, 3) / np.linalg.norm(b)
+        quad = [c, c + a, c + a + b, c + b]
+        plates.append(Plate(quad[::-1] if rng.random() < 0.5 else quad))
+    x, y = rng.uniform(-6, 6, 2)
+    plates.append(Plate([(x, y, 0), (x + 4, y + 1, 0), (x + 4, y + 1, 3), (x, y, 3)]))
+    ring = np.array([(0, 0), (4, 0), (4, 1), (1, 1), (1, 3), (0, 3)], float) + rng.uniform(-5, 5, 2)
+    z = 2 + 0.4 * ring[:, 1] - 0.2 * ring[:, 0]
+    plates.append(Plate(np.column_stack([ring, z])))
+    return plates
+
+
+@settings(max_examples=15, deadline=None)
+@given(st.integers(0, 10_000))
+def test_plate_culling_does_not_change_the_answer(seed):
+    # culling by hull window, elevation band and the plane's side per azimuth sector must
+    # keep every hit: compare with the uncut ray tests
+    rng = np.random.default_rng(seed)
+    plates = random_plates(rng)
+    pts = np.column_stack([rng.uniform(-8, 8, 40), rng.uniform(-8, 8, 40),
+                           rng.uniform(0, 6, 40)])
+    # and points a few cm off each plate, where grazing suns decide
+    near = [np.asarray(p.corners).mean(axis=0) + rng.uniform(-0.08, 0.08) * p.frame[3]
+            + rng.uniform(-3, 3, 3) * np.array([1, 1, 0]) for p in plates for _ in range(8)]
+    pts = np.vstack([pts, near])
+    sun = sun_vectors(rng.uniform(0, 360, 300), rng.uniform(-20, 90, 300))
+    sun[0] = [0.0, 0.0, 1.0]
+    full = shaded(pts, sun, plates, cull=False)
+    assert full.any()
+    assert np.array_equal(shaded(pts, sun, plates, max_pairs=500), full)
