@@ -84,6 +84,7 @@ __all__ = [
     "iam_factors",
     "module_irradiance",
     "orientation_groups",
+    "plane_components",
     "plane_of_array",
     "substring_shade",
 ]
@@ -280,16 +281,22 @@ def substring_shade(beam_shaded, *, cell_substring=None, n_substrings: int | Non
         raise InputError("cell_substring", "leaves a substring without cells",
                          value=int(np.flatnonzero(counts == 0)[0]))
     order = np.argsort(labels, kind="stable")
+    in_order = bool((order == np.arange(k)).all())  # cells already grouped by substring
     starts = np.concatenate([[0], np.cumsum(counts)[:-1]])
     t, m = f.shape[:2]
-    mean = np.empty((t, m))
-    worst = np.empty((t, m, s), dtype=np.float32)
-    for lo in range(0, m, chunk):
-        part = np.asarray(f[:, lo:lo + chunk], dtype=float)
-        mean[:, lo:lo + chunk] = part.mean(axis=2)
-        worst[:, lo:lo + chunk] = np.maximum.reduceat(part[:, :, order], starts, axis=2)
-    if np.nanmin(f) < 0 or np.nanmax(f) > 1 or not np.isfinite(mean).all():
+    if f.dtype != np.float32:
+        f = f.astype(float, copy=False)
+    if t and not (np.isfinite(f.min()) and f.min() >= 0 and f.max() <= 1):
         raise InputError("beam_shaded", "must be fractions from 0 to 1", allowed="0 to 1")
+    mean = np.zeros((t, m))
+    worst = np.zeros((t, m, s), dtype=np.float32)
+    # most steps leave every cell in the sun: reduce only the steps with some shade
+    shaded_steps = np.flatnonzero(f.reshape(t, -1).max(axis=1, initial=0.0) > 0)
+    for lo in range(0, m, chunk):
+        part = f[shaded_steps, lo:lo + chunk]
+        mean[shaded_steps, lo:lo + chunk] = part.mean(axis=2, dtype=np.float64)
+        worst[shaded_steps, lo:lo + chunk] = np.maximum.reduceat(
+            part if in_order else part[:, :, order], starts, axis=2)
     return mean, worst
 
 
@@ -333,10 +340,47 @@ class ModuleIrradiance:
     settings: dict
 
 
+def plane_components(weather: Weather, surface_tilt: float, surface_azimuth: float, *,
+                     model: str = "perez", iam_model: str | None = "physical") -> dict:
+    """Unshaded irradiance components of one plane, before and after incidence-angle losses.
+
+    Parameters
+    ----------
+    weather : layout.weather.Weather
+    surface_tilt, surface_azimuth : float
+        The plane [degrees].
+    model, iam_model : str
+        As in :func:`module_irradiance`.
+
+    Returns
+    -------
+    dict of str to numpy.ndarray, shape (T,)
+        ``beam`` (direct + circumsolar), ``sky`` (isotropic + horizon band), ``ground``, each
+        with an ``_eff`` twin after incidence-angle losses, and ``poa_global`` [W/m²].
+    """
+    frame = plane_of_array(weather, surface_tilt, surface_azimuth, model=model)
+    iam = iam_factors(frame["aoi"].to_numpy(), surface_tilt, iam_model=iam_model)
+    beam = frame["poa_direct"].to_numpy() + frame["poa_circumsolar"].to_numpy()
+    iso = frame["poa_isotropic"].to_numpy()
+    hor = frame["poa_horizon"].to_numpy()
+    ground = frame["poa_ground_diffuse"].to_numpy()
+    return {
+        "beam": beam,
+        "beam_eff": beam * iam["beam"],
+        # isotropic and horizon band share one rule: both scale with the sky-view ratio
+        "sky": iso + hor,
+        "sky_eff": iso * iam["sky"] + hor * iam["horizon"],
+        "ground": ground,
+        "ground_eff": ground * iam["ground"],
+        "poa_global": frame["poa_global"].to_numpy(),
+    }
+
+
 def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_shaded=None,
                       cell_substring=None, n_substrings: int | None = None, sky_view=None,
                       model: str = "perez", iam_model: str | None = "physical",
-                      mount: str = "close_mount_glass_glass") -> ModuleIrradiance:
+                      mount: str = "close_mount_glass_glass",
+                      plane_cache: dict | None = None) -> ModuleIrradiance:
     """Compute each module's irradiance with shade applied per component, and its temperature.
 
     Parameters
@@ -365,6 +409,10 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
         Incidence-angle model; None skips incidence-angle losses.
     mount : str, keyword-only, default "close_mount_glass_glass"
         SAPM temperature parameter set, one of :data:`MOUNTS`.
+    plane_cache : dict, keyword-only, optional
+        A dict the caller keeps for one ``weather``: the unshaded components of each plane
+        (:func:`plane_components`) are stored in it and reused by later calls, which then
+        only apply shade. Give a new dict when the weather changes.
 
     Returns
     -------
@@ -409,20 +457,14 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
     parts = {name: np.empty((n_steps, n_planes)) for name in
              ("beam", "beam_eff", "sky", "sky_eff", "ground", "ground_eff", "poa_global")}
     for o, (tilt, azimuth) in enumerate(orientations):
-        frame = plane_of_array(weather, tilt, azimuth, model=model)
-        iam = iam_factors(frame["aoi"].to_numpy(), tilt, iam_model=iam_model)
-        beam = frame["poa_direct"].to_numpy() + frame["poa_circumsolar"].to_numpy()
-        iso = frame["poa_isotropic"].to_numpy()
-        hor = frame["poa_horizon"].to_numpy()
-        ground = frame["poa_ground_diffuse"].to_numpy()
-        parts["beam"][:, o] = beam
-        parts["beam_eff"][:, o] = beam * iam["beam"]
-        # isotropic and horizon band share one rule: both scale with the sky-view ratio
-        parts["sky"][:, o] = iso + hor
-        parts["sky_eff"][:, o] = iso * iam["sky"] + hor * iam["horizon"]
-        parts["ground"][:, o] = ground
-        parts["ground_eff"][:, o] = ground * iam["ground"]
-        parts["poa_global"][:, o] = frame["poa_global"].to_numpy()
+        key = (float(tilt), float(azimuth), model, iam_model)
+        plane = plane_cache.get(key) if plane_cache is not None else None
+        if plane is None:
+            plane = plane_components(weather, tilt, azimuth, model=model, iam_model=iam_model)
+            if plane_cache is not None:
+                plane_cache[key] = plane
+        for name, values in plane.items():
+            parts[name][:, o] = values
     # per module (T, M): gather the module's plane, then shade
     beam = parts["beam"][:, group]
     beam_eff = parts["beam_eff"][:, group]

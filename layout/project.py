@@ -20,6 +20,7 @@ from pathlib import Path
 
 from .building import Building
 from .clearance import ClearanceRules, UsableArea
+from .energy import EnergyOptions
 from .errors import InputError
 from .modules import ModuleSpec
 from .obstructions import obstruction_from_dict
@@ -47,7 +48,7 @@ FILE_SUFFIX = ".eaveline.json"
 UNIT_SYSTEMS = ("metric", "imperial")
 
 _SECTIONS = (SCHEMA_KEY, "name", "units", "notes", "site", "buildings", "obstructions", "module",
-             "clearance", "fill", "array_faces", "removed", "pathways")
+             "clearance", "fill", "array_faces", "removed", "pathways", "energy")
 
 
 class ProjectFileError(ValueError):
@@ -98,6 +99,8 @@ class Project:
     pathways : dict or None
         Face name → edge index of each access pathway chosen by the user; None lets eaveline
         choose (:func:`layout.clearance.choose_pathway_faces`).
+    energy : EnergyOptions
+        Weather, models and electrical settings of the energy evaluation.
     units : {"metric", "imperial"}
         How lengths are shown and typed in the planner.
     name, notes : str
@@ -113,6 +116,7 @@ class Project:
     obstructions: tuple = ()
     removed: tuple = ()
     pathways: dict | None = None
+    energy: EnergyOptions = field(default_factory=EnergyOptions)
     units: str = "metric"
     name: str = ""
     notes: str = ""
@@ -216,6 +220,7 @@ def project_to_dict(project: Project) -> dict:
         "array_faces": list(project.array_faces) if project.array_faces is not None else None,
         "removed": [_plain(entry) for entry in project.removed],
         "pathways": dict(project.pathways) if project.pathways is not None else None,
+        "energy": project.energy.to_dict(),
     }
 
 
@@ -303,6 +308,9 @@ def project_from_dict(data, *, source: str = "") -> Project:
     module = collect.take("module", ModuleSpec.from_dict, _need(data, "module", dict, problems))
     clearance = collect.take("clearance", ClearanceRules.from_dict,
                              _need(data, "clearance", dict, problems))
+    energy_data = _need(data, "energy", dict, problems, default={})
+    energy = (collect.take("energy", EnergyOptions.from_dict, energy_data)
+              if energy_data is not None else None)
     fill_data = _need(data, "fill", dict, problems, default={})
     fill = collect.take("fill", FillOptions.from_dict, fill_data) if fill_data is not None else None
 
@@ -352,7 +360,8 @@ def project_from_dict(data, *, source: str = "") -> Project:
         return Project(
             site=site, buildings=tuple(buildings), module=module, clearance=clearance,
             fill=fill, array_faces=array_faces, obstructions=tuple(obstructions),
-            removed=tuple(removed or ()), pathways=pathways, units=units, name=name, notes=notes,
+            removed=tuple(removed or ()), pathways=pathways, energy=energy, units=units,
+            name=name, notes=notes,
         )
     except ProjectFileError as err:
         raise ProjectFileError(err.problems, source) from None

@@ -69,6 +69,7 @@ import functools
 import itertools
 import math
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 import shapely
@@ -1150,7 +1151,7 @@ def module_samples(modules, spec, *, samples_per_cell: int = 1) -> ModuleSamples
                          int(spec.bypass_diodes))
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class ModuleShade:
     """Beam shaded fraction of placed modules per sun step, by cell and by substring.
 
@@ -1158,7 +1159,8 @@ class ModuleShade:
     crown blocks ``1 - transmittance`` of the beam where it is met. float32 keeps the arrays
     at 4 bytes a value (a year of 4,400 sun-up hours for 500 modules of 60 cells is 0.5 GB by
     cell, 27 MB by substring) and carries about 7 significant digits, far below the sampling
-    error of a few points a cell.
+    error of a few points a cell. The per-substring means are worked out from the cells when
+    first asked for.
 
     Attributes
     ----------
@@ -1166,18 +1168,39 @@ class ModuleShade:
         Id of each module.
     cell : numpy.ndarray of float32, shape (T, M, C)
         Shaded fraction of each cell (mean over its sample points).
+    cell_substring : numpy.ndarray of int, shape (C,)
+        Substring (bypass diode) of each cell.
     substring : numpy.ndarray of float32, shape (T, M, S)
         Shaded fraction of each bypass-diode substring (mean over its cells).
     """
 
     module_ids: tuple[str, ...]
     cell: np.ndarray
-    substring: np.ndarray
+    cell_substring: np.ndarray
+
+    @cached_property
+    def substring(self) -> np.ndarray:
+        """Shaded fraction of each substring, float32 (T, M, S) (mean over its cells)."""
+        return _substring_means(self.cell, self.cell_substring)
 
     @property
     def module(self) -> np.ndarray:
         """Shaded fraction of each whole module, float32 (T, M) (cells have equal areas)."""
-        return self.substring.mean(axis=2, dtype=np.float64).astype(np.float32)
+        return self.cell.mean(axis=2, dtype=np.float64).astype(np.float32)
+
+
+def _substring_means(cell: np.ndarray, cell_substring: np.ndarray) -> np.ndarray:
+    """Mean of the cells of each substring, block by block (no copy of the whole array)."""
+    n_steps, n_mod, n_cells = cell.shape
+    by_substring = np.argsort(cell_substring, kind="stable")
+    starts = np.flatnonzero(np.r_[True, np.diff(cell_substring[by_substring]) != 0])
+    per = np.bincount(cell_substring)
+    substring = np.empty((n_steps, n_mod, len(per)), dtype=np.float32)
+    block = max(1, _DENSE_BLOCK // max(1, n_mod * n_cells))
+    for t0 in range(0, n_steps, block):
+        part = cell[t0:t0 + block][:, :, by_substring]
+        substring[t0:t0 + block] = np.add.reduceat(part, starts, axis=2, dtype=np.float64) / per
+    return substring
 
 
 #: Default largest number of rays (sun steps × sample points) handled per chunk of modules in
@@ -1257,13 +1280,5 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
             _group_shade(len(sun_v), len(pts), pairs, labels, (m1 - m0) * n_cells, m,
                          out=cell[:, m0 * n_cells:m1 * n_cells])
     cell = cell.reshape(len(sun_v), n_mod, n_cells)
-    cell_substring = spec.substring_of_cell(np.arange(n_cells))
-    by_substring = np.argsort(cell_substring, kind="stable")
-    starts = np.flatnonzero(np.r_[True, np.diff(cell_substring[by_substring]) != 0])
-    per = np.bincount(cell_substring, minlength=samples.n_substrings)
-    substring = np.empty((len(sun_v), n_mod, samples.n_substrings), dtype=np.float32)
-    block = max(1, _DENSE_BLOCK // max(1, n_mod * n_cells))
-    for t0 in range(0, len(sun_v), block):  # block by block: no copy of the whole cell array
-        part = cell[t0:t0 + block][:, :, by_substring]
-        substring[t0:t0 + block] = np.add.reduceat(part, starts, axis=2, dtype=np.float64) / per
-    return ModuleShade(samples.module_ids, cell, substring)
+    cell_substring = np.asarray(spec.substring_of_cell(np.arange(n_cells)), dtype=np.intp)
+    return ModuleShade(samples.module_ids, cell, cell_substring)

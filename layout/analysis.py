@@ -1,0 +1,346 @@
+"""One object that holds a project's computed state and recomputes only what an edit touched.
+
+:class:`Analysis` runs the stages of :mod:`layout.energy` for a project and keeps every
+intermediate result. :meth:`Analysis.update` takes the edited project and compares it with the
+one it holds:
+
+======================================  ==================================================
+what changed                            what is recomputed
+======================================  ==================================================
+site, weather file, time step           everything
+roofs, module, rules, fill, removals,   the fill; when the active modules changed, their
+an obstruction standing on the roof     sample points and all their ray tests
+an obstruction (moved, resized, added)  the ray tests of that obstruction only (the others'
+                                        hits are kept per obstruction), then sky view,
+                                        irradiance, power and tables
+energy settings (models, strings)       irradiance or power, and tables
+======================================  ==================================================
+
+The combined answer is always the same as a fresh evaluation of the edited project (the tests
+check it). The front end keeps one Analysis and redraws from :attr:`Analysis.result`.
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from .clearance import roof_mounted
+from .electrical import DcPower, dc_power
+from .energy import SunSteps, load_weather, scene_casters, sky_view_ratio, sun_steps
+from .irradiance import ModuleIrradiance, module_irradiance
+from .metrics import (
+    BestOrientation,
+    best_orientation,
+    empty_module_table,
+    layout_totals,
+    module_table,
+    month_hour_loss,
+    monthly_table,
+)
+from .obstructions import Plate
+from .placement import Layout, PlacedModule
+from .shading import ModuleShade, ShadeCache, module_samples, module_shade
+from .weather import Weather
+
+__all__ = ["Analysis", "Evaluation", "evaluate"]
+
+
+@dataclass(frozen=True, eq=False)
+class Evaluation:
+    """Everything one evaluation of a project computed. Never saved; rebuilt from the project.
+
+    Attributes
+    ----------
+    project : layout.project.Project
+        The project evaluated.
+    layout : layout.placement.Layout
+        The fill, removed modules included.
+    areas : dict of str to layout.clearance.UsableArea
+        Usable area of each array face.
+    modules : tuple of PlacedModule
+        The active modules, in the row order of :attr:`table` and the column order of the
+        arrays below.
+    weather : layout.weather.Weather
+        Weather of the evaluation; its ``caveat`` says what clear sky means for shade loss.
+    best : layout.metrics.BestOrientation
+        Best unshaded plane at the site (for TOF).
+    shade : layout.shading.ModuleShade or None
+        Beam shaded fraction per sun-up step, module, cell and substring.
+    sky_view : numpy.ndarray, shape (M,)
+        Sky-view ratio of each module (1 = open sky).
+    irradiance : layout.irradiance.ModuleIrradiance or None
+    power : layout.electrical.DcPower or None
+    table : pandas.DataFrame
+        Per-module figures (:func:`layout.metrics.module_table`).
+    totals : dict
+        Layout totals (:func:`layout.metrics.layout_totals`).
+    monthly : pandas.DataFrame
+        Energy and shade loss by month.
+    month_hour : pandas.DataFrame
+        Shade loss by month (rows) and hour (columns).
+    """
+
+    project: object
+    layout: Layout
+    areas: dict
+    modules: tuple[PlacedModule, ...]
+    weather: Weather
+    best: BestOrientation
+    shade: ModuleShade | None
+    sky_view: np.ndarray
+    irradiance: ModuleIrradiance | None
+    power: DcPower | None
+    table: pd.DataFrame
+    totals: dict
+    monthly: pd.DataFrame
+    month_hour: pd.DataFrame
+
+    def module_monthly(self, module_id: str) -> pd.DataFrame:
+        """Energy and shade loss by month for one module."""
+        return monthly_table(self.power, step_minutes=self.weather.step_minutes,
+                             columns=[self._column(module_id)])
+
+    def module_month_hour(self, module_id: str) -> pd.DataFrame:
+        """Shade loss by month and hour for one module."""
+        return month_hour_loss(self.power, columns=[self._column(module_id)])
+
+    def _column(self, module_id: str) -> int:
+        ids = [m.id for m in self.modules]
+        if module_id not in ids:
+            from .errors import InputError
+
+            raise InputError("module_id", "is not an active module of this layout",
+                             value=module_id)
+        return ids.index(module_id)
+
+
+def _geometry_key(modules) -> tuple:
+    return tuple((m.id, m.corners_3d, m.orientation) for m in modules)
+
+
+def _roof_mounted(project) -> tuple:
+    """Return the obstructions that stand on a roof face: only these change the fill."""
+    return tuple(ob for ob in project.obstructions
+                 if any(roof_mounted(face, ob) for face in project.faces))
+
+
+def _needs_module_casters(modules) -> bool:
+    """Modules on racks can shade each other; flush modules lie in their face's plane."""
+    return any(m.uv_corners is not None for m in modules)
+
+
+class Analysis:
+    """A project's computed state, kept up to date edit by edit.
+
+    Parameters
+    ----------
+    project : layout.project.Project
+        The project to evaluate.
+    base_dir : str or os.PathLike, keyword-only, optional
+        Folder a relative weather file is read from (the project file's folder).
+    progress : callable, keyword-only, optional
+        Called as ``progress(stage, done, total)`` before each stage runs, so a front end can
+        say what is being computed; ``stage`` is a short plain-language label.
+
+    Attributes
+    ----------
+    result : Evaluation
+        The current evaluation.
+    recomputed : tuple of str
+        Stages the last :meth:`update` ran ("weather", "fill", "points", "rays", "sky",
+        "irradiance", "power", "tables").
+    timings : dict of str to float
+        Seconds each stage of the last update took.
+    rays_tested : int
+        Casters the last update had to ray-test (the rest came from the per-obstruction cache).
+    """
+
+    _STAGES = ("weather", "fill", "points", "rays", "sky", "irradiance", "power", "tables")
+
+    def __init__(self, project, *, base_dir=None,
+                 progress: Callable[[str, int, int], None] | None = None):
+        self.base_dir = base_dir
+        self.progress = progress
+        self._project = None
+        self._weather_key = None
+        self._weather: Weather | None = None
+        self._sun: SunSteps | None = None
+        self._best: BestOrientation | None = None
+        self._best_model: str | None = None
+        self._geometry = None
+        self._cache: ShadeCache | None = None
+        self._casters = None
+        self._shade: ModuleShade | None = None
+        self._sky: np.ndarray | None = None
+        self._irradiance_key = None
+        self._irradiance: ModuleIrradiance | None = None
+        self._planes: dict = {}
+        self._fill_key = None
+        self._fill = None
+        self._power_key = None
+        self._power: DcPower | None = None
+        self.result: Evaluation | None = None
+        self.recomputed: tuple[str, ...] = ()
+        self.timings: dict[str, float] = {}
+        self.rays_tested = 0
+        self.update(project)
+
+    @property
+    def project(self):
+        """The project the current result belongs to."""
+        return self._project
+
+    def _stage(self, name: str, started: float) -> float:
+        now = time.perf_counter()
+        self.timings[name] = now - started
+        return now
+
+    def _say(self, label: str, step: int) -> None:
+        if self.progress is not None:
+            self.progress(label, step, len(self._STAGES))
+
+    def update(self, project) -> tuple[str, ...]:
+        """Bring the result up to date with ``project`` and return the stages that ran.
+
+        The project is only read. On an error (a weather file that cannot be read, say) the
+        previous result stays in place and the error is raised.
+        """
+        ran: list[str] = []
+        self.timings = {}
+        clock = time.perf_counter()
+        energy = project.energy
+
+        weather_key = (project.site, energy.weather_file, energy.step_minutes,
+                       str(self.base_dir))
+        if weather_key != self._weather_key:
+            self._say("reading the weather and the sun path", 0)
+            weather = load_weather(project.site, energy, base_dir=self.base_dir)
+            self._sun = sun_steps(weather)
+            self._best = best_orientation(weather, model=energy.sky_model)
+            self._weather, self._weather_key = weather, weather_key
+            self._planes = {}
+            self._geometry = self._cache = self._irradiance_key = None
+            ran.append("weather")
+            clock = self._stage("weather", clock)
+        elif self._best is not None and self._best_model != energy.sky_model:
+            self._best = best_orientation(self._weather, model=energy.sky_model)
+            self._irradiance_key = None
+        self._best_model = energy.sky_model
+
+        fill_key = (project.buildings, project.module, project.clearance, project.fill,
+                    project.array_faces, project.removed, project.pathways,
+                    project.site.latitude, _roof_mounted(project))
+        if fill_key != self._fill_key:
+            self._say("filling the roof faces", 1)
+            self._fill = project.fill_with_areas()
+            self._fill_key = fill_key
+            ran.append("fill")
+            clock = self._stage("fill", clock)
+        layout, areas = self._fill
+        modules = layout.active_modules
+
+        geometry = (_geometry_key(modules), project.module, energy.samples_per_cell)
+        if geometry != self._geometry:
+            self._say("placing sample points on the cells", 2)
+            self._cache = None
+            if modules:
+                samples = module_samples(modules, project.module,
+                                         samples_per_cell=energy.samples_per_cell)
+                self._cache = ShadeCache(samples.points, self._sun.vectors,
+                                         month=self._sun.month)
+            self._geometry, self._casters = geometry, None
+            ran.append("points")
+            clock = self._stage("points", clock)
+
+        casters = scene_casters(project)
+        if casters != self._casters:
+            if modules:
+                self._say("tracing the sun past every obstruction", 3)
+                every = casters
+                if _needs_module_casters(modules):
+                    every = casters + tuple(Plate.from_module(m) for m in modules)
+                self.rays_tested = self._cache.update(every)  # only new or changed casters
+                self._shade = module_shade(
+                    modules, project.module, self._sun.vectors, every,
+                    samples_per_cell=energy.samples_per_cell, include_modules=False,
+                    cache=self._cache)
+                ran.append("rays")
+                clock = self._stage("rays", clock)
+                self._say("measuring how much sky each module sees", 4)
+                self._sky = sky_view_ratio(modules, casters, n_directions=energy.sky_directions)
+                ran.append("sky")
+                clock = self._stage("sky", clock)
+            else:
+                self._shade, self._sky, self.rays_tested = None, np.zeros(0), 0
+            self._casters = casters
+            self._irradiance_key = None
+
+        irradiance_key = (self._geometry, self._casters, energy.sky_model, energy.iam_model,
+                          energy.mount)
+        if irradiance_key != self._irradiance_key:
+            self._irradiance = None
+            if modules:
+                self._say("computing irradiance on each module", 5)
+                spec = project.module
+                self._irradiance = module_irradiance(
+                    self._weather, [m.tilt_deg for m in modules],
+                    [m.azimuth_deg for m in modules], beam_shaded=self._shade.cell,
+                    cell_substring=spec.substring_of_cell(np.arange(spec.cell_count)),
+                    n_substrings=spec.bypass_diodes, sky_view=self._sky,
+                    model=energy.sky_model, iam_model=energy.iam_model, mount=energy.mount,
+                    plane_cache=self._planes)
+            self._irradiance_key, self._power_key = irradiance_key, None
+            ran.append("irradiance")
+            clock = self._stage("irradiance", clock)
+
+        power_key = (irradiance_key, energy.electrical, project.module)
+        if power_key != self._power_key:
+            self._power = None
+            if modules:
+                self._say("turning light into power", 6)
+                self._power = dc_power(self._irradiance, project.module, energy.electrical,
+                                       modules=modules)
+            self._power_key = power_key
+            ran.append("power")
+            clock = self._stage("power", clock)
+
+        self._say("adding up the tables", 7)
+        self.result = self._tables(project, layout, areas, modules)
+        ran.append("tables")
+        self._stage("tables", clock)
+        self._project = project
+        self.recomputed = tuple(ran)
+        return self.recomputed
+
+    def _tables(self, project, layout, areas, modules) -> Evaluation:
+        step = self._weather.step_minutes
+        energy = project.energy
+        if modules:
+            table = module_table(self._power, self._irradiance, modules, step_minutes=step,
+                                 best=self._best)
+            monthly = monthly_table(self._power, step_minutes=step)
+            month_hour = month_hour_loss(self._power)
+        else:
+            table = empty_module_table()
+            monthly = pd.DataFrame({"energy_kwh": 0.0, "energy_unshaded_kwh": 0.0,
+                                    "shade_loss_pct": np.nan},
+                                   index=pd.RangeIndex(1, 13, name="month"))
+            month_hour = pd.DataFrame(np.nan, index=pd.RangeIndex(1, 13, name="month"),
+                                      columns=pd.RangeIndex(0, 24, name="hour"))
+        totals = layout_totals(table, power_w=project.module.power_w,
+                               tsrf_threshold_pct=energy.tsrf_threshold_pct)
+        return Evaluation(project=project, layout=layout, areas=areas, modules=tuple(modules),
+                          weather=self._weather, best=self._best, shade=self._shade,
+                          sky_view=self._sky if self._sky is not None else np.zeros(0),
+                          irradiance=self._irradiance, power=self._power, table=table,
+                          totals=totals, monthly=monthly, month_hour=month_hour)
+
+
+def evaluate(project, *, base_dir=None) -> Evaluation:
+    """Evaluate a project once, from scratch (what :class:`Analysis` keeps up to date)."""
+    return Analysis(project, base_dir=base_dir).result

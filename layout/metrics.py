@@ -1,0 +1,322 @@
+"""What a designer quotes: energy, shade loss and the trade's solar-resource figures.
+
+All figures come from arrays the rest of the core computed (power and irradiance per step and
+module); this module only sums, divides and tabulates. Tables are pandas DataFrames with the
+unit in every column name.
+
+Definitions
+-----------
+energy
+    Sum of power over the steps times the step length [kWh]; AC when the electrical options
+    set an inverter efficiency, DC otherwise (the table's ``attrs["energy_basis"]`` says which).
+shade loss
+    ``1 − energy / unshaded energy`` [%], where the unshaded energy is the same module's energy
+    with every obstruction removed (same plane, same weather, same electrical model).
+solar access
+    Plane-of-array insolation with shade over the same without shade, on the module's own
+    plane [%] (before incidence-angle losses, as the trade measures it with a sky camera).
+TOF (tilt and orientation factor)
+    Unshaded plane-of-array insolation on the module's plane over that on the best plane at
+    the site [%]; the best tilt and azimuth are found by search (:func:`best_orientation`).
+TSRF (total solar resource fraction)
+    ``solar access × TOF`` [%]: the share of the best unshaded resource the module receives.
+    Incentive programmes commonly require 75–80 % per module or face (common practice).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+from scipy import optimize
+
+from .errors import InputError, check_range
+from .irradiance import plane_of_array
+from .weather import Weather
+
+__all__ = [
+    "DEFAULT_TSRF_THRESHOLD_PCT",
+    "BestOrientation",
+    "best_orientation",
+    "empty_module_table",
+    "energy_kwh",
+    "layout_totals",
+    "module_table",
+    "month_hour_loss",
+    "monthly_table",
+]
+
+#: TSRF below which a module is flagged [%] (incentive programmes ask 75–80 %; common practice).
+DEFAULT_TSRF_THRESHOLD_PCT = 75.0
+
+
+@dataclass(frozen=True)
+class BestOrientation:
+    """The unshaded plane that collects the most insolation over the weather's period.
+
+    Attributes
+    ----------
+    surface_tilt, surface_azimuth : float
+        The best plane [degrees].
+    insolation_kwh_m2 : float
+        Its plane-of-array insolation over the period [kWh/m²].
+    """
+
+    surface_tilt: float
+    surface_azimuth: float
+    insolation_kwh_m2: float
+
+
+def _insolation(weather: Weather, tilt: float, azimuth: float, model: str) -> float:
+    frame = plane_of_array(weather, tilt, azimuth, model=model)
+    return float(frame["poa_global"].clip(lower=0).sum()) * weather.step_minutes / 60.0 / 1000.0
+
+
+def best_orientation(weather: Weather, *, model: str = "perez") -> BestOrientation:
+    """Find the tilt and azimuth that collect the most unshaded plane-of-array insolation.
+
+    A coarse scan (tilt every 10°, azimuth every 30° over the equator-facing half) picks the
+    start, and a bounded Nelder–Mead search refines it to about 0.1°.
+
+    Parameters
+    ----------
+    weather : layout.weather.Weather
+        Weather and sun of the site.
+    model : str, keyword-only, default "perez"
+        Sky diffuse model, as in :func:`layout.irradiance.plane_of_array`.
+
+    Returns
+    -------
+    BestOrientation
+    """
+    if not isinstance(weather, Weather):
+        raise InputError("weather", "must be a layout.weather.Weather",
+                         value=type(weather).__name__)
+    equator = 180.0 if weather.site.latitude >= 0 else 0.0
+    cache: dict[tuple[float, float], float] = {}
+
+    def value(tilt: float, azimuth: float) -> float:
+        key = (round(tilt, 4), round(azimuth % 360.0, 4))
+        if key not in cache:
+            cache[key] = _insolation(weather, key[0], key[1], model)
+        return cache[key]
+
+    starts = [(t, (equator + a) % 360.0) for t in range(0, 81, 10) for a in (-60, -30, 0, 30, 60)]
+    tilt0, az0 = max(starts, key=lambda p: value(*p))
+
+    def negative(x):
+        tilt = float(np.clip(x[0], 0.0, 90.0))
+        return -value(tilt, float(x[1]))
+
+    result = optimize.minimize(negative, x0=[tilt0, az0], method="Nelder-Mead",
+                               options={"xatol": 0.05, "fatol": 1e-6, "initial_simplex":
+                                        [[tilt0, az0], [tilt0 + 6, az0], [tilt0, az0 + 12]]})
+    tilt = float(np.clip(result.x[0], 0.0, 90.0))
+    azimuth = float(result.x[1]) % 360.0
+    return BestOrientation(tilt, azimuth, value(tilt, azimuth))
+
+
+def energy_kwh(power_w, step_minutes: float, *, axis: int = 0) -> np.ndarray:
+    """Sum power over steps into energy.
+
+    Parameters
+    ----------
+    power_w : array_like
+        Power per step [W].
+    step_minutes : float
+        Length of a step [minutes].
+    axis : int, keyword-only, default 0
+        The time axis.
+
+    Returns
+    -------
+    numpy.ndarray
+        Energy [kWh].
+    """
+    step = check_range("step_minutes", step_minutes, 0, 1440, low_open=True)
+    return np.nansum(np.asarray(power_w, dtype=float), axis=axis) * step / 60.0 / 1000.0
+
+
+def _energy_arrays(power):
+    if power.ac_w is not None:
+        return power.ac_w, power.ac_unshaded_w, "AC"
+    return power.dc_w, power.dc_unshaded_w, "DC"
+
+
+def _percent(numerator, denominator):
+    numerator = np.asarray(numerator, dtype=float)
+    denominator = np.asarray(denominator, dtype=float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(denominator > 0, 100.0 * numerator / denominator, np.nan)
+
+
+def module_table(power, irradiance, modules, *, step_minutes: float,
+                 best: BestOrientation) -> pd.DataFrame:
+    """Per-module annual figures.
+
+    Parameters
+    ----------
+    power : layout.electrical.DcPower
+        Power per step and module, with and without shade.
+    irradiance : layout.irradiance.ModuleIrradiance
+        Plane-of-array irradiance per step and module, with and without shade.
+    modules : sequence of layout.placement.PlacedModule
+        The modules, in the column order of ``power`` and ``irradiance``.
+    step_minutes : float, keyword-only
+        Length of a step [minutes].
+    best : BestOrientation, keyword-only
+        The site's best unshaded plane, for TOF.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Indexed by module id: ``face``, ``orientation``, ``surface_tilt``,
+        ``surface_azimuth`` [degrees], ``energy_kwh``, ``energy_unshaded_kwh``,
+        ``shade_loss_pct``, ``poa_kwh_m2``, ``poa_unshaded_kwh_m2``, ``solar_access_pct``,
+        ``tof_pct``, ``tsrf_pct``. ``attrs["energy_basis"]`` is "AC" or "DC".
+    """
+    modules = tuple(modules)
+    shaded_w, unshaded_w, basis = _energy_arrays(power)
+    if shaded_w.shape[1] != len(modules):
+        raise InputError("modules", "must match the power columns", value=len(modules),
+                         allowed=str(shaded_w.shape[1]))
+    energy = energy_kwh(shaded_w, step_minutes)
+    unshaded = energy_kwh(unshaded_w, step_minutes)
+    poa = energy_kwh(irradiance.poa_global, step_minutes)
+    poa_unshaded = energy_kwh(irradiance.poa_global_unshaded, step_minutes)
+    access = _percent(poa, poa_unshaded)
+    tof = _percent(poa_unshaded, best.insolation_kwh_m2)
+    table = pd.DataFrame({
+        "face": [m.face for m in modules],
+        "orientation": [m.orientation for m in modules],
+        "surface_tilt": [m.tilt_deg for m in modules],
+        "surface_azimuth": [m.azimuth_deg for m in modules],
+        "energy_kwh": energy,
+        "energy_unshaded_kwh": unshaded,
+        "shade_loss_pct": 100.0 - _percent(energy, unshaded),
+        "poa_kwh_m2": poa,
+        "poa_unshaded_kwh_m2": poa_unshaded,
+        "solar_access_pct": access,
+        "tof_pct": tof,
+        "tsrf_pct": access * tof / 100.0,
+    }, index=pd.Index([m.id for m in modules], name="module_id"))
+    table.attrs["energy_basis"] = basis
+    return table
+
+
+_TABLE_COLUMNS = ("face", "orientation", "surface_tilt", "surface_azimuth", "energy_kwh",
+                  "energy_unshaded_kwh", "shade_loss_pct", "poa_kwh_m2", "poa_unshaded_kwh_m2",
+                  "solar_access_pct", "tof_pct", "tsrf_pct")
+
+
+def empty_module_table() -> pd.DataFrame:
+    """Return the per-module table of a layout without modules: the columns, no rows."""
+    table = pd.DataFrame({c: pd.Series(dtype=object if c in ("face", "orientation") else float)
+                          for c in _TABLE_COLUMNS},
+                         index=pd.Index([], name="module_id", dtype=object))
+    table.attrs["energy_basis"] = "DC"
+    return table
+
+
+def layout_totals(table: pd.DataFrame, *, power_w: float,
+                  tsrf_threshold_pct: float = DEFAULT_TSRF_THRESHOLD_PCT) -> dict:
+    """Totals of a per-module table for the whole layout.
+
+    Parameters
+    ----------
+    table : pandas.DataFrame
+        From :func:`module_table`.
+    power_w : float, keyword-only
+        STC power of one module [W].
+    tsrf_threshold_pct : float, keyword-only
+        TSRF below which a module is counted as poor [%].
+
+    Returns
+    -------
+    dict
+        ``modules``, ``power_kwp``, ``energy_kwh``, ``energy_unshaded_kwh``,
+        ``shade_loss_pct``, ``specific_yield_kwh_per_kwp``, ``solar_access_pct`` (mean),
+        ``tsrf_pct`` (mean), ``modules_below_tsrf``, ``tsrf_threshold_pct``,
+        ``energy_basis``.
+    """
+    n = len(table)
+    kwp = n * power_w / 1000.0
+    energy = float(table["energy_kwh"].sum())
+    unshaded = float(table["energy_unshaded_kwh"].sum())
+    return {
+        "modules": n,
+        "power_kwp": kwp,
+        "energy_kwh": energy,
+        "energy_unshaded_kwh": unshaded,
+        "shade_loss_pct": float(100.0 * (1.0 - energy / unshaded)) if unshaded > 0 else 0.0,
+        "specific_yield_kwh_per_kwp": energy / kwp if kwp > 0 else 0.0,
+        "solar_access_pct": float(table["solar_access_pct"].mean()) if n else float("nan"),
+        "tsrf_pct": float(table["tsrf_pct"].mean()) if n else float("nan"),
+        "modules_below_tsrf": int((table["tsrf_pct"] < tsrf_threshold_pct).sum()),
+        "tsrf_threshold_pct": tsrf_threshold_pct,
+        "energy_basis": table.attrs.get("energy_basis", "DC"),
+    }
+
+
+def monthly_table(power, *, step_minutes: float, columns=None) -> pd.DataFrame:
+    """Energy with and without shade and the shade loss, month by month.
+
+    Parameters
+    ----------
+    power : layout.electrical.DcPower
+        Power per step and module.
+    step_minutes : float, keyword-only
+        Length of a step [minutes].
+    columns : array_like of int or bool, keyword-only, optional
+        Modules (columns of ``power``) to include; default all.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Indexed by month 1–12: ``energy_kwh``, ``energy_unshaded_kwh``, ``shade_loss_pct``.
+    """
+    shaded_w, unshaded_w, basis = _energy_arrays(power)
+    if columns is not None:
+        shaded_w, unshaded_w = shaded_w[:, columns], unshaded_w[:, columns]
+    month = power.times.month
+    frame = pd.DataFrame({"energy_kwh": np.nansum(shaded_w, axis=1),
+                          "energy_unshaded_kwh": np.nansum(unshaded_w, axis=1)}, index=month)
+    monthly = frame.groupby(level=0).sum() * step_minutes / 60.0 / 1000.0
+    monthly = monthly.reindex(range(1, 13), fill_value=0.0)
+    monthly.index.name = "month"
+    monthly["shade_loss_pct"] = 100.0 - _percent(monthly["energy_kwh"],
+                                                 monthly["energy_unshaded_kwh"])
+    monthly.attrs["energy_basis"] = basis
+    return monthly
+
+
+def month_hour_loss(power, *, columns=None) -> pd.DataFrame:
+    """Shade loss by month and hour of day: the table behind a heat map.
+
+    Parameters
+    ----------
+    power : layout.electrical.DcPower
+        Power per step and module.
+    columns : array_like of int or bool, keyword-only, optional
+        Modules to include; default all.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Shade loss [%], rows month 1–12, columns hour 0–23 of the site's clock (the hour in
+        which each step's middle falls); NaN where the unshaded energy is zero (night).
+    """
+    shaded_w, unshaded_w, _ = _energy_arrays(power)
+    if columns is not None:
+        shaded_w, unshaded_w = shaded_w[:, columns], unshaded_w[:, columns]
+    times = power.times
+    frame = pd.DataFrame({"shaded": shaded_w.sum(axis=1), "unshaded": unshaded_w.sum(axis=1),
+                          "month": times.month, "hour": times.hour})
+    sums = frame.groupby(["month", "hour"])[["shaded", "unshaded"]].sum()
+    loss = 100.0 - _percent(sums["shaded"], sums["unshaded"])
+    table = pd.Series(loss, index=sums.index).unstack("hour")
+    table = table.reindex(index=range(1, 13), columns=range(24))
+    table.index.name = "month"
+    table.columns.name = "hour"
+    return table
