@@ -125,7 +125,7 @@ def _geometry_key(modules) -> tuple:
 
 def _roof_mounted(project) -> tuple:
     """Return the obstructions that stand on a roof face: only these change the fill."""
-    return tuple(ob for ob in project.obstructions
+    return tuple(ob for ob in project.scene_obstructions
                  if any(roof_mounted(face, ob) for face in project.faces))
 
 

@@ -208,9 +208,9 @@ def sun_steps(weather: Weather) -> SunSteps:
 def scene_casters(project) -> tuple:
     """Everything that can shade the project's modules, modules excepted.
 
-    The obstructions as entered (a far horizon included), and every roof face of every
-    building as a plate: the other wing of an L, a higher roof beside a lower one, the far
-    slope behind a ridge. A face never shades the points in its own plane, so the modules
+    The obstructions as entered and as surveyed (a far horizon included), and every roof face
+    of every building as a plate: the other wing of an L, a higher roof beside a lower one,
+    the far slope behind a ridge. A face never shades the points in its own plane, so the modules
     mounted flush on it are not shaded by it.
 
     Parameters
@@ -223,7 +223,7 @@ def scene_casters(project) -> tuple:
         Obstructions, horizon profiles and :class:`~layout.obstructions.Plate` objects.
     """
     faces = tuple(Plate.from_face(face) for face in project.faces)
-    return tuple(project.obstructions) + faces
+    return tuple(project.scene_obstructions) + faces
 
 
 def sky_view_ratio(modules, casters, *, n_directions: int = 1024) -> np.ndarray:

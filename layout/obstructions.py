@@ -370,6 +370,10 @@ class Tree:
         0 to 1]. None means opaque all year. See :meth:`deciduous` for a preset.
     name : str, default ""
         A label for the user.
+    growth_m_per_yr : float, default 0
+        How fast the tree grows taller [m/yr], 0 to 3; used to project its shade over the
+        system's life (:func:`layout.survey.grown_tree`). State forestry extension tables
+        class 0.30 m/yr or less as slow and 0.61 m/yr or more as fast (common practice).
     """
 
     center: tuple[float, float]
@@ -381,6 +385,7 @@ class Tree:
     crown_shape: str = "spheroid"
     transmittance: tuple[float, ...] | None = None
     name: str = ""
+    growth_m_per_yr: float = 0.0
 
     def __post_init__(self):
         set_ = object.__setattr__
@@ -401,11 +406,14 @@ class Tree:
             set_(self, "transmittance", tuple(
                 check_range(f"transmittance[{i}]", v, 0, 1) for i, v in enumerate(values)))
         set_(self, "name", _check_text("name", self.name))
+        set_(self, "growth_m_per_yr", check_range("growth_m_per_yr", self.growth_m_per_yr,
+                                                  0, 3, unit="m/yr"))
 
     @classmethod
     def deciduous(cls, center, height: float, crown_radius: float, crown_base: float,
                   trunk_radius: float = 0.2, *, hemisphere: str = "north",
-                  leaf_on_months=DECIDUOUS_LEAF_ON_MONTHS, name: str = "") -> Tree:
+                  leaf_on_months=DECIDUOUS_LEAF_ON_MONTHS, name: str = "",
+                  growth_m_per_yr: float = 0.0) -> Tree:
         """Build a deciduous tree: crown transmittance 0.2 in leaf, 0.6 leafless.
 
         Values from Heisler (1986) for sugar maple; see :func:`deciduous_transmittance` for the
@@ -414,7 +422,7 @@ class Tree:
         return cls(center, height, crown_radius, crown_base, trunk_radius,
                    transmittance=deciduous_transmittance(hemisphere=hemisphere,
                                                          leaf_on_months=leaf_on_months),
-                   name=name)
+                   name=name, growth_m_per_yr=growth_m_per_yr)
 
     @property
     def monthly_transmittance(self) -> np.ndarray:
@@ -454,17 +462,18 @@ class Tree:
                 "crown_radius": self.crown_radius, "crown_base": self.crown_base,
                 "trunk_radius": self.trunk_radius, "crown_shape": self.crown_shape,
                 "transmittance": None if self.transmittance is None else list(self.transmittance),
-                "name": self.name}
+                "name": self.name, "growth_m_per_yr": self.growth_m_per_yr}
 
     @classmethod
     def from_dict(cls, data: dict) -> Tree:
         """Inverse of :meth:`to_dict`; raises :class:`InputError` naming the bad field."""
         known = {"center", "height", "crown_radius", "crown_base", "trunk_radius",
-                 "crown_shape", "transmittance", "name"}
+                 "crown_shape", "transmittance", "name", "growth_m_per_yr"}
         _read("tree", data, known, ("center", "height", "crown_radius", "crown_base"), "tree")
         return cls(data["center"], data["height"], data["crown_radius"], data["crown_base"],
                    data.get("trunk_radius", 0.2), crown_shape=data.get("crown_shape", "spheroid"),
-                   transmittance=data.get("transmittance"), name=data.get("name", ""))
+                   transmittance=data.get("transmittance"), name=data.get("name", ""),
+                   growth_m_per_yr=data.get("growth_m_per_yr", 0.0))
 
 
 # --------------------------------------------------------------------------- thin plates

@@ -16,6 +16,7 @@ import os
 import tempfile
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
+from functools import cached_property
 from pathlib import Path
 
 from .building import Building
@@ -27,6 +28,7 @@ from .obstructions import obstruction_from_dict
 from .placement import FillOptions, Layout, fill_building_with_areas
 from .roof import RoofFace
 from .site import Site
+from .survey import SurveyEntry
 
 __all__ = [
     "FILE_SUFFIX",
@@ -48,7 +50,7 @@ FILE_SUFFIX = ".eaveline.json"
 UNIT_SYSTEMS = ("metric", "imperial")
 
 _SECTIONS = (SCHEMA_KEY, "name", "units", "notes", "site", "buildings", "obstructions", "module",
-             "clearance", "fill", "array_faces", "removed", "pathways", "energy")
+             "clearance", "fill", "array_faces", "removed", "pathways", "energy", "survey")
 
 
 class ProjectFileError(ValueError):
@@ -94,6 +96,11 @@ class Project:
         as access pathways (see :func:`layout.placement.fill_building`).
     obstructions : tuple
         Blocks, cylinders and trees around and on the roof (:mod:`layout.obstructions`).
+    survey : tuple of layout.survey.SurveyEntry
+        Field readings (distances, angles, bearings with their tolerances). Each one stands
+        in the scene as the obstruction its nominal readings give
+        (:attr:`scene_obstructions`); the readings are kept so that their tolerances can be
+        carried to the shade loss.
     removed : tuple
         Modules the user took out, as plain data understood by :class:`layout.placement.Layout`.
     pathways : dict or None
@@ -114,6 +121,7 @@ class Project:
     fill: FillOptions = field(default_factory=FillOptions)
     array_faces: tuple[str, ...] | None = None
     obstructions: tuple = ()
+    survey: tuple = ()
     removed: tuple = ()
     pathways: dict | None = None
     energy: EnergyOptions = field(default_factory=EnergyOptions)
@@ -124,6 +132,7 @@ class Project:
     def __post_init__(self):
         object.__setattr__(self, "buildings", tuple(self.buildings))
         object.__setattr__(self, "obstructions", tuple(self.obstructions))
+        object.__setattr__(self, "survey", tuple(self.survey))
         if self.array_faces is not None:
             object.__setattr__(self, "array_faces", tuple(self.array_faces))
         # Removals are (face, u, v) centres; Layout checks and normalises them.
@@ -131,6 +140,17 @@ class Project:
         problems = _cross_check(self)
         if problems:
             raise ProjectFileError(problems)
+
+    @cached_property
+    def scene_obstructions(self) -> tuple:
+        """Everything that stands around the roof: the obstructions, then the surveyed ones.
+
+        Surveyed obstructions are built from their nominal readings; a deciduous tree takes
+        its leaf-on months from the site's hemisphere.
+        """
+        hemisphere = "north" if self.site.latitude >= 0 else "south"
+        return self.obstructions + tuple(entry.obstruction(hemisphere=hemisphere)
+                                         for entry in self.survey)
 
     @property
     def faces(self) -> tuple[RoofFace, ...]:
@@ -165,7 +185,7 @@ class Project:
         for building in self.buildings:
             result, building_areas = fill_building_with_areas(
                 building, self.module, self.clearance, self.fill,
-                obstructions=self.obstructions, removed=self.removed,
+                obstructions=self.scene_obstructions, removed=self.removed,
                 pathway_faces=self.pathways, latitude=self.site.latitude,
                 array_faces=self.array_faces_of(building),
             )
@@ -214,6 +234,7 @@ def project_to_dict(project: Project) -> dict:
         "site": project.site.to_dict(),
         "buildings": [building.to_dict() for building in project.buildings],
         "obstructions": [obstruction.to_dict() for obstruction in project.obstructions],
+        "survey": [entry.to_dict() for entry in project.survey],
         "module": project.module.to_dict(),
         "clearance": project.clearance.to_dict(),
         "fill": project.fill.to_dict(),
@@ -333,6 +354,8 @@ def project_from_dict(data, *, source: str = "") -> Project:
     obstructions = [collect.take(f"obstructions[{i}]", obstruction_from_dict, entry)
                     for i, entry in enumerate(_need(data, "obstructions", list, problems,
                                                     default=[]) or [])]
+    survey = [collect.take(f"survey[{i}]", SurveyEntry.from_dict, entry)
+              for i, entry in enumerate(_need(data, "survey", list, problems, default=[]) or [])]
     removed = collect.take("removed", lambda entries: Layout(removed=entries).removed,
                            _need(data, "removed", list, problems, default=[]))
     pathways = data.get("pathways")
@@ -360,6 +383,7 @@ def project_from_dict(data, *, source: str = "") -> Project:
         return Project(
             site=site, buildings=tuple(buildings), module=module, clearance=clearance,
             fill=fill, array_faces=array_faces, obstructions=tuple(obstructions),
+            survey=tuple(survey),
             removed=tuple(removed or ()), pathways=pathways, energy=energy, units=units,
             name=name, notes=notes,
         )

@@ -839,9 +839,11 @@ class SurveyEntry:
             args = ((x, y), height, at("crown_radius_m"), at("crown_base"))
             if self.trunk_radius_m is not None:
                 args = (*args, self.trunk_radius_m)
+            growth = 0.0 if self.growth_m_per_yr is None else growth_rate(self.growth_m_per_yr)
             if self.deciduous:
-                return Tree.deciduous(*args, hemisphere=hemisphere, name=self.name)
-            return Tree(*args, name=self.name)
+                return Tree.deciduous(*args, hemisphere=hemisphere, name=self.name,
+                                      growth_m_per_yr=growth)
+            return Tree(*args, name=self.name, growth_m_per_yr=growth)
         if self.kind in CYLINDER_KINDS:
             return Cylinder((x, y), at("radius_m"), at("top_z"), at("base_z"), kind=self.kind,
                             name=self.name)
@@ -1176,7 +1178,7 @@ def _check_year(year) -> int:
     return int(year)
 
 
-def grown_tree(tree: Tree, years, *, growth, widen_crown: bool = True,
+def grown_tree(tree: Tree, years, *, growth=None, widen_crown: bool = True,
                max_height_m: float | None = None) -> Tree:
     """Return a tree as it stands ``years`` after it was surveyed.
 
@@ -1190,8 +1192,9 @@ def grown_tree(tree: Tree, years, *, growth, widen_crown: bool = True,
         The tree as surveyed.
     years : float
         Years after the survey, 0 to 100.
-    growth : {"slow", "medium", "fast"} or float, keyword-only
-        Growth class or rate [m/yr] (:func:`growth_rate`).
+    growth : {"slow", "medium", "fast"} or float or None, keyword-only
+        Growth class or rate [m/yr] (:func:`growth_rate`); None (the default) takes the
+        tree's own ``growth_m_per_yr``.
     widen_crown : bool, keyword-only, default True
         Scale the crown radius with the height.
     max_height_m : float or None, keyword-only
@@ -1204,7 +1207,7 @@ def grown_tree(tree: Tree, years, *, growth, widen_crown: bool = True,
     if not isinstance(tree, Tree):
         raise InputError("tree", "is not a Tree", value=type(tree).__name__)
     years = check_range("years", years, 0.0, 100.0, unit="years")
-    rate = growth_rate(growth)
+    rate = tree.growth_m_per_yr if growth is None else growth_rate(growth)
     height = tree.height + rate * years
     if max_height_m is not None:
         cap = check_range("max_height_m", max_height_m, 0.0, 200.0, unit="m", low_open=True)

@@ -189,3 +189,22 @@ def test_only_array_faces_take_modules(demo):
     assert {m.face for m in demo.layout().modules} == {"south"}
     everywhere = demo.with_changes(array_faces=None).layout()
     assert {m.face for m in everywhere.modules} == {"south", "north"}
+
+
+def test_survey_readings_round_trip_and_stand_in_the_scene(demo, tmp_path):
+    # A surveyed tree: 50 ft away at 17° to the top with a 5.5 ft eye height is 20.8 ft tall
+    # (REFERENCES.md, tangent method worked example).
+    from layout.survey import SurveyEntry
+    from layout.units import feet_to_m
+
+    entry = SurveyEntry("tree", 200.0, feet_to_m(50.0), 17.0, eye_height_m=feet_to_m(5.5),
+                        crown_radius_m=2.0, crown_base_m=2.5, growth_m_per_yr="medium",
+                        name="surveyed oak")
+    edited = demo.with_changes(survey=(entry,))
+    tree = edited.scene_obstructions[-1]
+    assert tree.name == "surveyed oak"
+    assert tree.height == pytest.approx(feet_to_m(20.79), abs=0.01)
+    assert tree.growth_m_per_yr > 0
+    again = load_project(save_project(edited, tmp_path / "surveyed"))
+    assert again.survey == edited.survey
+    assert again.scene_obstructions == edited.scene_obstructions
