@@ -11,12 +11,14 @@ import math
 from collections.abc import Iterable
 
 import numpy as np
+import shapely
 
 __all__ = [
     "InputError",
     "check_fields",
     "check_finite",
     "check_nonnegative",
+    "check_outline",
     "check_points",
     "check_positive",
     "check_range",
@@ -179,3 +181,47 @@ def check_fields(data, known, *, required=(), what: str) -> None:
     for key in required:
         if key not in data:
             raise InputError(key, "is missing")
+
+
+def check_outline(field: str, points) -> tuple[tuple[float, float], ...]:
+    """Check a plan outline typed by a user and return it as a tuple of float pairs.
+
+    A repeated first corner at the end (a closed ring as typed) is dropped. The outline must
+    have at least 3 corners, each corner once, edges that do not cross, and some area.
+
+    Parameters
+    ----------
+    field : str
+        Field name for messages ("outline", "footprint").
+    points : sequence of (x, y)
+        Corners [m].
+
+    Returns
+    -------
+    tuple of (float, float)
+        The corners, not closed.
+
+    Raises
+    ------
+    InputError
+        Naming the field (or the repeated corner) and what an outline needs.
+    """
+    pts = check_points(field, points, dims=2, min_count=3)
+    if len(pts) > 3 and np.allclose(pts[0], pts[-1], atol=1e-9, rtol=0):
+        pts = pts[:-1]
+    if len(pts) < 3:
+        raise InputError(field, "needs at least 3 distinct corners", value=len(pts),
+                         allowed=">= 3 corners")
+    _, first, counts = np.unique(np.round(pts, 9), axis=0, return_index=True, return_counts=True)
+    if (counts > 1).any():
+        dup = int(first[np.flatnonzero(counts > 1)[0]])
+        raise InputError(f"{field}[{dup}]", "corner is repeated", value=pts[dup].tolist(),
+                         allowed="each corner once")
+    polygon = shapely.Polygon(pts)
+    if not polygon.is_valid:
+        raise InputError(field, f"is not a simple polygon: {shapely.is_valid_reason(polygon)}",
+                         allowed="an outline whose edges do not cross")
+    if polygon.area < 1e-6:
+        raise InputError(field, "encloses no area", value=polygon.area,
+                         allowed="an area above 0 m²")
+    return tuple((float(x), float(y)) for x, y in pts)

@@ -53,7 +53,14 @@ from functools import cached_property
 import numpy as np
 import shapely
 
-from .errors import InputError, check_finite, check_points, check_positive, check_range
+from .errors import (
+    InputError,
+    check_finite,
+    check_outline,
+    check_points,
+    check_positive,
+    check_range,
+)
 
 __all__ = [
     "CROWN_SHAPES",
@@ -159,29 +166,6 @@ def _check_center(value) -> tuple[float, float]:
     return float(pts[0, 0]), float(pts[0, 1])
 
 
-def _check_footprint(value) -> tuple[tuple[float, float], ...]:
-    pts = check_points("footprint", value, dims=2, min_count=3)
-    if len(pts) > 3 and np.allclose(pts[0], pts[-1], atol=1e-9, rtol=0):
-        pts = pts[:-1]  # a closed ring as typed: drop the repeated first corner
-    if len(pts) < 3:
-        raise InputError("footprint", "needs at least 3 distinct corners", value=len(pts),
-                         allowed=">= 3 corners")
-    _, first, counts = np.unique(np.round(pts, 9), axis=0, return_index=True, return_counts=True)
-    if (counts > 1).any():
-        dup = int(first[np.flatnonzero(counts > 1)[0]])
-        raise InputError(f"footprint[{dup}]", "corner is repeated", value=pts[dup].tolist(),
-                         allowed="each corner once")
-    polygon = shapely.Polygon(pts)
-    if not polygon.is_valid:
-        raise InputError("footprint",
-                         f"is not a simple polygon: {shapely.is_valid_reason(polygon)}",
-                         allowed="an outline whose edges do not cross")
-    if polygon.area < 1e-6:
-        raise InputError("footprint", "encloses no area", value=polygon.area,
-                         allowed="an area above 0 m²")
-    return tuple((float(x), float(y)) for x, y in pts)
-
-
 def _check_top_base(top, base) -> tuple[float, float]:
     base = check_finite("base", base)
     top = check_finite("top", top)
@@ -239,7 +223,7 @@ class Block:
 
     def __post_init__(self):
         set_ = object.__setattr__
-        set_(self, "footprint", _check_footprint(self.footprint))
+        set_(self, "footprint", check_outline("footprint", self.footprint))
         top, base = _check_top_base(self.top, self.base)
         set_(self, "top", top)
         set_(self, "base", base)

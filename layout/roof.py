@@ -26,7 +26,7 @@ from functools import cached_property
 import numpy as np
 import shapely
 
-from .errors import InputError, check_fields, check_finite, check_points, check_range
+from .errors import InputError, check_fields, check_finite, check_outline, check_points, check_range
 from .units import pitch_from_rise
 
 __all__ = [
@@ -91,30 +91,6 @@ class Edge:
     plan_length_m: float
 
 
-def _clean_outline(outline) -> tuple[tuple[float, float], ...]:
-    """Validate a plan outline and return it as a tuple of float pairs (not closed)."""
-    pts = check_points("outline", outline, dims=2, min_count=3)
-    if len(pts) > 3 and np.allclose(pts[0], pts[-1], atol=1e-9, rtol=0):
-        pts = pts[:-1]  # a closed ring as typed: drop the repeated first point
-    if len(pts) < 3:
-        raise InputError("outline", "needs at least 3 distinct corners", value=len(pts),
-                         allowed=">= 3 corners")
-    rounded = np.round(pts, 9)
-    _, first, counts = np.unique(rounded, axis=0, return_index=True, return_counts=True)
-    if (counts > 1).any():
-        dup = int(first[np.flatnonzero(counts > 1)[0]])
-        raise InputError(f"outline[{dup}]", "corner is repeated", value=pts[dup].tolist(),
-                         allowed="each corner once")
-    polygon = shapely.Polygon(pts)
-    if not polygon.is_valid:
-        raise InputError("outline", f"is not a simple polygon: {shapely.is_valid_reason(polygon)}",
-                         allowed="an outline whose edges do not cross")
-    if polygon.area < 1e-6:
-        raise InputError("outline", "encloses no area", value=polygon.area,
-                         allowed="an area above 0 m²")
-    return tuple((float(x), float(y)) for x, y in pts)
-
-
 @dataclass(frozen=True)
 class RoofFace:
     """One plane of a roof: a plan outline lifted onto a tilted plane.
@@ -148,7 +124,7 @@ class RoofFace:
 
     def __post_init__(self):
         set_ = object.__setattr__
-        set_(self, "outline", _clean_outline(self.outline))
+        set_(self, "outline", check_outline("outline", self.outline))
         set_(self, "pitch_deg", check_range("pitch_deg", self.pitch_deg, 0, MAX_PITCH_DEG,
                                             unit="degrees"))
         set_(self, "azimuth_deg", check_range("azimuth_deg", self.azimuth_deg, 0, 360,
