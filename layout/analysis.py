@@ -272,7 +272,8 @@ class Analysis:
                 ran.append("rays")
                 clock = self._stage("rays", clock)
                 self._say("measuring how much sky each module sees", 4)
-                self._sky = sky_view_ratio(modules, casters, n_directions=energy.sky_directions)
+                self._sky = sky_view_ratio(modules, casters, n_directions=energy.sky_directions,
+                                           include_modules=_needs_module_casters(modules))
                 ran.append("sky")
                 clock = self._stage("sky", clock)
             else:

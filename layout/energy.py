@@ -226,7 +226,8 @@ def scene_casters(project) -> tuple:
     return tuple(project.scene_obstructions) + faces
 
 
-def sky_view_ratio(modules, casters, *, n_directions: int = 1024) -> np.ndarray:
+def sky_view_ratio(modules, casters, *, n_directions: int = 1024,
+                   include_modules: bool = True) -> np.ndarray:
     """Sky-view ratio of each module: its isotropic sky with the scene over without.
 
     Both factors are integrated on the same fixed set of directions
@@ -240,6 +241,9 @@ def sky_view_ratio(modules, casters, *, n_directions: int = 1024) -> np.ndarray:
     casters : sequence
         As from :func:`scene_casters`.
     n_directions : int, keyword-only, default 1024
+    include_modules : bool, keyword-only, default True
+        Let the modules hide each other's sky (tilted racks); flush modules lie in their
+        face's plane and cannot, so the caller may skip them.
 
     Returns
     -------
@@ -249,7 +253,8 @@ def sky_view_ratio(modules, casters, *, n_directions: int = 1024) -> np.ndarray:
     modules = tuple(modules)
     if not modules:
         return np.zeros(0)
-    scene = module_sky_view(modules, casters, n_directions=n_directions)
+    scene = module_sky_view(modules, casters, n_directions=n_directions,
+                            include_modules=include_modules)
     open_sky = module_sky_view(modules, (), include_modules=False, n_directions=n_directions)
     with np.errstate(invalid="ignore", divide="ignore"):
         ratio = np.where(open_sky > 0, scene / open_sky, 0.0)
