@@ -31,20 +31,24 @@ import numpy as np
 import pandas as pd
 from scipy import optimize
 
-from .errors import InputError, check_range
+from .errors import InputError, check_nonnegative, check_range
 from .irradiance import plane_of_array
 from .weather import Weather
 
 __all__ = [
+    "COMPARISON_COLUMNS",
     "DEFAULT_TSRF_THRESHOLD_PCT",
     "BestOrientation",
     "best_orientation",
+    "comparison_table",
     "empty_module_table",
     "energy_kwh",
+    "face_table",
     "layout_totals",
     "module_table",
     "month_hour_loss",
     "monthly_table",
+    "worst_modules",
 ]
 
 #: TSRF below which a module is flagged [%] (incentive programmes ask 75–80 %; common practice).
@@ -320,3 +324,112 @@ def month_hour_loss(power, *, columns=None) -> pd.DataFrame:
     table.index.name = "month"
     table.columns.name = "hour"
     return table
+
+
+def face_table(table: pd.DataFrame, *, power_w: float,
+               tsrf_threshold_pct: float = DEFAULT_TSRF_THRESHOLD_PCT) -> pd.DataFrame:
+    """Totals of each roof face, by the same definitions as :func:`layout_totals`.
+
+    Parameters
+    ----------
+    table : pandas.DataFrame
+        From :func:`module_table`.
+    power_w : float, keyword-only
+        STC power of one module [W].
+    tsrf_threshold_pct : float, keyword-only
+        TSRF below which a module is counted as poor [%].
+
+    Returns
+    -------
+    pandas.DataFrame
+        Indexed by face name (in order of first appearance): ``modules``, ``power_kwp``,
+        ``energy_kwh``, ``energy_unshaded_kwh``, ``shade_loss_pct``,
+        ``specific_yield_kwh_per_kwp``, ``solar_access_pct`` and ``tsrf_pct`` (means over the
+        face's modules), ``modules_below_tsrf``.
+    """
+    columns = ("modules", "power_kwp", "energy_kwh", "energy_unshaded_kwh", "shade_loss_pct",
+               "specific_yield_kwh_per_kwp", "solar_access_pct", "tsrf_pct",
+               "modules_below_tsrf")
+    rows = {}
+    for face in dict.fromkeys(table["face"]):
+        part = table[table["face"] == face]
+        part.attrs = dict(table.attrs)
+        totals = layout_totals(part, power_w=power_w, tsrf_threshold_pct=tsrf_threshold_pct)
+        rows[face] = [totals[c] for c in columns]
+    frame = pd.DataFrame.from_dict(rows, orient="index", columns=list(columns))
+    frame = frame.astype({"modules": int, "modules_below_tsrf": int})
+    frame.index.name = "face"
+    frame.attrs["energy_basis"] = table.attrs.get("energy_basis", "DC")
+    return frame
+
+
+def worst_modules(table: pd.DataFrame, *, min_tsrf_pct: float | None = None,
+                  min_energy_kwh: float | None = None,
+                  max_shade_loss_pct: float | None = None) -> tuple[str, ...]:
+    """Ids of the modules that fail any of the given limits ("the worst modules").
+
+    Parameters
+    ----------
+    table : pandas.DataFrame
+        From :func:`module_table`, indexed by module id.
+    min_tsrf_pct : float, keyword-only, optional
+        A module with TSRF below this is worst [%], 0 to 100.
+    min_energy_kwh : float, keyword-only, optional
+        A module whose annual energy is below this is worst [kWh], 0 or more.
+    max_shade_loss_pct : float, keyword-only, optional
+        A module whose shade loss is above this is worst [%], 0 to 100.
+
+    Returns
+    -------
+    tuple of str
+        Module ids in table order. A limit left as None is not applied; a module whose figure
+        is undefined (NaN: no light at all on its plane) fails the limit.
+    """
+    fails = np.zeros(len(table), dtype=bool)
+    if min_tsrf_pct is not None:
+        limit = check_range("min_tsrf_pct", min_tsrf_pct, 0, 100, unit="%")
+        fails |= ~(table["tsrf_pct"].to_numpy(dtype=float) >= limit)
+    if min_energy_kwh is not None:
+        limit = check_nonnegative("min_energy_kwh", min_energy_kwh, unit="kWh")
+        fails |= ~(table["energy_kwh"].to_numpy(dtype=float) >= limit)
+    if max_shade_loss_pct is not None:
+        limit = check_range("max_shade_loss_pct", max_shade_loss_pct, 0, 100, unit="%")
+        fails |= ~(table["shade_loss_pct"].to_numpy(dtype=float) <= limit)
+    return tuple(str(i) for i in table.index[fails])
+
+
+#: Columns of :func:`comparison_table`, in order.
+COMPARISON_COLUMNS = ("modules", "power_kwp", "energy_kwh", "specific_yield_kwh_per_kwp",
+                      "shade_loss_pct", "tsrf_mean_pct", "modules_below_tsrf",
+                      "energy_unshaded_kwh", "solar_access_mean_pct")
+
+
+def comparison_table(totals_by_option) -> pd.DataFrame:
+    """Layouts side by side, one row per option, from each option's :func:`layout_totals`.
+
+    Parameters
+    ----------
+    totals_by_option : mapping of str to dict
+        Option name → the option's totals (from :func:`layout_totals`).
+
+    Returns
+    -------
+    pandas.DataFrame
+        Indexed by ``option``: ``modules``, ``power_kwp``, ``energy_kwh`` (annual),
+        ``specific_yield_kwh_per_kwp``, ``shade_loss_pct``, ``tsrf_mean_pct``,
+        ``modules_below_tsrf``, ``energy_unshaded_kwh``, ``solar_access_mean_pct``.
+        ``attrs`` carries ``tsrf_threshold_pct`` and ``energy_basis`` when every option
+        shares them.
+    """
+    names = {"tsrf_mean_pct": "tsrf_pct", "solar_access_mean_pct": "solar_access_pct"}
+    rows = {str(option): [totals[names.get(c, c)] for c in COMPARISON_COLUMNS]
+            for option, totals in totals_by_option.items()}
+    frame = pd.DataFrame.from_dict(rows, orient="index", columns=list(COMPARISON_COLUMNS))
+    if len(frame):
+        frame = frame.astype({"modules": int, "modules_below_tsrf": int})
+    frame.index.name = "option"
+    for key in ("tsrf_threshold_pct", "energy_basis"):
+        values = {totals.get(key) for totals in totals_by_option.values()}
+        if len(values) == 1:
+            frame.attrs[key] = values.pop()
+    return frame

@@ -64,6 +64,7 @@ __all__ = [
     "FILE_CAVEAT",
     "FILE_KINDS",
     "LABEL_SHIFT",
+    "MAX_STATION_DISTANCE_KM",
     "Weather",
     "clear_sky",
     "read_weather_file",
@@ -293,7 +294,8 @@ def read_weather_file(path, *, kind: str | None = None, site: Site | None = None
         File format; default from the extension (``.csv`` TMY3, ``.tm2`` TMY2, ``.epw``).
     site : layout.site.Site, keyword-only, optional
         Overrides the site of the file's header (latitude, longitude, altitude, zone). The
-        weather values are used as they are; a note warns when the sites are far apart.
+        weather values are used as they are; a note warns when the station is more than
+        100 km away, and a station beyond :data:`MAX_STATION_DISTANCE_KM` is refused.
     year : int, keyword-only, default 2023
         Calendar year every timestamp is moved into (typical-year files mix years).
     albedo : float, keyword-only, optional
@@ -347,6 +349,14 @@ def read_weather_file(path, *, kind: str | None = None, site: Site | None = None
         if not isinstance(site, Site):
             raise InputError("site", "must be a layout.site.Site", value=type(site).__name__)
         distance_km = _distance_km(site, file_site)
+        if distance_km > MAX_STATION_DISTANCE_KM:
+            raise InputError(
+                "weather_file",
+                f"its station ({file_site.name or 'unnamed'}) is {distance_km:.0f} km from the "
+                "site, so its hours of sun and the site's would be out of step",
+                value=text,
+                allowed=f"a file whose station lies within {MAX_STATION_DISTANCE_KM:.0f} km of "
+                        "the site, or the file's own site")
         if distance_km > 100.0:
             notes.append(f"the weather file's station ({file_site.name}) is {distance_km:.0f} km "
                          "from the site")
@@ -386,6 +396,13 @@ def read_weather_file(path, *, kind: str | None = None, site: Site | None = None
         source += f" ({header['name']})"
     return Weather(data=frame, solar_position=sun, site=site, source=source,
                    is_clear_sky=False, step_minutes=step_minutes, notes=tuple(notes))
+
+
+#: Farthest a weather file's station may lie from the site it is used for [km]. Beyond it the
+#: file's hourly sun (its local solar time moves 4 minutes per degree of longitude) and the
+#: site's drift apart by more than a quarter of an hour at mid-latitudes, and the climate is
+#: another one (our rule; typical-year stations are rarely farther apart than this).
+MAX_STATION_DISTANCE_KM = 250.0
 
 
 def _distance_km(a: Site, b: Site) -> float:

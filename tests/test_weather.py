@@ -153,9 +153,13 @@ def test_site_override_keeps_instants_and_warns_when_far():
     assert str(weather.times.tz) == "America/New_York"
     assert (weather.times == base.times).all()  # same instants, another zone
     assert not any("km" in n for n in weather.notes)
-    far = read_weather_file(GREENSBORO, site=Site(40.0, -105.0, "America/Denver"))
-    assert any("km from the site" in n for n in far.notes)
-    assert far.site.latitude == 40.0
+    # about 150 km west of the station (1.67° of longitude at 36° N): used, with a note
+    near = read_weather_file(GREENSBORO, site=Site(36.1, -81.6, "America/New_York"))
+    assert any("km from the site" in n for n in near.notes)
+    assert near.site.longitude == -81.6
+    # half a continent away: the file's hours of sun would not be the site's; refused
+    with pytest.raises(InputError, match=r"weather_file.*km from the site"):
+        read_weather_file(GREENSBORO, site=Site(40.0, -105.0, "America/Denver"))
 
 
 def test_clear_sky_equals_pvlib_ineichen_directly():
