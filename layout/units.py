@@ -71,7 +71,8 @@ def parse_length(text, *, default_unit: str = "m", field: str = "length") -> flo
 
     Accepts a bare number (in ``default_unit``), a number with a unit (``"3.2 m"``,
     ``"457 mm"``, ``"18 in"``, ``"36\""``), or feet and inches together (``"11 ft 6 in"``,
-    ``"11' 6\""``, ``"11 ft 6"``: a bare number after feet is inches).
+    ``"11' 6\""``, ``"11 ft 6"``: a bare number after feet is inches). A leading minus
+    applies to the whole length.
 
     Parameters
     ----------
@@ -99,6 +100,10 @@ def parse_length(text, *, default_unit: str = "m", field: str = "length") -> flo
     source = str(text).strip()
     if not source:
         raise InputError(field, "is empty", allowed="a length such as 3.2 m or 11 ft 6 in")
+    if source[0] in "-\u2212" and len(source) > 1 and source[1:].strip()[:1] not in "-+\u2212":
+        # a leading minus applies to the whole length: "-3 ft 3.75 in" (a coordinate west or
+        # south of the origin) is minus three feet three and three quarter inches
+        return -parse_length(source[1:].strip(), default_unit=default_unit, field=field)
     total = 0.0
     position = 0
     parts = 0

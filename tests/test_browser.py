@@ -1,9 +1,10 @@
 """The planner as a web app in a real browser: Voila, headless Chromium, a mouse drag.
 
 Starts Voila on 127.0.0.1 with ``example_notebooks/planner.ipynb``, opens it in Debian's
-Chromium through Playwright, drags the chimney's marker across the south roof, and checks that
-the module count the page shows is the count the core computes for the chimney where the app
-says it now stands. A screenshot of the app after the drag is saved as a test artefact.
+Chromium through Playwright, drags the tree's marker toward the house, and checks that the
+annual shade loss the page shows is the one a fresh evaluation by the core
+(:func:`layout.analysis.evaluate`) gives for the tree where the app says it now stands. A
+screenshot of the app after the drag is saved as a test artefact.
 
 Without Chromium, Playwright or Voila the test is skipped with the reason; under CI
 (``CI=true``) it fails instead, so that CI never passes without running it.
@@ -22,7 +23,8 @@ from pathlib import Path
 import pytest
 
 from layout import load_demo_project
-from layout.units import parse_length
+from layout.analysis import evaluate
+from widgets.forms import read_length
 from widgets.plan_view import obstruction_anchor
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -30,10 +32,10 @@ NOTEBOOK = ROOT / "example_notebooks" / "planner.ipynb"
 CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
                  "--no-first-run", "--disable-background-networking",
                  "--disable-component-update", "--disable-sync"]
-# Where the chimney is dragged [m]: into the south array, where every point within 0.3 m
-# leaves fewer modules than the demo's layout in Project.layout() (checked when the target was
-# chosen); the expected count is still computed from the position the app reports.
-TARGET_M = (3.0, 2.0)
+# Where the tree is dragged [m]: about 1.8 m nearer the house, still off the roof, so the
+# module count stays and the shade loss rises; the expected loss is computed from the
+# position the app reports.
+TARGET_M = (-1.0, -6.5)
 
 
 def _chromium() -> str | None:
@@ -126,18 +128,23 @@ def _centre(box) -> tuple[float, float]:
     return box["x"] + box["width"] / 2, box["y"] + box["height"] / 2
 
 
-def test_dragging_the_chimney_updates_the_module_count(voila_url, browser_tools, tmp_path):
+def _loss(text: str) -> float:
+    return float(re.search(r"shade loss ([\d.]+) %", text).group(1))
+
+
+def test_dragging_the_tree_updates_the_annual_shade_loss(voila_url, browser_tools, tmp_path):
     from playwright.sync_api import expect, sync_playwright
 
     project = load_demo_project()
     names = ["chimney", "plumbing vent", "silver maple (south-west)"]
     anchors = {o.name: obstruction_anchor(o) for o in project.obstructions}
     assert [o.name for o in project.obstructions[:3]] == names
+    tree_name = names[2]
 
     with sync_playwright() as p:
         browser = p.chromium.launch(executable_path=browser_tools, args=CHROMIUM_ARGS)
         try:
-            page = browser.new_page(viewport={"width": 1400, "height": 1000})
+            page = browser.new_page(viewport={"width": 1400, "height": 1100})
             page.route("**/*", lambda route: route.continue_()
                        if route.request.url.startswith(voila_url) else route.abort())
             page.goto(voila_url, wait_until="domcontentloaded")
@@ -148,51 +155,62 @@ def test_dragging_the_chimney_updates_the_module_count(voila_url, browser_tools,
                     has=page.locator("text.dot_text", has_text=re.compile(f"^{re.escape(name)}$")))
                 return point.locator("path.dot")
 
-            marker("chimney").wait_for(timeout=40_000)
-            count = page.locator(".eaveline-count")
-            before = count.inner_text()
-            assert before.startswith(f"{project.layout().count} modules")
+            marker(tree_name).wait_for(timeout=40_000)
+            totals = page.locator(".eaveline-totals")
+            expect(totals).to_contain_text("shade loss", timeout=15_000)
+            before = totals.inner_text()
+            count_before = page.locator(".eaveline-count").inner_text()
+            assert count_before.startswith(f"{project.layout().count} modules")
 
             # pixels per metre from the markers' own positions (equal axes: one scale)
             px = {name: _centre(marker(name).bounding_box()) for name in names}
             chimney, vent, tree = (anchors[n] for n in names)
             per_m_x = (px["plumbing vent"][0] - px["chimney"][0]) / (vent[0] - chimney[0])
-            per_m_y = (px["silver maple (south-west)"][1] - px["chimney"][1]) / (
-                tree[1] - chimney[1])
+            per_m_y = (px[tree_name][1] - px["chimney"][1]) / (tree[1] - chimney[1])
             assert per_m_y == pytest.approx(-per_m_x, rel=0.02)  # equal aspect on screen
-            start = px["chimney"]
-            end = (start[0] + (TARGET_M[0] - chimney[0]) * per_m_x,
-                   start[1] + (TARGET_M[1] - chimney[1]) * per_m_y)
+            start = px[tree_name]
+            end = (start[0] + (TARGET_M[0] - tree[0]) * per_m_x,
+                   start[1] + (TARGET_M[1] - tree[1]) * per_m_y)
 
             page.mouse.move(*start)
             page.mouse.down()
             page.mouse.move(*end, steps=8)
             released = time.perf_counter()
             page.mouse.up()
+            page.wait_for_function(
+                "before => document.querySelector('.eaveline-totals').innerText !== before",
+                arg=before, polling="raf", timeout=15_000)
+            elapsed_ms = (time.perf_counter() - released) * 1000
             moved = page.locator(".eaveline-last-move")
-            expect(moved).to_contain_text("chimney moved to", timeout=15_000)
-            text = moved.inner_text()
-            found = re.search(r"x = (.+), y = (.+)$", text.strip())
-            x_m, y_m = parse_length(found.group(1)), parse_length(found.group(2))
+            expect(moved).to_contain_text(f"{tree_name} moved to", timeout=15_000)
+            found = re.search(r"x = (.+), y = (.+)$", moved.inner_text().strip())
+            x_m = read_length(found.group(1), "imperial", field="x")
+            y_m = read_length(found.group(2), "imperial", field="y")
             # the marker landed near where the mouse let go (within a few pixels)
             assert abs(x_m - TARGET_M[0]) * abs(per_m_x) < 6
             assert abs(y_m - TARGET_M[1]) * abs(per_m_y) < 6
 
-            # the core's own count for the chimney where the app says it stands
-            ax, ay = anchors["chimney"]
+            # a fresh evaluation by the core, of the tree where the app says it stands
             obstructions = list(project.obstructions)
-            obstructions[0] = obstructions[0].translated(x_m - ax, y_m - ay)
-            expected = project.with_changes(obstructions=tuple(obstructions)).layout()
-            assert not before.startswith(f"{expected.count} modules"), \
-                "the drag should change the module count"
-            expect(count).to_contain_text(f"{expected.count} modules", timeout=15_000)
-            elapsed_ms = (time.perf_counter() - released) * 1000
-            kwp = expected.kwp(project.module)
-            assert f"{kwp:.2f} kWp" in count.inner_text()
+            obstructions[2] = obstructions[2].translated(x_m - tree[0], y_m - tree[1])
+            core = evaluate(project.with_changes(obstructions=tuple(obstructions))).totals
+            after = totals.inner_text()
+            assert _loss(after) == pytest.approx(core["shade_loss_pct"], abs=0.005)
+            assert _loss(after) > _loss(before) + 0.05  # the tree nearer the house costs more
+            assert f"{core['energy_kwh']:,.0f} kWh a year" in after
+            assert page.locator(".eaveline-count").inner_text() == count_before
 
+            # the timeline draws the shadows of 21 December, 9:00; the Sky tab shows the sky
+            # seen from the selected module
+            page.locator(".eaveline-timeline button", has_text="Shadows").click()
+            expect(page.locator(".eaveline-sun-readout")).to_contain_text("sun at azimuth",
+                                                                          timeout=15_000)
+            page.locator(".eaveline-side .lm-TabBar-tab", has_text="Sky").click()
+            expect(page.locator(".eaveline-sky-table")).to_contain_text("year", timeout=15_000)
             shot = tmp_path / "planner-after-drag.png"
             page.screenshot(path=str(shot), full_page=True)
-            print(f"\nscreenshot: {shot}\nmouse-up to new count on screen: {elapsed_ms:.0f} ms")
+            print(f"\nscreenshot: {shot}\nmouse-up to new shade loss on screen: "
+                  f"{elapsed_ms:.0f} ms")
             assert shot.stat().st_size > 10_000
         finally:
             browser.close()

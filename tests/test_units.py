@@ -129,3 +129,11 @@ def test_rise_arrays():
     np.testing.assert_allclose(rise_from_pitch(pitches), rises, rtol=1e-12)
     # the IFC 2021 §1205.2 exemption threshold: 2:12 is 9.46°
     assert pitches[0] == pytest.approx(9.46, abs=5e-3)
+
+
+def test_a_leading_minus_applies_to_the_whole_length():
+    # -3 ft 3.75 in = -(3 × 0.3048 + 3.75 × 0.0254) m exactly (1959 international foot)
+    assert parse_length("-3 ft 3.75 in") == pytest.approx(-(3 * 0.3048 + 3.75 * 0.0254), abs=1e-12)
+    assert parse_length(format_length(-1.0097, "imperial")) == pytest.approx(-1.0097, abs=0.0032)
+    with pytest.raises(InputError):
+        parse_length("--2 m")

@@ -16,14 +16,15 @@ import shapely
 from shapely.geometry import shape
 
 from layout import load_demo_project
-from layout.placement import compare_orientations
+from layout.analysis import Analysis, evaluate
+from layout.compare import compare_layouts
 from layout.project import project_to_dict
 from layout.units import FOOT_M, INCH_M
 from widgets import Planner
 from widgets.__main__ import voila_command
 from widgets.export import layout_geojson, module_table
 from widgets.plan_view import obstruction_anchor, plan_scene
-from widgets.planner import compare_table, fill_project, snap_length
+from widgets.planner import FIGURES, snap_length
 from widgets.style import FIGURE_SCALE, figure_colours, hex_to_rgb
 
 # A point in the middle of the demo's south array [m]: the chimney dropped here costs a module
@@ -36,9 +37,36 @@ def demo():
     return load_demo_project()
 
 
-@pytest.fixture
-def planner(demo):
+@pytest.fixture(scope="module")
+def shared_planner(demo):
+    # One planner for the file: its analysis reads the weather once (about a second); each
+    # test gets it back on the demo project with the controls as a new planner has them.
     return Planner(demo)
+
+
+@pytest.fixture
+def planner(shared_planner, demo):
+    p = shared_planner
+    p.timeline.enabled.value = False
+    p.tabs.selected_index = 0
+    p.click_mode.value = "toggle"
+    p.colour_by.value = "shade_loss_pct"
+    p.hours_scope.value = "module"
+    p.preset.value = "as in the project"
+    p.selected_id = None
+    assert p.set_project(demo)
+    return p
+
+
+@pytest.fixture(scope="module")
+def reference(demo):
+    """A separate analysis of the core, for the figures the planner must show."""
+    return Analysis(demo)
+
+
+def core_result(reference, project):
+    reference.update(project)
+    return reference.result
 
 
 def shown_count(planner) -> int:
@@ -47,6 +75,17 @@ def shown_count(planner) -> int:
 
 def shown_kwp(planner) -> float:
     return float(re.search(r"<b>([\d.]+)</b> kWp", planner.count_label.value).group(1))
+
+
+def shown_loss(planner) -> float:
+    """Annual shade loss of the layout as the totals line shows it [%]."""
+    return float(re.search(r"eaveline-shade-loss'>([\d.]+)<", planner.totals_label.value)
+                 .group(1))
+
+
+def shown_energy(planner) -> float:
+    return float(re.search(r"<b>([\d,]+)</b> kWh a year", planner.totals_label.value)
+                 .group(1).replace(",", ""))
 
 
 def drop_marker(planner, index, x_display, y_display):
@@ -76,8 +115,8 @@ def test_shown_count_and_kwp_are_the_cores(planner, demo):
     assert planner.array_layout.count == core.count
 
 
-def test_fill_project_gives_the_same_layout_as_project_layout(demo):
-    layout, areas = fill_project(demo)
+def test_planner_layout_is_project_layout(planner, demo):
+    layout, areas = planner.array_layout, planner.areas
     core = demo.layout()
     assert [m.id for m in layout.modules] == [m.id for m in core.modules]
     assert layout.removed == core.removed
@@ -105,7 +144,7 @@ def test_plan_axes_are_equal_and_in_feet_for_an_imperial_project(planner, demo):
 
 
 def test_plan_shows_usable_area_mapped_to_plan(demo):
-    layout, areas = fill_project(demo)
+    layout, areas = demo.fill_with_areas()
     scene = plan_scene(demo, layout, areas)
     faces = {f.name: f for f in demo.faces}
     for name, geometry in scene.usable:
@@ -162,7 +201,7 @@ def test_a_second_notification_of_the_same_drop_changes_nothing(planner):
 # --------------------------------------------------------------------------- clicks
 def test_click_takes_a_module_out_and_puts_it_back(planner, demo):
     targets = planner.plan.module_targets
-    module_id = targets.names[3]
+    module_id = planner.plan.module_ids[3]
     targets.selected = [3]  # what a click does with interactions={"click": "select"}
     assert len(planner.project.removed) == 1
     core = planner.project.layout()
@@ -283,23 +322,20 @@ def test_units_toggle_is_kept_in_the_project(planner, demo):
 
 
 # --------------------------------------------------------------------------- Compare tab
-def test_compare_table_is_the_cores(planner, demo):
-    planner.tabs.selected_index = 2
+def test_compare_tab_is_the_cores_comparison(planner, demo, reference):
+    planner.show_tab("Compare")
     table = planner.compare_result
-    building = demo.buildings[0]
-    core = compare_orientations(building, demo.module, rules=demo.clearance, options=demo.fill,
-                                obstructions=demo.obstructions, latitude=demo.site.latitude,
-                                array_faces=demo.array_faces_of(building)).set_index("option")
+    core = compare_layouts(demo, analysis=reference).table  # the core's, on its own analysis
+    assert list(table.index) == list(core.index)
     assert table["modules"].tolist() == core["modules"].tolist()
-    assert list(planner.compare_bars.y) == core["modules"].astype(float).tolist()
-    # the option in force fills like Project.layout()
-    assert table.loc["portrait, grid", "modules"] == demo.layout().count
-
-
-def test_compare_table_sums_buildings(demo):
-    table = compare_table(demo)
-    assert table.loc["portrait, grid", "power_kwp"] == pytest.approx(
-        table.loc["portrait, grid", "modules"] * demo.module.power_w / 1000)
+    assert table["energy_kwh"].to_numpy() == pytest.approx(core["energy_kwh"].to_numpy(),
+                                                            rel=1e-9)
+    assert list(planner.compare_bars.y) == pytest.approx(core["energy_kwh"].tolist(), rel=1e-9)
+    # the option in force fills like Project.layout(), and the plan's analysis is put back
+    assert table.loc["portrait", "modules"] == demo.layout().count
+    assert planner.analysis.project is demo
+    assert shown_loss(planner) == pytest.approx(planner.result.totals["shade_loss_pct"],
+                                                abs=0.005)
 
 
 # --------------------------------------------------------------------------- files
@@ -309,11 +345,11 @@ def test_save_and_load_round_trip(planner, tmp_path, demo):
     written = planner.save()
     assert written.name == "job.eaveline.json"
     saved = planner.project
-    other = Planner(demo)
-    other.project_path.value = str(written)
-    assert other.load()
-    assert project_to_dict(other.project) == project_to_dict(saved)
-    assert shown_count(other) == saved.layout().count
+    assert planner.set_project(demo)
+    planner.project_path.value = str(written)
+    assert planner.load()
+    assert project_to_dict(planner.project) == project_to_dict(saved)
+    assert shown_count(planner) == saved.layout().count
 
 
 def test_load_of_a_bad_file_keeps_the_project(planner, tmp_path, demo):
@@ -401,9 +437,11 @@ def test_app_command_listens_on_localhost_only():
 
 
 def test_plan_redraw_is_quick(planner):
-    # the Python side of a drop: refill by the core and redraw (issue target: 100 ms)
-    drop_marker(planner, 0, 4.5 / FOOT_M, 2.0 / FOOT_M)
-    assert planner.last_recompute_s < 1.0
+    # the Python side of a drop: analysis update and redraw (issue target: 100 ms; the
+    # benchmark measures it, this only catches a gross slowdown on a busy machine)
+    drop_marker(planner, 2, -1.0 / FOOT_M, -7.0 / FOOT_M)
+    assert planner.analysis.recomputed[0] == "rays"  # the tree's rays only, no refill
+    assert planner.last_recompute_s < 2.0
 
 
 def test_hatching_stays_inside_the_zone():
@@ -413,3 +451,235 @@ def test_hatching_stays_inside_the_zone():
     for segment in _hatch(zone, 0.1):
         line = shapely.LineString(segment)
         assert zone.buffer(1e-9).covers(line)
+
+
+# --------------------------------------------------------------------------- analysis figures
+TREE = 2  # the silver maple: off the roof, so moving it changes shade, never the fill
+
+
+def test_totals_shown_are_the_cores(planner, demo, reference):
+    totals = core_result(reference, demo).totals  # the core's own analysis, not the planner's
+    assert shown_loss(planner) == pytest.approx(totals["shade_loss_pct"], abs=0.005)
+    assert shown_energy(planner) == pytest.approx(totals["energy_kwh"], abs=0.5)
+    assert f"mean TSRF <b>{totals['tsrf_pct']:.1f}</b> %" in planner.totals_label.value
+    assert f"below {totals['tsrf_threshold_pct']:g} % TSRF" in planner.totals_label.value
+    # clear sky by default: its caveat is on screen
+    assert demo.energy.weather_file is None
+    assert "overstates" in planner.caveat_label.value
+
+
+def test_dragging_the_tree_updates_every_module_and_the_totals(planner, demo):
+    before = shown_loss(planner)
+    target = (-1.0, -6.0)  # metres: the tree a metre and a half nearer the house
+    drop_marker(planner, TREE, target[0] / FOOT_M, target[1] / FOOT_M)
+    x, y = (snap_length(v, "imperial") for v in target)
+    moved = moved_project(demo, TREE, x, y)
+    core = evaluate(moved)  # fresh evaluation of the moved tree
+    assert planner.analysis.recomputed[0] == "rays"  # no refill: the tree stands off the roof
+    assert shown_loss(planner) == pytest.approx(core.totals["shade_loss_pct"], abs=0.005)
+    assert shown_loss(planner) != pytest.approx(before, abs=0.01)
+    shown = planner.result.table
+    pd.testing.assert_series_equal(shown["energy_kwh"], core.table["energy_kwh"], rtol=1e-9)
+    # the plan colours every module by its new shade loss
+    values = planner.plan.module_values
+    assert values.to_numpy() == pytest.approx(core.table["shade_loss_pct"].to_numpy(),
+                                              rel=1e-9)
+    worst = core.table["shade_loss_pct"].idxmax()
+    index = planner.plan.module_ids.index(worst)
+    hover = planner.plan.module_targets.names[index]
+    assert f"shade loss {core.table.loc[worst, 'shade_loss_pct']:.1f} %" in hover
+
+
+def test_modules_coloured_by_the_chosen_figure_share_one_scale(planner):
+    table = planner.result.table
+    for key in ("shade_loss_pct", "tsrf_pct", "energy_kwh"):
+        planner.colour_by.value = key
+        _, label, vmin = FIGURES[key]
+        expected = figure_colours(table[key].to_numpy(), vmin=vmin)
+        assert list(planner.plan.module_fill_marks.fill_colors) == expected
+        assert planner.plan.colour_axis.label == label and planner.plan.colour_axis.visible
+    planner.colour_by.value = ""
+    assert set(planner.plan.module_fill_marks.fill_colors) == {"#ffffff"}
+
+
+def test_modules_below_the_tsrf_threshold_get_a_thick_outline(planner, demo, reference):
+    tsrf = planner.result.table["tsrf_pct"]
+    threshold = float(np.round(tsrf.median(), 1))
+    project = demo.with_changes(energy=replace(demo.energy, tsrf_threshold_pct=threshold))
+    assert planner.set_project(project)
+    core = core_result(reference, project)
+    below = int((core.table["tsrf_pct"] < threshold).sum())
+    assert 0 < below < len(core.table)
+    assert len(planner.plan.flag_marks.x) == below == core.totals["modules_below_tsrf"]
+    assert planner.plan.flag_marks.stroke_width >= 3
+    assert f"{below} modules below {threshold:g} % TSRF" in planner.totals_label.value
+    # an outline, not a warning colour: the fills stay on the single-hue scale
+    assert list(planner.plan.module_fill_marks.fill_colors) == figure_colours(
+        core.table["shade_loss_pct"].to_numpy(), vmin=0.0)
+
+
+def test_progress_is_shown_while_a_full_recompute_runs(planner, demo):
+    said = []
+    planner.status.observe(lambda change: said.append(change["new"]), names="value")
+    shown = []
+    planner.progress.observe(lambda change: shown.append(change["new"]), names="value")
+    planner.orientation.value = "landscape"  # refill: every stage after the weather runs
+    stages = [re.sub("<[^>]+>", "", text) for text in said]
+    assert any("filling the roof faces" in text for text in stages)
+    assert any("tracing the sun past every obstruction" in text for text in stages)
+    assert shown == sorted(shown) and len(shown) >= 5
+    assert planner.progress.layout.visibility == "hidden"  # and gone when done
+    assert stages[-1].startswith("Ready") or "Refilled" in stages[-1]
+
+
+def test_a_refused_edit_keeps_the_figures(planner):
+    loss = shown_loss(planner)
+    assert not planner.set_project(planner.project.with_changes(
+        energy=replace(planner.project.energy, weather_file="no-such-file.epw")))
+    assert "Not changed" in planner.status.value and "weather_file" in planner.status.value
+    assert shown_loss(planner) == loss
+    assert planner.analysis.project is planner.project
+
+
+# --------------------------------------------------------------------------- Sky tab
+def test_click_in_select_mode_shows_the_module_in_the_sky_tab(planner):
+    planner.click_mode.value = "select"
+    planner.show_tab("Sky")
+    module_id = planner.plan.module_ids[5]
+    removed = planner.project.removed
+    planner.plan.module_targets.selected = [5]
+    assert planner.project.removed == removed  # selecting takes nothing out
+    assert planner.selected_id == module_id == planner.sky_module.value
+    assert module_id in planner.sky_chart.title.value
+    assert list(planner.plan.selected_mark.x) == pytest.approx(
+        [np.mean(planner.array_layout.module(module_id).corners_3d, axis=0)[0] / FOOT_M])
+    # the monthly table is the core's for that module
+    monthly = planner.result.module_monthly(module_id)
+    cells = re.findall(r"<td style='text-align:right'>([\d.]+)</td>",
+                       planner.sky_chart.table.value)
+    assert float(cells[0]) == pytest.approx(monthly["energy_kwh"].iloc[0], abs=0.05)
+    assert float(cells[-2]) == pytest.approx(monthly["energy_kwh"].sum(), abs=0.05)
+
+
+def test_sun_paths_reach_the_noon_elevations_of_the_solstices(planner, demo):
+    from widgets.sky_chart import sun_paths
+
+    paths = {p.month: p for p in sun_paths(demo.site)}
+    lat = demo.site.latitude
+    # noon elevation = 90 - latitude ± declination; declination at the solstices ±23.44°
+    # (standard spherical astronomy, e.g. Duffie & Beckman, Solar Engineering of Thermal
+    # Processes, eq. 1.6.1); the 10-minute steps and refraction keep it within 0.3°
+    assert np.nanmax(paths[6].elevation_deg) == pytest.approx(90 - lat + 23.44, abs=0.3)
+    assert np.nanmax(paths[12].elevation_deg) == pytest.approx(90 - lat - 23.44, abs=0.3)
+    # at the equinox the sun rises near due east and sets near due west
+    march = paths[3].azimuth_deg[np.isfinite(paths[3].azimuth_deg)]
+    assert march[0] == pytest.approx(90, abs=3) and march[-1] == pytest.approx(270, abs=3)
+
+
+def test_skyline_of_a_pole_matches_closed_form_geometry():
+    from layout import Cylinder
+    from widgets.sky_chart import skyline_regions
+
+    # a pole of radius 0.5 m and height 10 m, 10 m due south of a point 2 m up
+    pole = Cylinder(center=(0.0, -10.0), radius=0.5, top=10.0, name="pole")
+    (region,) = skyline_regions((0.0, 0.0, 2.0), [pole])
+    assert region.label == "pole" and region.kind == "cylinder"
+    # top edge: the nearest rim, atan(8 / 9.5); half width asin(0.5 / 10) (plane geometry);
+    # the chart's grid is 2° by 1°
+    assert region.top_deg == pytest.approx(math.degrees(math.atan2(8.0, 9.5)), abs=1.0)
+    assert region.top_azimuth_deg == pytest.approx(180.0, abs=2.0)
+    x0, _, x1, _ = region.outline.bounds
+    half = math.degrees(math.asin(0.5 / 10.0))
+    assert x0 == pytest.approx(180 - half, abs=2.0) and x1 == pytest.approx(180 + half, abs=2.0)
+
+
+def test_sky_chart_names_the_tree_for_a_module_it_shades(planner):
+    planner.show_tab("Sky")
+    table = planner.result.table
+    worst = table["shade_loss_pct"].idxmax()
+    planner.select_module(worst)
+    labels = [r.label for r in planner.sky_chart.regions]
+    assert "silver maple (south-west)" in labels
+    assert list(planner.sky_chart.region_labels.text) == labels
+
+
+# --------------------------------------------------------------------------- Hours tab
+def test_heat_map_is_the_cores_month_hour_table(planner):
+    planner.show_tab("Hours")
+    module_id = planner.selected_id
+    expected = planner.result.module_month_hour(module_id)
+    heat = planner.heat_map.heat
+    hours = [int(h) for h in heat.column]
+    assert np.isfinite(expected.to_numpy()).any(axis=0)[hours].all()
+    np.testing.assert_allclose(heat.color, expected[hours].to_numpy(), rtol=1e-12)
+    planner.hours_scope.value = "layout"
+    whole = planner.result.month_hour
+    hours = [int(h) for h in heat.column]
+    np.testing.assert_allclose(heat.color, whole[hours].to_numpy(), rtol=1e-12)
+    assert list(planner.heat_map.colour_scale.colors) == list(FIGURE_SCALE)
+    assert "shade loss" in planner.heat_map.colour_axis.label
+
+
+# --------------------------------------------------------------------------- timeline
+def test_timeline_draws_shadows_and_the_sun_agrees_with_pvlib(planner, demo):
+    import pvlib
+
+    planner.timeline.choose("21 Dec", "09:00")
+    shadows = planner.shadows
+    assert shadows is not None and shadows.sun_up
+    when = pd.Timestamp(2023, 12, 21, 9).tz_localize(demo.site.timezone)
+    sun = pvlib.solarposition.get_solarposition(pd.DatetimeIndex([when]), demo.site.latitude,
+                                                demo.site.longitude)
+    assert shadows.azimuth_deg == pytest.approx(float(sun["azimuth"].iloc[0]), abs=0.05)
+    assert shadows.elevation_deg == pytest.approx(float(sun["apparent_elevation"].iloc[0]),
+                                                  abs=0.2)
+    assert len(planner.plan.shadow_marks.x) > 0
+    assert "azimuth" in planner.timeline.readout.value
+    planner.timeline.enabled.value = False
+    assert len(planner.plan.shadow_marks.x) == 0
+
+
+def test_the_chimney_shadow_points_away_from_the_sun(demo):
+    from widgets.timeline import roof_shadows
+
+    bare = demo.with_changes(obstructions=())
+    chimney = demo.with_changes(obstructions=(demo.obstructions[0],))
+    when = pd.Timestamp(2023, 12, 21, 11).tz_localize(demo.site.timezone)
+    with_it = roof_shadows(chimney, when)
+    own = with_it.outline.difference(roof_shadows(bare, when).outline)
+    assert own.area > 0.5
+    cx, cy = obstruction_anchor(demo.obstructions[0])
+    dx, dy = own.centroid.x - cx, own.centroid.y - cy
+    # a vertical solid's shadow runs, in plan, straight away from the sun's azimuth
+    # (a parallel projection along the sun's rays; closed-form geometry)
+    away = math.degrees(math.atan2(dx, dy)) % 360
+    assert away == pytest.approx((with_it.azimuth_deg + 180) % 360, abs=8)
+
+
+def test_shadows_follow_a_dragged_obstruction(planner):
+    planner.timeline.choose("21 Jun", "15:00")
+    first = planner.shadows.outline
+    drop_marker(planner, 0, 4.5 / FOOT_M, 2.0 / FOOT_M)
+    assert not planner.shadows.outline.equals(first)
+
+
+def test_a_leading_minus_applies_to_feet_and_inches():
+    from widgets.forms import length_text, read_length
+
+    # 1 ft = 0.3048 m and 1 in = 0.0254 m exactly (NIST SP 811, appendix B)
+    metres = -(3 * 0.3048 + 3.75 * 0.0254)
+    text = length_text(metres, "imperial")
+    assert text.startswith("-3 ft")
+    assert read_length(text, "imperial", field="x") == pytest.approx(metres, abs=1e-12)
+    assert read_length("-1.25 m", "imperial", field="x") == pytest.approx(-1.25)
+
+
+def test_compare_waits_for_a_request_after_an_edit(planner):
+    planner.show_tab("Compare")
+    shown = planner.compare_result
+    drop_marker(planner, TREE, -1.0 / FOOT_M, -6.0 / FOOT_M)
+    assert planner.compare_result is shown and "Compare again" in planner.compare_note.value
+    planner.compare_button.click()
+    assert planner.compare_result is not shown
+    assert planner.compare_result.loc["portrait", "shade_loss_pct"] == pytest.approx(
+        planner.result.totals["shade_loss_pct"], rel=1e-9)

@@ -51,8 +51,14 @@ def length_text(metres: float, units: str) -> str:
 
 
 def read_length(text: str, units: str, *, field: str) -> float:
-    """Read a typed length [m]; a bare number is metres (metric) or feet (imperial)."""
-    return parse_length(text, default_unit="ft" if units == "imperial" else "m", field=field)
+    """Read a typed length [m]; a bare number is metres (metric) or feet (imperial).
+
+    A leading minus sign applies to the whole length: ``"-3 ft 3.75 in"`` (as
+    :func:`length_text` shows a negative coordinate) is minus three feet three and three
+    quarter inches.
+    """
+    unit = "ft" if units == "imperial" else "m"
+    return parse_length(text, default_unit=unit, field=field)
 
 
 def error_text(err: InputError) -> str:

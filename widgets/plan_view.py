@@ -33,9 +33,9 @@ __all__ = [
 ]
 
 #: Fixed size of the plan figure [px]; a fixed size keeps the axes equal on screen.
-FIGURE_WIDTH_PX = 640
+FIGURE_WIDTH_PX = 700
 FIGURE_HEIGHT_PX = 560
-FIGURE_MARGIN_PX = {"top": 16, "bottom": 48, "left": 64, "right": 16}
+FIGURE_MARGIN_PX = {"top": 16, "bottom": 48, "left": 64, "right": 88}
 #: Clear border around the drawing [m].
 BORDER_M = 1.0
 
@@ -244,6 +244,7 @@ class PlanView(w.VBox):
         self.units = "metric"
         self._k = 1.0
         self._scene: PlanScene | None = None
+        self._centres: dict = {}
         self._anchors = np.zeros((0, 2))  # marker positions drawn [display units]
         self._obstruction_index: list[int] = []
         self._module_ids: list[str] = []
@@ -252,6 +253,11 @@ class PlanView(w.VBox):
         self._clicked: list[Callable] = []
         self.module_values = None
         self.module_values_label = ""
+        self._scale_limits: tuple = (None, None)
+        self.flagged: frozenset = frozenset()
+        self.module_notes: dict = {}
+        self.selected_id: str | None = None
+        self.shadow_outline = None
 
         self.x_scale = bq.LinearScale(min=0.0, max=10.0)
         self.y_scale = bq.LinearScale(min=0.0, max=10.0)
@@ -281,15 +287,24 @@ class PlanView(w.VBox):
         self.tree_marks = lines(colors=[style.TREE_EDGE], stroke_width=1.2, close_path=True,
                                 fill="inside", fill_colors=[style.TREE_FILL],
                                 fill_opacities=[0.6], line_style="dash_dotted")
+        self.flag_marks = lines(colors=[style.FLAG_EDGE], stroke_width=3.5, close_path=True)
+        self.shadow_marks = lines(colors=[style.SHADOW_FILL], stroke_width=0.5,
+                                  close_path=True, fill="inside",
+                                  fill_colors=[style.SHADOW_FILL],
+                                  fill_opacities=[style.SHADOW_OPACITY])
+        self.selected_mark = bq.Scatter(x=[], y=[], scales=scales, marker="diamond",
+                                        default_size=70, colors=[style.SELECTED],
+                                        stroke="white", stroke_width=1.0)
         self.edge_labels = bq.Label(x=[], y=[], text=[], scales=scales, colors=[style.INK],
                                     default_size=11, align="middle")
         self.face_labels = bq.Label(x=[], y=[], text=[], scales=scales, colors=["#6a7473"],
                                     default_size=12, align="middle", font_weight="bold")
         self.module_targets = bq.Scatter(
             x=[], y=[], scales=scales, marker="square", default_size=160,
-            colors=["#ffffff"], default_opacities=[0.01], stroke=None,
+            colors=["#ffffff"], opacities=[0.01], stroke=None,
             interactions={"click": "select", "hover": "tooltip"},
             tooltip=bq.Tooltip(fields=["name"], labels=["module"]),
+            names_unique=False,
             display_names=False, selected_style={}, unselected_style={},
         )
         self.obstruction_markers = bq.Scatter(
@@ -303,15 +318,17 @@ class PlanView(w.VBox):
         self.y_axis = bq.Axis(scale=ys, label="y, north [m]", side="left",
                               grid_color="#eeeeee", label_offset="44px")
         self.colour_axis = bq.ColorAxis(scale=self.colour_scale, label="", side="right",
+                                        orientation="vertical", label_offset="44px",
                                         visible=False)
         self._fills = {mark: (mark.fill_colors[0], mark.fill_opacities[0])
                        for mark in (self.face_marks, self.zone_fill_marks,
                                     self.module_fill_marks, self.obstruction_marks,
-                                    self.tree_marks)}
+                                    self.tree_marks, self.shadow_marks)}
         self.figure = bq.Figure(
             marks=[self.face_marks, self.zone_fill_marks, self.hatch_marks, self.usable_marks,
-                   self.module_fill_marks, self.removed_marks, self.tree_marks,
-                   self.obstruction_marks, self.edge_labels, self.face_labels,
+                   self.module_fill_marks, self.removed_marks, self.flag_marks,
+                   self.shadow_marks, self.tree_marks, self.obstruction_marks,
+                   self.edge_labels, self.face_labels, self.selected_mark,
                    self.module_targets, self.obstruction_markers],
             axes=[self.x_axis, self.y_axis],
             fig_margin=dict(FIGURE_MARGIN_PX), display_toolbar=False,
@@ -411,10 +428,26 @@ class PlanView(w.VBox):
                 cy + 0.5 * ph * per_px) * k
 
     # ----------------------------------------------------------------- drawing
-    def draw(self, scene: PlanScene, *, units: str = "metric") -> None:
-        """Redraw the plan from a scene, in the project's units."""
+    def draw(self, scene: PlanScene, *, units: str = "metric", keep_static: bool = False) -> None:
+        """Redraw the plan from a scene, in the project's units.
+
+        Parameters
+        ----------
+        scene : PlanScene
+            What to draw.
+        units : str, keyword-only
+            ``"metric"`` or ``"imperial"``.
+        keep_static : bool, keyword-only
+            True when only obstructions (and the figures on the modules) changed since the
+            last draw: faces, zones and modules are left as drawn and the view is not refitted,
+            which keeps a drag quick and the plan still under the mouse.
+        """
+        if keep_static and self._scene is not None and units == self.units:
+            self._draw_obstructions(scene)
+            return
         refit = self._scene is None or units != self.units or (
             scene.bounds() != self._scene.bounds())
+        refit_shadows = units != self.units  # shadows are drawn in display units
         self._scene = scene
         self.units = units
         self._k = k = unit_factor(units)
@@ -454,10 +487,12 @@ class PlanView(w.VBox):
         self._anchors = np.array([a for *_, a in scene.obstructions], dtype=float).reshape(
             -1, 2) * k
 
+        self._centres = {mid: centre for mid, centre in zip(self._module_ids, centres,
+                                                             strict=True)}
         marks = [self.face_marks, self.zone_fill_marks, self.hatch_marks, self.usable_marks,
                  self.module_fill_marks, self.removed_marks, self.obstruction_marks,
                  self.tree_marks, self.edge_labels, self.face_labels, self.module_targets,
-                 self.obstruction_markers]
+                 self.obstruction_markers, self.flag_marks, self.selected_mark]
         with contextlib.ExitStack() as stack, self._silently():
             for mark in marks:
                 stack.enter_context(mark.hold_sync())
@@ -480,18 +515,47 @@ class PlanView(w.VBox):
             self.face_labels.text = list(centroids)
             self.module_targets.x = (centres[:, 0] * k).tolist()
             self.module_targets.y = (centres[:, 1] * k).tolist()
-            self.module_targets.names = self._module_ids
             self.module_targets.selected = None
             self.obstruction_markers.x = self._anchors[:, 0].tolist()
             self.obstruction_markers.y = self._anchors[:, 1].tolist()
             self.obstruction_markers.names = [label for _, label, *_ in scene.obstructions]
             self._paint_modules(scene)
+            if self.shadow_outline is not None and refit_shadows:
+                self.show_shadows(self.shadow_outline)
         self.x_axis.label = f"x, east [{unit}]"
         self.y_axis.label = f"y, north [{unit}]"
         if refit:
             self.fit()
 
+    def _draw_obstructions(self, scene: PlanScene) -> None:
+        k = self._k
+        self._scene = scene
+        solids = [r for _, _, tree, fp, _ in scene.obstructions if not tree for r in _rings(fp)]
+        crowns = [r for _, _, tree, fp, _ in scene.obstructions if tree for r in _rings(fp)]
+        self._obstruction_index = [i for i, *_ in scene.obstructions]
+        self._anchors = np.array([a for *_, a in scene.obstructions], dtype=float).reshape(
+            -1, 2) * k
+        marks = [self.obstruction_marks, self.tree_marks, self.obstruction_markers,
+                 self.module_fill_marks, self.module_targets, self.flag_marks,
+                 self.selected_mark]
+        with contextlib.ExitStack() as stack, self._silently():
+            for mark in marks:
+                stack.enter_context(mark.hold_sync())
+            for mark, rings in ((self.obstruction_marks, solids), (self.tree_marks, crowns)):
+                mark.x, mark.y = _padded(rings, k)
+                mark.fill_colors = [self._fills[mark][0]] * max(len(rings), 1)
+                mark.fill_opacities = [self._fills[mark][1]] * max(len(rings), 1)
+            self.obstruction_markers.x = self._anchors[:, 0].tolist()
+            self.obstruction_markers.y = self._anchors[:, 1].tolist()
+            self.obstruction_markers.names = [label for _, label, *_ in scene.obstructions]
+            self._paint_modules(scene)
+
     # ----------------------------------------------------------------- module figures
+    @property
+    def module_ids(self) -> list[str]:
+        """Ids of the modules drawn, in the order of the click targets."""
+        return list(self._module_ids)
+
     def show_module_values(self, values=None, *, label: str = "",
                            vmin: float | None = None, vmax: float | None = None) -> None:
         """Colour the active modules by a per-module figure, or draw them plain.
@@ -506,29 +570,79 @@ class PlanView(w.VBox):
         vmin, vmax : float, optional
             Ends of the colour scale; default the smallest and largest value shown.
         """
+        self.set_module_figures(values, label=label, vmin=vmin, vmax=vmax,
+                                flagged=self.flagged, notes=self.module_notes,
+                                selected=self.selected_id)
+
+    def set_module_figures(self, values=None, *, label: str = "", vmin=None, vmax=None,
+                           flagged=(), notes=None, selected: str | None = None,
+                           redraw: bool = True) -> None:
+        """Set everything drawn on the modules from the analysis, then repaint them.
+
+        Parameters
+        ----------
+        values, label, vmin, vmax
+            As in :meth:`show_module_values`.
+        flagged : iterable of str
+            Module ids drawn with a thick outline (below the TSRF threshold).
+        notes : dict of str to str, optional
+            Hover text per module id (its figures); default the id alone.
+        selected : str, optional
+            The module marked as selected (shown in the Sky and Hours tabs).
+        redraw : bool
+            False only stores them (the next :meth:`draw` paints them).
+        """
         self.module_values = values
         self.module_values_label = label
         self._scale_limits = (vmin, vmax)
-        if self._scene is not None:
-            with self.module_fill_marks.hold_sync():
+        self.flagged = frozenset(flagged)
+        self.module_notes = dict(notes or {})
+        self.selected_id = selected
+        if redraw and self._scene is not None:
+            with contextlib.ExitStack() as stack:
+                for mark in (self.module_fill_marks, self.flag_marks, self.selected_mark,
+                             self.module_targets, self.colour_scale, self.colour_axis):
+                    stack.enter_context(mark.hold_sync())
                 self._paint_modules(self._scene)
+
+    def show_shadows(self, outline=None) -> None:
+        """Draw shadows (a plan geometry [m]) over the roof, or clear them with None."""
+        self.shadow_outline = outline
+        rings = [] if outline is None else _rings(outline)
+        n = max(len(rings), 1)
+        with self.shadow_marks.hold_sync():
+            self.shadow_marks.x, self.shadow_marks.y = _padded(rings, self._k)
+            self.shadow_marks.fill_colors = [style.SHADOW_FILL] * n
+            self.shadow_marks.fill_opacities = [style.SHADOW_OPACITY] * n
 
     def _paint_modules(self, scene: PlanScene) -> None:
         values = self.module_values
-        active_ids = [mid for mid, _, on in scene.modules if on]
+        k = self._k
+        active = [(mid, ring) for mid, ring, on in scene.modules if on]
+        active_ids = [mid for mid, _ in active]
+        self.module_targets.names = [self.module_notes.get(mid, mid) for mid in self._module_ids]
+        self.flag_marks.x, self.flag_marks.y = _padded(
+            [ring for mid, ring in active if mid in self.flagged], k)
+        centre = self._centres.get(self.selected_id) if self.selected_id else None
+        if centre is None:
+            self.selected_mark.x, self.selected_mark.y = [], []
+        else:
+            self.selected_mark.x, self.selected_mark.y = [float(centre[0] * k)], [
+                float(centre[1] * k)]
         if values is None or not active_ids:
             self.module_fill_marks.fill_colors = [style.MODULE_FILL] * max(len(active_ids), 1)
             self.colour_axis.visible = False
             self.figure.axes = [self.x_axis, self.y_axis]
             return
         data = np.array([float(values.get(mid, np.nan)) for mid in active_ids])
-        vmin, vmax = getattr(self, "_scale_limits", (None, None))
+        vmin, vmax = self._scale_limits
         colours = style.figure_colours(data, vmin=vmin, vmax=vmax)
         self.module_fill_marks.fill_colors = [c or style.MODULE_FILL for c in colours]
         finite = data[np.isfinite(data)]
         if len(finite):
-            self.colour_scale.min = float(finite.min() if vmin is None else vmin)
-            self.colour_scale.max = float(finite.max() if vmax is None else vmax)
+            low = float(finite.min() if vmin is None else vmin)
+            high = float(finite.max() if vmax is None else vmax)
+            self.colour_scale.min, self.colour_scale.max = low, max(high, low + 1e-9)
         self.colour_axis.label = self.module_values_label
         self.colour_axis.visible = True
         self.figure.axes = [self.x_axis, self.y_axis, self.colour_axis]

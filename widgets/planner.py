@@ -1,9 +1,11 @@
-"""The planner: one project, the plan beside a side panel, files and cautions.
+"""The planner: one project, one analysis, the plan beside a side panel, files and cautions.
 
-:class:`Planner` owns a :class:`layout.project.Project` and the core's results for it. Every
-gesture becomes a new project (projects never change in place): a dropped obstruction marker,
-a click on a module, an accepted form. The core then refills the layout and the planner
-redraws from what it returned. Nothing here computes geometry or physics of its own.
+:class:`Planner` owns a :class:`layout.project.Project` and one :class:`layout.analysis.
+Analysis` of it. Every gesture becomes a new project (projects never change in place): a
+dropped obstruction marker, a click on a module, an accepted form. The planner hands it to
+:meth:`layout.analysis.Analysis.update`, which recomputes only what the edit touched, and
+redraws from :attr:`layout.analysis.Analysis.result`. Nothing here computes geometry or physics
+of its own.
 
 Side panel tabs
 ---------------
@@ -12,8 +14,13 @@ Module
     and the refill; the module count, kWp and the rules in force are always shown.
 Objects
     The obstruction form (edit, add, delete).
+Sky
+    Sun paths and the skyline seen from the selected module, with its monthly figures.
+Hours
+    Shade loss by month and hour for the selected module or the whole layout.
 Compare
-    The roof filled in every orientation and row mode, as a table and a bar chart.
+    Portrait, landscape and mixed fills, each with and without its worst modules
+    (:func:`layout.compare.compare_layouts`), as a table and a bar chart.
 File
     Save and load the project; export the module table (CSV) and outlines (GeoJSON).
 """
@@ -27,31 +34,40 @@ from pathlib import Path
 
 import bqplot as bq
 import ipywidgets as w
-import pandas as pd
+import numpy as np
 
+from layout.analysis import Analysis
 from layout.clearance import (
     ClearanceRules,
     ifc_2015_residential,
     ifc_2021_residential,
     no_setbacks,
 )
+from layout.compare import compare_layouts
+from layout.energy import scene_casters
 from layout.errors import InputError
-from layout.placement import FILL_ORIENTATIONS, compare_orientations
+from layout.placement import FILL_ORIENTATIONS
 from layout.project import FILE_SUFFIX, ProjectFileError, load_project, save_project
+from layout.sun import TYPICAL_YEAR
 from layout.units import INCH_M
 
 from . import style
+from .charts import HoursHeatMap
 from .export import write_layout_geojson, write_module_table
 from .forms import FieldRow, ObstructionForm, error_text, length_text, read_length
-from .plan_view import PlanView, obstruction_label, plan_scene
+from .plan_view import PlanView, obstruction_anchor, obstruction_label, plan_scene
+from .sky_chart import SkyChart
+from .timeline import Timeline, roof_shadows
 
 __all__ = [
     "CAUTIONS",
+    "FIGURES",
     "SETBACK_PRESETS",
+    "TAB_NAMES",
     "Planner",
-    "compare_table",
-    "fill_project",
+    "module_note",
     "snap_length",
+    "totals_text",
 ]
 
 #: The cautions shown in the app: short, calm, and always visible.
@@ -72,6 +88,18 @@ SETBACK_PRESETS = {
 }
 _AS_IN_PROJECT = "as in the project"
 
+#: Figures the modules can be coloured by: column of the per-module table → (name in the
+#: menu, label on the colour bar, lower end of the scale or None for the smallest value shown).
+FIGURES = {
+    "shade_loss_pct": ("annual shade loss [%]", "shade loss %", 0.0),
+    "tsrf_pct": ("TSRF [%]", "TSRF %", None),
+    "energy_kwh": ("annual energy [kWh]", "kWh a year", None),
+    "solar_access_pct": ("solar access [%]", "solar access %", None),
+}
+
+#: Side panel tabs, in order.
+TAB_NAMES = ("Module", "Objects", "Sky", "Hours", "Compare", "File")
+
 #: Drag positions snap to this grid [m]: 1 cm, or a quarter inch in imperial projects.
 SNAP_M = {"metric": 0.01, "imperial": INCH_M / 4}
 
@@ -82,31 +110,30 @@ def snap_length(metres: float, units: str) -> float:
     return round(metres / step) * step
 
 
-def fill_project(project):
-    """Fill a project with the core; see :meth:`layout.project.Project.fill_with_areas`."""
-    return project.fill_with_areas()
+def totals_text(totals: dict) -> str:
+    """Return the layout's annual figures as one line of HTML (from :attr:`Evaluation.totals`).
 
-
-def compare_table(project) -> pd.DataFrame:
-    """Every orientation and row mode for the project's array faces, summed over buildings.
-
-    Returns
-    -------
-    pandas.DataFrame
-        Indexed by option (``"portrait, grid"`` ...): ``modules``, ``power_kwp`` [kWp],
-        ``module_area_m2`` and ``usable_area_m2`` [m², true area], ``usable_use_pct`` [%],
-        as :func:`layout.placement.compare_orientations` gives them.
+    Shade loss is shown to 0.01 %, TSRF to 0.1 %, energy to 1 kWh.
     """
-    frames = [compare_orientations(
-        building, project.module, rules=project.clearance, options=project.fill,
-        obstructions=project.obstructions, pathway_faces=project.pathways,
-        latitude=project.site.latitude, array_faces=project.array_faces_of(building))
-        for building in project.buildings]
-    columns = ["modules", "power_kwp", "module_area_m2", "usable_area_m2"]
-    table = pd.concat(frames).groupby("option", sort=False)[columns].sum()
-    area = table["usable_area_m2"]
-    table["usable_use_pct"] = (100.0 * table["module_area_m2"] / area).where(area > 0, 0.0)
-    return table
+    basis = html.escape(str(totals.get("energy_basis", "DC")))
+    below = totals["modules_below_tsrf"]
+    threshold = totals["tsrf_threshold_pct"]
+    tsrf = totals["tsrf_pct"]
+    tsrf_text = "–" if not np.isfinite(tsrf) else f"{tsrf:.1f}"
+    return (
+        f"<span style='font-size:14px;color:{style.INK}'>"
+        f"<b>{totals['energy_kwh']:,.0f}</b> kWh a year ({basis}) · "
+        f"shade loss <b class='eaveline-shade-loss'>{totals['shade_loss_pct']:.2f}</b> % · "
+        f"mean TSRF <b>{tsrf_text}</b> %</span>"
+        f"<span style='font-size:12px;color:#5d6b6a'> · {below} "
+        f"{'module' if below == 1 else 'modules'} below {threshold:g} % TSRF "
+        f"(thick outline)</span>")
+
+
+def module_note(module_id: str, row) -> str:
+    """Hover text of one module: its id and annual figures (a row of the module table)."""
+    return (f"{module_id}: {row.energy_kwh:.0f} kWh, shade loss {row.shade_loss_pct:.1f} %, "
+            f"TSRF {row.tsrf_pct:.1f} %")
 
 
 def _html_lines(lines, *, colour: str = "#34403f") -> str:
@@ -115,35 +142,59 @@ def _html_lines(lines, *, colour: str = "#34403f") -> str:
 
 
 class Planner(w.VBox):
-    """The composite planner widget: plan, side panel, status line and cautions.
+    """The composite planner widget: plan, side panel, figures, timeline and cautions.
 
     Parameters
     ----------
     project : layout.project.Project
         The project to plan.
     path : str or pathlib.Path, optional
-        File the project came from; the File tab saves there by default.
+        File the project came from; the File tab saves there by default, and a relative
+        weather file is read from its folder.
 
     Attributes
     ----------
     project : layout.project.Project
         The project shown now.
+    analysis : layout.analysis.Analysis
+        The one analysis of the project; every edit goes through its ``update``.
     array_layout : layout.placement.Layout
-        Its modules as the core placed them.
+        Its modules as the core placed them (``analysis.result.layout``).
     areas : dict of str to layout.clearance.UsableArea
         Usable area of each array face.
+    selected_id : str or None
+        The module shown in the Sky and Hours tabs.
+    last_recompute_s : float
+        Seconds the last accepted edit took on the Python side (analysis and redraw).
     """
 
     def __init__(self, project, *, path=None):
         self.project = None
+        self.analysis: Analysis | None = None
         self.array_layout = None
         self.areas: dict = {}
+        self.selected_id: str | None = None
         self.last_recompute_s = 0.0
+        self.last_timings: dict = {}
+        self.compare_result = None
         self._compare_for = None
+        self._base_dir = Path(path).expanduser().resolve().parent if path else None
+        self._shadow_key = None
+        self.shadows = None
 
         self.plan = PlanView()
         self.plan.on_obstruction_moved(self._obstruction_moved)
         self.plan.on_module_clicked(self._module_clicked)
+        self.colour_by = w.Dropdown(
+            options=[(menu, key) for key, (menu, _, _) in FIGURES.items()] + [("plain", "")],
+            value="shade_loss_pct", description="Colour by",
+            layout=w.Layout(width="270px"))
+        self.colour_by.add_class("eaveline-colour-by")
+        self.colour_by.observe(lambda _: self._paint(), names="value")
+        self.click_mode = w.ToggleButtons(
+            options=[("take out / put back", "toggle"), ("select", "select")], value="toggle",
+            tooltip="What a click on a module does", style={"button_width": "130px"})
+        self.click_mode.add_class("eaveline-click-mode")
 
         self.title = w.HTML()
         self.units_toggle = w.ToggleButtons(options=[("metres", "metric"), ("feet", "imperial")],
@@ -152,20 +203,33 @@ class Planner(w.VBox):
         self.units_toggle.observe(self._units_changed, names="value")
         self.status = w.HTML()
         self.status.add_class("eaveline-status")
+        self.progress = w.IntProgress(value=0, min=0, max=8, bar_style="",
+                                      layout=w.Layout(width="160px", visibility="hidden"))
+        self.progress.add_class("eaveline-progress")
         self.count_label = w.HTML()
         self.count_label.add_class("eaveline-count")
+        self.totals_label = w.HTML()
+        self.totals_label.add_class("eaveline-totals")
+        self.caveat_label = w.HTML()
+        self.caveat_label.add_class("eaveline-caveat")
+        self.module_readout = w.HTML()
+        self.module_readout.add_class("eaveline-module-readout")
         self.last_move = w.HTML()
         self.last_move.add_class("eaveline-last-move")
+        self.timeline = Timeline(year=TYPICAL_YEAR)
+        self.timeline.on_change(lambda _: self._draw_shadows())
 
         self.objects = ObstructionForm()
         self.objects.on_change(self._obstructions_edited)
         self._build_module_tab()
+        self._build_sky_tab()
+        self._build_hours_tab()
         self._build_compare_tab()
         self._build_file_tab(path)
-        self.tabs = w.Tab(children=[self.module_tab, self.objects, self.compare_tab,
-                                    self.file_tab],
-                          titles=("Module", "Objects", "Compare", "File"),
-                          layout=w.Layout(width="560px", min_width="480px"))
+        self.tabs = w.Tab(children=[self.module_tab, self.objects, self.sky_tab, self.hours_tab,
+                                    self.compare_tab, self.file_tab],
+                          titles=TAB_NAMES,
+                          layout=w.Layout(width="600px", min_width="480px"))
         self.tabs.add_class("eaveline-side")
         self.tabs.observe(self._tab_changed, names="selected_index")
         self.cautions = w.HTML(
@@ -173,21 +237,28 @@ class Planner(w.VBox):
             + "<br>".join(html.escape(c) for c in CAUTIONS) + "</div>")
         self.cautions.add_class("eaveline-cautions")
 
-        figures = w.VBox([self.count_label, self.last_move, self.status])
+        figures = w.VBox([self.count_label, self.totals_label, self.module_readout,
+                          self.caveat_label, self.last_move,
+                          w.HBox([self.progress, self.status],
+                                 layout=w.Layout(align_items="center"))],
+                         layout=w.Layout(width=f"{self.plan.width_px}px"))
+        tools = w.HBox([self.colour_by, w.Label("Click a module to"), self.click_mode],
+                       layout=w.Layout(align_items="center"))
         super().__init__([
             w.HBox([self.title, self.units_toggle],
                    layout=w.Layout(justify_content="space-between", align_items="center")),
-            w.HBox([w.VBox([self.plan, figures]), self.tabs]),
+            w.HBox([w.VBox([tools, self.plan, self.timeline, figures]), self.tabs]),
             self.cautions,
         ])
         self.add_class("eaveline-planner")
         self.set_project(project)
         if self.array_layout is None:
             raise InputError("project", self.status.value)
+        self.timeline.show_sun(None)
 
     # ================================================================= project changes
     def set_project(self, project, *, message: str = "") -> bool:
-        """Show a new project: refill with the core and redraw.
+        """Show a new project: bring the analysis up to date and redraw from its result.
 
         Returns
         -------
@@ -195,25 +266,59 @@ class Planner(w.VBox):
             False when the core refused the project; the previous one then stays shown and
             the status line says why.
         """
-        self._status("Recomputing the layout…", busy=True)
+        self._status("Recomputing…", busy=True)
         start = time.perf_counter()
         try:
-            layout, areas = fill_project(project)
-        except (InputError, ProjectFileError) as err:
+            if self.analysis is None:
+                self.analysis = Analysis(project, base_dir=self._base_dir,
+                                         progress=self._progress)
+            else:
+                self.analysis.update(project)
+        except (InputError, ProjectFileError, OSError, ValueError) as err:
+            self._progress_done()
             self._status(f"Not changed: {err}", error=True)
             return False
-        self.project, self.array_layout, self.areas = project, layout, areas
+        self._progress_done()
+        result = self.analysis.result
+        previous = self.project
+        self.project, self.array_layout, self.areas = project, result.layout, result.areas
         self._quiet_units(project.units)
-        self.plan.draw(plan_scene(project, layout, areas), units=project.units)
+        active = [m.id for m in result.modules]
+        if self.selected_id not in active:
+            table = result.table
+            self.selected_id = (str(table["shade_loss_pct"].idxmax())
+                                if len(table) and table["shade_loss_pct"].notna().any()
+                                else (active[0] if active else None))
+        self._set_module_figures(redraw=False)
+        keep = (previous is not None and "fill" not in self.analysis.recomputed
+                and previous.faces == project.faces)
+        self.plan.draw(plan_scene(project, result.layout, result.areas), units=project.units,
+                       keep_static=keep)
+        self._show_figures()
+        self._draw_shadows()
         self.objects.show(project.obstructions, units=project.units,
                           new_position=self._roof_middle())
-        self._show_figures()
         self._show_module_fields()
-        if self.tabs.selected_index == 2:
-            self._run_compare()
+        self._refresh_tab()
         self.last_recompute_s = time.perf_counter() - start
-        self._status(message or f"Ready (layout filled in {self.last_recompute_s * 1000:.0f} ms).")
+        self.last_timings = dict(self.analysis.timings)
+        self._status(message or f"Ready (updated in {self.last_recompute_s * 1000:.0f} ms).")
         return True
+
+    @property
+    def result(self):
+        """The analysis's current :class:`layout.analysis.Evaluation`."""
+        return self.analysis.result
+
+    def _progress(self, stage: str, done: int, total: int) -> None:
+        with self.progress.hold_sync():
+            self.progress.max = total
+            self.progress.value = done + 1
+            self.progress.layout.visibility = "visible"
+        self._status(f"Recomputing: {stage}…", busy=True)
+
+    def _progress_done(self) -> None:
+        self.progress.layout.visibility = "hidden"
 
     def _roof_middle(self) -> tuple[float, float]:
         point = self.project.buildings[0].footprint.centroid
@@ -224,13 +329,38 @@ class Planner(w.VBox):
         self.status.value = (f"<span style='color:{colour};font-size:12px'>"
                              f"{html.escape(text)}</span>")
 
+    def _set_module_figures(self, *, redraw: bool = True) -> None:
+        result = self.analysis.result
+        table = result.table
+        key = self.colour_by.value
+        values = label = vmin = None
+        if key and len(table):
+            _, label, vmin = FIGURES[key]
+            values = table[key]
+        threshold = self.project.energy.tsrf_threshold_pct
+        flagged = table.index[table["tsrf_pct"] < threshold] if len(table) else []
+        notes = {mid: module_note(mid, row) for mid, row in zip(
+            table.index, table.itertuples(index=False), strict=True)}
+        self.plan.set_module_figures(values, label=label or "", vmin=vmin, flagged=flagged,
+                                     notes=notes, selected=self.selected_id, redraw=redraw)
+
+    def _paint(self) -> None:
+        if self.analysis is not None:
+            self._set_module_figures()
+
     def _show_figures(self) -> None:
         p, layout = self.project, self.array_layout
+        result = self.analysis.result
         name = p.name or "untitled project"
         self.title.value = f"<b style='font-size:15px;color:#34403f'>{html.escape(name)}</b>"
         self.count_label.value = (
             f"<span style='font-size:14px;color:#34403f'><b>{layout.count}</b> modules · "
             f"<b>{layout.kwp(p.module):.2f}</b> kWp</span>")
+        self.totals_label.value = totals_text(result.totals)
+        caveat = result.weather.caveat if p.energy.weather_file is None else ""
+        self.caveat_label.value = ("" if not caveat else
+                                   f"<div style='font-size:11px;color:#5d6b6a;max-width:620px'>"
+                                   f"{html.escape(caveat)}</div>")
         rules = [n for n in layout.notes if n.startswith("ridge setback")]
         others = [n for n in layout.notes if not n.startswith("ridge setback")]
         self.rule_label.value = (
@@ -238,13 +368,39 @@ class Planner(w.VBox):
             f"<b>{layout.kwp(p.module):.2f}</b> kWp · {html.escape(p.clearance.name)}</div>"
             + _html_lines(rules or ["no ridge setback applies to these faces"])
             + (_html_lines(others, colour="#5d6b6a") if others else ""))
+        self._show_selected()
+
+    def _show_selected(self) -> None:
+        table = self.analysis.result.table
+        if self.selected_id is None or self.selected_id not in table.index:
+            self.module_readout.value = ""
+            return
+        r = table.loc[self.selected_id]
+        self.module_readout.value = (
+            f"<span style='font-size:12px;color:{style.INK}'>Selected module "
+            f"<b>{html.escape(self.selected_id)}</b> (diamond): {r.energy_kwh:.0f} kWh · "
+            f"shade loss {r.shade_loss_pct:.2f} % · solar access {r.solar_access_pct:.1f} % · "
+            f"TOF {r.tof_pct:.1f} % · TSRF {r.tsrf_pct:.1f} %</span>")
+
+    def select_module(self, module_id: str) -> None:
+        """Show one active module in the Sky and Hours tabs and mark it on the plan."""
+        if module_id not in self.analysis.result.table.index:
+            raise InputError("module_id", "is not an active module", value=module_id)
+        self.selected_id = module_id
+        self._set_module_figures()
+        self._show_selected()
+        self._refresh_tab()
+
+    def show_tab(self, name: str) -> None:
+        """Open a side-panel tab by its name (one of :data:`TAB_NAMES`)."""
+        self.tabs.selected_index = TAB_NAMES.index(name)
 
     # ----------------------------------------------------------------- gestures
     def _obstruction_moved(self, index: int, x_m: float, y_m: float) -> None:
         units = self.project.units
         x, y = snap_length(x_m, units), snap_length(y_m, units)
         old = self.project.obstructions[index]
-        ax, ay = self._anchor(old)
+        ax, ay = obstruction_anchor(old)
         moved = old.translated(x - ax, y - ay)
         obstructions = list(self.project.obstructions)
         obstructions[index] = moved
@@ -258,13 +414,14 @@ class Planner(w.VBox):
             self.plan.draw(plan_scene(self.project, self.array_layout, self.areas),
                            units=self.project.units)
 
-    @staticmethod
-    def _anchor(obstruction):
-        from .plan_view import obstruction_anchor
-
-        return obstruction_anchor(obstruction)
-
     def _module_clicked(self, module_id: str) -> None:
+        if self.click_mode.value == "select":
+            if module_id in self.analysis.result.table.index:
+                self.select_module(module_id)
+            else:
+                self._status(f"Module {module_id} is taken out; put it back to see its "
+                             "figures.")
+            return
         module = self.array_layout.module(module_id)
         taken_out = self.array_layout.is_removed(module)
         current = self.array_layout
@@ -285,11 +442,100 @@ class Planner(w.VBox):
                              message=f"Lengths now shown and typed in {shown}.")
 
     def show_module_figure(self, values=None, *, label: str = "") -> None:
-        """Colour the modules by a per-module figure (a Series by module id), or clear it.
+        """Colour the modules by any per-module figure (a Series by module id), or clear it.
 
-        The hook for the analysis results (annual shade loss [%], TSRF, annual energy [kWh]).
+        The next edit colours them again by the figure chosen in "Colour by".
         """
         self.plan.show_module_values(values, label=label)
+
+    # ----------------------------------------------------------------- timeline
+    def _draw_shadows(self) -> None:
+        moment = self.timeline.moment
+        if moment is None:
+            if self.shadows is not None:
+                self.shadows, self._shadow_key = None, None
+                self.plan.show_shadows(None)
+                self.timeline.show_sun(None)
+            return
+        p = self.project
+        key = (moment, p.site, p.faces, p.obstructions)
+        if key == self._shadow_key:
+            return
+        when = moment.tz_localize(p.site.timezone)
+        self.shadows = roof_shadows(p, when)
+        self._shadow_key = key
+        self.plan.show_shadows(self.shadows.outline)
+        self.timeline.show_sun(self.shadows)
+
+    # ================================================================= Sky and Hours tabs
+    def _build_sky_tab(self) -> None:
+        self.sky_module = w.Dropdown(description="Module", layout=w.Layout(width="300px"))
+        self.sky_module.observe(self._sky_module_chosen, names="value")
+        self.sky_chart = SkyChart(width_px=400, height_px=300)
+        self.sky_tab = w.VBox([
+            w.HTML("<div style='font-size:12px;color:#5d6b6a'>Choose a module here, or switch "
+                   "clicks to <i>select</i> and click it on the plan.</div>"),
+            self.sky_module, self.sky_chart])
+
+    def _build_hours_tab(self) -> None:
+        self.hours_scope = w.ToggleButtons(options=[("selected module", "module"),
+                                                    ("whole layout", "layout")],
+                                           value="module", style={"button_width": "120px"})
+        self.hours_scope.observe(lambda _: self._refresh_tab(), names="value")
+        self.heat_map = HoursHeatMap()
+        self.hours_tab = w.VBox([self.hours_scope, self.heat_map])
+
+    def _sky_module_chosen(self, change) -> None:
+        if self._quiet_sky or change["new"] is None or change["new"] == self.selected_id:
+            return
+        self.select_module(change["new"])
+
+    _quiet_sky = False
+
+    def _sync_module_choice(self) -> None:
+        ids = list(self.analysis.result.table.index)
+        self._quiet_sky = True
+        try:
+            if list(self.sky_module.options) != ids:
+                self.sky_module.options = ids
+            self.sky_module.value = self.selected_id if self.selected_id in ids else None
+        finally:
+            self._quiet_sky = False
+
+    def _refresh_tab(self, *, opened: bool = False) -> None:
+        index = self.tabs.selected_index
+        name = TAB_NAMES[index] if index is not None else ""
+        if name == "Sky":
+            self._show_sky()
+        elif name == "Hours":
+            self._show_hours()
+        elif name == "Compare":
+            if opened:
+                self._run_compare()
+            elif self._compare_for is not self.project:  # a second or more: on request only
+                self.compare_note.value = (
+                    "<span style='font-size:12px;color:#2b7c79'>The project changed: press "
+                    "<b>Compare again</b> to refill and evaluate every option.</span>")
+
+    def _show_sky(self) -> None:
+        self._sync_module_choice()
+        result = self.analysis.result
+        if self.selected_id is None:
+            return
+        module = next(m for m in result.modules if m.id == self.selected_id)
+        self.sky_chart.show(site=self.project.site, casters=scene_casters(self.project),
+                            point=module.centre_3d, module_id=module.id,
+                            monthly=result.module_monthly(module.id),
+                            year=int(result.weather.data.index[0].year),
+                            basis=result.table.attrs.get("energy_basis", "DC"))
+
+    def _show_hours(self) -> None:
+        result = self.analysis.result
+        if self.hours_scope.value == "module" and self.selected_id is not None:
+            self.heat_map.show(result.module_month_hour(self.selected_id),
+                               what=f"module {self.selected_id}")
+        else:
+            self.heat_map.show(result.month_hour, what="the whole layout")
 
     # ================================================================= Module tab
     def _build_module_tab(self) -> None:
@@ -482,45 +728,71 @@ class Planner(w.VBox):
                                     colors=[style.FIGURE_SCALE[4]], padding=0.25)
         self.compare_figure = bq.Figure(
             marks=[self.compare_bars],
-            axes=[bq.Axis(scale=x, label="option", tick_rotate=-30),
-                  bq.Axis(scale=y, side="left", label="modules")],
-            fig_margin={"top": 16, "bottom": 80, "left": 56, "right": 16},
+            axes=[bq.Axis(scale=x, label="layout", tick_rotate=-25),
+                  bq.Axis(scale=y, side="left", orientation="vertical",
+                          label="annual energy [kWh]", tick_format=",.0f")],
+            fig_margin={"top": 16, "bottom": 96, "left": 72, "right": 16},
             display_toolbar=False,
-            layout=w.Layout(width="520px", height="300px"))
+            layout=w.Layout(width="560px", height="300px"))
+        self.compare_figure.add_class("eaveline-compare-chart")
         self.compare_button = w.Button(description="Compare again")
         self.compare_button.on_click(lambda _: self._run_compare(force=True))
+        self.compare_note = w.HTML()
         self.compare_tab = w.VBox([
-            w.HTML("<div style='font-size:12px;color:#5d6b6a'>The same faces, setbacks and "
-                   "gaps filled in each orientation, with one rigid grid or sliding rows."
-                   "</div>"),
-            self.compare_html, self.compare_figure, self.compare_button])
+            w.HTML("<div style='font-size:12px;color:#5d6b6a'>The same faces, setbacks, gaps "
+                   "and removals filled in each orientation, each also without its modules "
+                   "below the TSRF threshold; every option evaluated like the plan.</div>"),
+            self.compare_html, self.compare_figure,
+            w.HBox([self.compare_button, self.compare_note],
+                   layout=w.Layout(align_items="center"))])
 
     def _tab_changed(self, change) -> None:
-        if change["new"] == 2:
-            self._run_compare()
+        self._refresh_tab(opened=True)
 
     def _run_compare(self, *, force: bool = False) -> None:
         if self._compare_for is self.project and not force:
             return
-        self._status("Filling every orientation for the comparison…", busy=True)
-        table = compare_table(self.project)
+        self._status("Filling and evaluating every orientation for the comparison…", busy=True)
+        try:
+            comparison = compare_layouts(self.project, analysis=self.analysis,
+                                         progress=self._progress)
+        except InputError as err:
+            self._progress_done()
+            self._status(f"Comparison not made: {err}", error=True)
+            return
+        finally:
+            self._progress_done()
+        table = comparison.table
         self._compare_for = self.project
-        current = f"{self.project.fill.orientation}, {self.project.fill.rows}"
+        current = self.project.fill.orientation
         rows = []
         for option, r in table.iterrows():
             weight = "bold" if option == current else "normal"
-            rows.append(f"<tr style='font-weight:{weight}'><td>{html.escape(option)}</td>"
-                        f"<td style='text-align:right'>{int(r.modules)}</td>"
-                        f"<td style='text-align:right'>{r.power_kwp:.2f}</td>"
-                        f"<td style='text-align:right'>{r.usable_use_pct:.0f} %</td></tr>")
+            rows.append(
+                f"<tr style='font-weight:{weight}'><td>{html.escape(option)}</td>"
+                f"<td style='text-align:right'>{int(r.modules)}</td>"
+                f"<td style='text-align:right'>{r.power_kwp:.2f}</td>"
+                f"<td style='text-align:right'>{r.energy_kwh:,.0f}</td>"
+                f"<td style='text-align:right'>{r.specific_yield_kwh_per_kwp:,.0f}</td>"
+                f"<td style='text-align:right'>{r.shade_loss_pct:.2f}</td>"
+                f"<td style='text-align:right'>{r.tsrf_mean_pct:.1f}</td>"
+                f"<td style='text-align:right'>{int(r.dropped)}</td></tr>")
+        basis = html.escape(str(table.attrs.get("energy_basis", "DC")))
         self.compare_html.value = (
             "<table style='font-size:12px;border-collapse:collapse'>"
-            "<tr><th style='text-align:left'>option</th><th>modules</th><th>kWp</th>"
-            "<th>usable area used</th></tr>" + "".join(rows) + "</table>")
+            "<tr><th style='text-align:left'>layout</th><th>modules</th><th>kWp</th>"
+            f"<th>kWh a year ({basis})</th><th>kWh/kWp</th><th>shade loss %</th>"
+            "<th>mean TSRF %</th><th>dropped</th></tr>" + "".join(rows) + "</table>")
         with self.compare_bars.hold_sync():
             self.compare_bars.x = list(table.index)
-            self.compare_bars.y = table["modules"].astype(float).tolist()
+            self.compare_bars.y = table["energy_kwh"].astype(float).tolist()
+        threshold = comparison.limits.get("min_tsrf_pct")
+        self.compare_note.value = (
+            f"<span style='font-size:11px;color:#5d6b6a'>Dropped: modules below "
+            f"{threshold:g} % TSRF. {html.escape(comparison.caveat)}</span>"
+            if threshold is not None else "")
         self.compare_result = table
+        self.comparison = comparison
         self._status("Ready.")
 
     # ================================================================= File tab

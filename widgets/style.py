@@ -12,11 +12,17 @@ from __future__ import annotations
 import numpy as np
 
 __all__ = [
+    "CASTER_COLOURS",
     "FIGURE_SCALE",
+    "FLAG_EDGE",
     "INK",
     "MODULE_EDGE",
     "MODULE_FILL",
+    "NO_FIGURE",
     "REMOVED_EDGE",
+    "SELECTED",
+    "SHADOW_FILL",
+    "SHADOW_OPACITY",
     "TREE_EDGE",
     "TREE_FILL",
     "ZONE_STYLES",
@@ -92,3 +98,17 @@ def figure_colours(values, *, vmin: float | None = None, vmax: float | None = No
         rgb = [np.interp(t, positions, stops[:, k]) for k in range(3)]
         out.append(_rgb_to_hex(rgb))
     return out
+
+
+#: Regions of the sky chart and shadows, one muted colour per caster (cycled); none warns.
+CASTER_COLOURS = (
+    "#7a7468", "#7c8a72", "#6b7f94", "#9a8a78", "#5f7d7b", "#8a7a8c", "#a0a08a", "#6e6e6e",
+)
+#: Shadows on the plan at a chosen moment: a dark slate, drawn translucent.
+SHADOW_FILL = "#3d4a5c"
+SHADOW_OPACITY = 0.32
+#: Heat-map cells without a figure (sun below the horizon): a neutral mid grey, off the scale.
+NO_FIGURE = "#c9c9c9"
+#: Outline of a module below the TSRF threshold (drawn thick), and the selected module's mark.
+FLAG_EDGE = "#1d2b2a"
+SELECTED = "#3a4f8a"

@@ -1,0 +1,239 @@
+"""Time a drag on the planner: mouse-up to new figures in the browser, and the Python side alone.
+
+Run: ``.venv/bin/python benchmarks/planner.py [--drags N]``
+
+Python side: the planner on the demo house, the tree's marker dropped at alternating places as
+the front end does it (``x`` and ``y`` written together); each drop runs
+``Analysis.update`` and the redraw. Median over the drops, with the analysis stages.
+
+Browser: Voila serves two notebooks from a temporary folder, the planner on the demo and a
+no-computation toy (a draggable marker whose drop writes its position into a label). Headless
+Chromium drags the tree back and forth, timing mouse-up to the moment the page shows a new
+annual shade loss; then it drags the toy's marker, timing mouse-up to the new label text. Both
+medians are printed with their ratio (issue targets: 250 ms in the browser, 100 ms in Python).
+Needs Chromium, Playwright and Voila (``bash .ci/setup.sh --test``).
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import shutil
+import socket
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+
+ROOT = Path(__file__).resolve().parents[1]
+CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
+                 "--no-first-run", "--disable-background-networking",
+                 "--disable-component-update", "--disable-sync"]
+TREE = 2
+TREE_SPOTS_M = [(-1.0, -6.5), (-2.5, -7.7)]  # the tree dragged between these [m]
+
+TOY = """import bqplot as bq
+import ipywidgets as w
+x, y = bq.LinearScale(min=0, max=10), bq.LinearScale(min=0, max=10)
+dot = bq.Scatter(x=[5.0], y=[5.0], scales={"x": x, "y": y}, enable_move=True,
+                 default_size=200, names=["toy"], display_names=False)
+label = w.HTML("start")
+label.add_class("toy-label")
+def dropped(change):
+    label.value = f"{dot.x[0]:.3f} {dot.y[0]:.3f}"
+dot.observe(dropped, names=["x", "y"])
+fig = bq.Figure(marks=[dot], layout=w.Layout(width="500px", height="500px"),
+                display_toolbar=False, fig_margin={"top": 20, "bottom": 20, "left": 20,
+                                                   "right": 20})
+fig.add_class("toy-plot")
+w.VBox([fig, label])
+"""
+
+
+def python_side(drags: int) -> dict:
+    """Median seconds of a tree drop on the Python side, and the analysis stages."""
+    from layout import load_demo_project
+    from layout.units import FOOT_M
+    from widgets import Planner
+
+    planner = Planner(load_demo_project())
+    marker = planner.plan.obstruction_markers
+    totals, analysis, stages = [], [], {}
+    for i in range(drags + 1):
+        x_m, y_m = TREE_SPOTS_M[i % 2]
+        xs, ys = np.array(marker.x, dtype=float), np.array(marker.y, dtype=float)
+        xs[TREE], ys[TREE] = x_m / FOOT_M, y_m / FOOT_M
+        start = time.perf_counter()
+        with marker.hold_trait_notifications():
+            marker.x, marker.y = xs, ys
+        elapsed = time.perf_counter() - start
+        if i == 0:
+            continue  # the first drop also warms caches
+        assert planner.analysis.recomputed[0] == "rays", planner.analysis.recomputed
+        totals.append(elapsed)
+        analysis.append(sum(planner.last_timings.values()))
+        for stage, seconds in planner.last_timings.items():
+            stages.setdefault(stage, []).append(seconds)
+    return {"total": statistics.median(totals), "analysis": statistics.median(analysis),
+            "stages": {k: statistics.median(v) for k, v in stages.items()}}
+
+
+def _notebook(source: str) -> dict:
+    return {"cells": [{"cell_type": "code", "execution_count": None, "id": "c1",
+                       "metadata": {}, "outputs": [], "source": source}],
+            "metadata": {"kernelspec": {"display_name": "Python 3", "language": "python",
+                                        "name": "python3"}},
+            "nbformat": 4, "nbformat_minor": 5}
+
+
+def _free_port() -> int:
+    with socket.socket() as sock:
+        sock.bind(("127.0.0.1", 0))
+        return sock.getsockname()[1]
+
+
+def _centre(box) -> tuple[float, float]:
+    return box["x"] + box["width"] / 2, box["y"] + box["height"] / 2
+
+
+def browser_side(drags: int) -> dict:
+    """Median seconds from mouse-up to new figures on the page: planner and toy."""
+    import psutil
+    from playwright.sync_api import sync_playwright
+
+    from layout import load_demo_project
+    from widgets.plan_view import obstruction_anchor
+
+    chromium = shutil.which("chromium") or shutil.which("chromium-browser")
+    if chromium is None:
+        raise SystemExit("benchmarks/planner.py: Chromium is needed (apt-get install chromium)")
+    folder = Path(tempfile.mkdtemp(prefix="eaveline-bench-"))
+    shutil.copy(ROOT / "example_notebooks" / "planner.ipynb", folder / "planner.ipynb")
+    (folder / "toy.ipynb").write_text(json.dumps(_notebook(TOY)), encoding="utf-8")
+    port = _free_port()
+    server = subprocess.Popen(
+        [sys.executable, "-m", "voila", str(folder), "--no-browser", f"--port={port}",
+         "--Voila.ip=127.0.0.1", "--Voila.port_retries=0", "--theme=light"],
+        stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, cwd=folder)
+    base = f"http://127.0.0.1:{port}"
+    project = load_demo_project()
+    anchors = [obstruction_anchor(o) for o in project.obstructions[:3]]
+    names = [o.name for o in project.obstructions[:3]]
+    try:
+        deadline = time.monotonic() + 60
+        while True:
+            try:
+                socket.create_connection(("127.0.0.1", port), timeout=0.5).close()
+                break
+            except OSError:
+                if time.monotonic() > deadline:
+                    raise SystemExit("Voila did not start") from None
+                time.sleep(0.1)
+        with sync_playwright() as p:
+            browser = p.chromium.launch(executable_path=chromium, args=CHROMIUM_ARGS)
+            page = browser.new_page(viewport={"width": 1400, "height": 1100})
+            page.route("**/*", lambda route: route.continue_()
+                       if route.request.url.startswith(base) else route.abort())
+
+            # ---- the planner
+            page.goto(f"{base}/voila/render/planner.ipynb", wait_until="domcontentloaded")
+            plan = page.locator(".eaveline-plan")
+
+            def marker(name):
+                return plan.locator("g.object_grp").filter(
+                    has=page.locator("text.dot_text", has_text=name)).locator("path.dot")
+
+            marker(names[TREE]).wait_for(timeout=60_000)
+            page.locator(".eaveline-totals").wait_for(timeout=30_000)
+            px = [_centre(marker(n).bounding_box()) for n in names]
+            per_m_x = (px[1][0] - px[0][0]) / (anchors[1][0] - anchors[0][0])
+            per_m_y = (px[2][1] - px[0][1]) / (anchors[2][1] - anchors[0][1])
+            planner_ms = []
+            for i in range(drags + 1):
+                start = _centre(marker(names[TREE]).bounding_box())
+                here = ((start[0] - px[0][0]) / per_m_x + anchors[0][0],
+                        (start[1] - px[0][1]) / per_m_y + anchors[0][1])
+                goal = TREE_SPOTS_M[i % 2]
+                end = (start[0] + (goal[0] - here[0]) * per_m_x,
+                       start[1] + (goal[1] - here[1]) * per_m_y)
+                before = page.locator(".eaveline-totals").inner_text()
+                page.mouse.move(*start)
+                page.mouse.down()
+                page.mouse.move(*end, steps=6)
+                released = time.perf_counter()
+                page.mouse.up()
+                page.wait_for_function(
+                    "b => document.querySelector('.eaveline-totals').innerText !== b",
+                    arg=before, polling="raf", timeout=30_000)
+                elapsed = time.perf_counter() - released
+                page.wait_for_function(  # let the rest of the update land before the next
+                    "() => document.querySelector('.eaveline-status').innerText"
+                    ".startsWith('Ready')", polling="raf", timeout=30_000)
+                if i:
+                    planner_ms.append(elapsed)
+
+            # ---- the toy: no computation
+            page.goto(f"{base}/voila/render/toy.ipynb", wait_until="domcontentloaded")
+            dot = page.locator(".toy-plot path.dot")
+            dot.wait_for(timeout=60_000)
+            toy_ms = []
+            for i in range(drags + 1):
+                start = _centre(dot.bounding_box())
+                before = page.locator(".toy-label").inner_text()
+                page.mouse.move(*start)
+                page.mouse.down()
+                page.mouse.move(start[0] + (60 if i % 2 == 0 else -60), start[1], steps=6)
+                released = time.perf_counter()
+                page.mouse.up()
+                page.wait_for_function(
+                    "b => document.querySelector('.toy-label').innerText !== b",
+                    arg=before, polling="raf", timeout=30_000)
+                if i:
+                    toy_ms.append(time.perf_counter() - released)
+            browser.close()
+    finally:
+        children = psutil.Process(server.pid).children(recursive=True)
+        server.terminate()
+        try:
+            server.wait(timeout=15)
+        except subprocess.TimeoutExpired:
+            server.kill()
+        for child in children:
+            if child.is_running():
+                child.kill()
+        shutil.rmtree(folder, ignore_errors=True)
+    return {"planner": statistics.median(planner_ms), "toy": statistics.median(toy_ms),
+            "planner_all": planner_ms, "toy_all": toy_ms}
+
+
+def main(argv=None) -> int:
+    """Run both measurements and print medians and ratios."""
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--drags", type=int, default=7, help="timed drags per measurement")
+    parser.add_argument("--python-only", action="store_true", help="skip the browser")
+    args = parser.parse_args(argv)
+    py = python_side(max(args.drags, 3))
+    stages = ", ".join(f"{k} {v * 1000:.0f}" for k, v in py["stages"].items())
+    print(f"Python side of a tree drop (median of {max(args.drags, 3)}): "
+          f"{py['total'] * 1000:.0f} ms (target 100 ms); analysis.update "
+          f"{py['analysis'] * 1000:.0f} ms [{stages} ms], widgets "
+          f"{(py['total'] - py['analysis']) * 1000:.0f} ms")
+    if args.python_only:
+        return 0
+    web = browser_side(args.drags)
+    print(f"Browser, mouse-up to new shade loss on the page (median of {args.drags}): "
+          f"{web['planner'] * 1000:.0f} ms (target 250 ms)")
+    print(f"Browser, no-computation widget round trip (median of {args.drags}): "
+          f"{web['toy'] * 1000:.0f} ms")
+    print(f"Ratio planner / round trip: {web['planner'] / web['toy']:.1f}; "
+          f"planner minus round trip {1000 * (web['planner'] - web['toy']):.0f} ms "
+          f"(Python side {py['total'] * 1000:.0f} ms)")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,360 @@
+"""The sky seen from one module, on rectangular azimuth / elevation axes.
+
+The chart shows the sun's paths over the year (the 21st of every month, the solstices and the
+equinoxes drawn bold) and, below them, the parts of the sky that each obstruction, roof face and
+the far horizon hide from the module's centre, each in its own colour with its name. Where a
+path runs through a region, the module is shaded at that hour of that part of the year, and the
+region's name says by what.
+
+Both inputs come from the core: the sun's positions from :func:`layout.sun.solar_position` and
+the hidden sky from :func:`layout.shading.obstruction_hits`, ray-tested over a grid of
+directions (the same exact ray tests the energy model uses). Nothing here computes geometry or
+physics of its own; the grid cells are only gathered into outlines for drawing.
+"""
+
+from __future__ import annotations
+
+import html
+from dataclasses import dataclass
+
+import bqplot as bq
+import ipywidgets as w
+import numpy as np
+import pandas as pd
+import shapely
+
+from layout.shading import obstruction_hits
+from layout.sun import TYPICAL_YEAR, solar_position, sun_vectors
+
+from . import style
+
+__all__ = [
+    "SkyChart",
+    "SkyRegion",
+    "SunPath",
+    "monthly_html",
+    "skyline_regions",
+    "sun_paths",
+]
+
+#: Days whose sun path is drawn: the 21st of each month (common practice for sun-path charts).
+PATH_DAY = 21
+#: Paths drawn bold and labelled: the two solstices and the equinox (21 Jun, 21 Dec, 21 Mar;
+#: within a day or two of the astronomical dates, from memory).
+KEY_PATHS = {6: "21 Jun", 12: "21 Dec", 3: "21 Mar / Sep"}
+MONTH_NAMES = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov",
+               "Dec")
+
+
+@dataclass(frozen=True)
+class SunPath:
+    """The sun's path over one day, above the horizon only.
+
+    Attributes
+    ----------
+    label : str
+        ``"21 Jun"`` ...
+    month : int
+        Calendar month 1-12.
+    azimuth_deg, elevation_deg : numpy.ndarray
+        Sun azimuth (clockwise from north) and apparent elevation [degrees]; NaN elevations
+        split the path where it crosses north (azimuth 0 / 360).
+    hours : numpy.ndarray
+        Local clock hour of each point [h].
+    """
+
+    label: str
+    month: int
+    azimuth_deg: np.ndarray
+    elevation_deg: np.ndarray
+    hours: np.ndarray
+
+
+def sun_paths(site, *, year: int = TYPICAL_YEAR, step_minutes: int = 10) -> list[SunPath]:
+    """Sun paths of the 21st of every month at a site, from :func:`layout.sun.solar_position`.
+
+    Parameters
+    ----------
+    site : layout.site.Site
+        The site.
+    year : int, keyword-only
+        Calendar year of the dates [year].
+    step_minutes : int, keyword-only, default 10
+        Spacing of the points along each path [minutes].
+
+    Returns
+    -------
+    list of SunPath
+        January to December.
+    """
+    paths = []
+    per_day = 24 * 60 // int(step_minutes)
+    for month in range(1, 13):
+        start = pd.Timestamp(year, month, PATH_DAY).tz_localize(site.timezone)
+        times = pd.date_range(start, periods=per_day + 1, freq=f"{int(step_minutes)}min")
+        position = solar_position(site, times)
+        up = position["sun_up"].to_numpy()
+        az = position["azimuth"].to_numpy()[up]
+        el = position["apparent_elevation"].to_numpy()[up].copy()
+        hours = (times.hour + times.minute / 60.0).to_numpy()[up]
+        if len(az) > 1:  # break the line where it wraps across north
+            wrap = np.flatnonzero(np.abs(np.diff(az)) > 180.0) + 1
+            az = np.insert(az, wrap, np.nan)
+            el = np.insert(el, wrap, np.nan)
+            hours = np.insert(hours, wrap, np.nan)
+        paths.append(SunPath(label=f"{PATH_DAY} {MONTH_NAMES[month - 1]}", month=month,
+                             azimuth_deg=az, elevation_deg=el, hours=hours))
+    return paths
+
+
+@dataclass(frozen=True)
+class SkyRegion:
+    """The part of the sky one caster hides from a point.
+
+    Attributes
+    ----------
+    label : str
+        The caster's name (or its kind).
+    kind : str
+        ``"tree"``, ``"block"``, ``"cylinder"``, ``"roof"`` or ``"horizon"``.
+    outline : shapely geometry
+        Hidden directions as polygons in (azimuth, elevation) [degrees].
+    top_deg : float
+        Highest hidden elevation [degrees].
+    top_azimuth_deg : float
+        Azimuth of that highest point [degrees].
+    """
+
+    label: str
+    kind: str
+    outline: object
+    top_deg: float
+    top_azimuth_deg: float
+
+
+def _caster_kind(caster) -> str:
+    name = type(caster).__name__
+    return {"Plate": "roof", "HorizonProfile": "horizon"}.get(name, name.lower())
+
+
+def _caster_label(caster, index: int) -> str:
+    name = getattr(caster, "name", "") or ""
+    kind = _caster_kind(caster)
+    if kind == "roof":
+        return f"roof {name}".strip()
+    if kind == "horizon":
+        return name or "far horizon"
+    return name or f"{kind} {index}"
+
+
+def skyline_regions(point, casters, *, azimuth_step_deg: float = 2.0,
+                    elevation_step_deg: float = 1.0) -> list[SkyRegion]:
+    """Find the sky each caster hides from a point, by ray tests over a grid of directions.
+
+    Every cell centre of an azimuth × elevation grid (0-360°, 0-90°) is a direction; the core's
+    :func:`layout.shading.obstruction_hits` says which of them each caster blocks, and the
+    blocked cells are merged into outlines.
+
+    Parameters
+    ----------
+    point : array_like, shape (3,)
+        The point seen from (a module's centre), site frame [m].
+    casters : sequence
+        Obstructions, roof plates and horizon profiles (:func:`layout.energy.scene_casters`).
+    azimuth_step_deg, elevation_step_deg : float, keyword-only
+        Grid spacing [degrees].
+
+    Returns
+    -------
+    list of SkyRegion
+        One per caster that hides any of the sky, in the casters' order.
+    """
+    da, de = float(azimuth_step_deg), float(elevation_step_deg)
+    n_az, n_el = round(360.0 / da), round(90.0 / de)
+    i, j = np.meshgrid(np.arange(n_az), np.arange(n_el), indexing="ij")
+    azimuth = (i + 0.5) * da
+    elevation = (j + 0.5) * de
+    directions = sun_vectors(azimuth.ravel(), elevation.ravel())
+    origin = np.asarray(point, dtype=float).reshape(1, 3)
+    cells = shapely.box(i.ravel() * da, j.ravel() * de, (i.ravel() + 1) * da,
+                        (j.ravel() + 1) * de)
+    regions = []
+    for index, caster in enumerate(casters):
+        hits = obstruction_hits(origin, directions, caster)
+        blocked = np.zeros(len(directions), dtype=bool)
+        if hits.blocked_steps is not None:
+            blocked |= np.asarray(hits.blocked_steps, dtype=bool)
+        blocked[hits.step] = True
+        if not blocked.any():
+            continue
+        outline = shapely.coverage_union_all(cells[blocked])
+        top = int(np.argmax(np.where(blocked, elevation.ravel(), -1.0)))
+        regions.append(SkyRegion(label=_caster_label(caster, index), kind=_caster_kind(caster),
+                                 outline=outline, top_deg=float(elevation.ravel()[top] + de / 2),
+                                 top_azimuth_deg=float(azimuth.ravel()[top])))
+    return regions
+
+
+def _rings_xy(geometry) -> list[np.ndarray]:
+    rings = []
+    for part in shapely.get_parts(geometry):
+        if isinstance(part, shapely.Polygon) and not part.is_empty:
+            rings.append(np.asarray(part.exterior.coords))
+            rings.extend(np.asarray(r.coords) for r in part.interiors)
+    return rings
+
+
+def _padded(rings):
+    if not rings:
+        return np.zeros((0, 0)), np.zeros((0, 0))
+    n = max(len(r) for r in rings)
+    out = np.array([np.vstack([r, np.repeat(r[-1:], n - len(r), axis=0)]) for r in rings])
+    return out[:, :, 0], out[:, :, 1]
+
+
+def monthly_html(monthly: pd.DataFrame, *, basis: str = "DC") -> str:
+    """Return the monthly table of one module (or the layout) as a small HTML table.
+
+    Parameters
+    ----------
+    monthly : pandas.DataFrame
+        From :meth:`layout.analysis.Evaluation.module_monthly`: ``energy_kwh``,
+        ``energy_unshaded_kwh``, ``shade_loss_pct`` by month 1-12.
+    basis : str, keyword-only
+        ``"AC"`` or ``"DC"``, shown in the heading.
+    """
+    rows = []
+    for month, r in monthly.iterrows():
+        loss = "–" if not np.isfinite(r.shade_loss_pct) else f"{r.shade_loss_pct:.1f}"
+        rows.append(f"<tr><td>{MONTH_NAMES[int(month) - 1]}</td>"
+                    f"<td style='text-align:right'>{r.energy_kwh:.1f}</td>"
+                    f"<td style='text-align:right'>{loss}</td></tr>")
+    total = float(monthly["energy_kwh"].sum())
+    unshaded = float(monthly["energy_unshaded_kwh"].sum())
+    loss = 100.0 * (1.0 - total / unshaded) if unshaded > 0 else float("nan")
+    rows.append(f"<tr style='font-weight:bold;border-top:1px solid #ccc'><td>year</td>"
+                f"<td style='text-align:right'>{total:.1f}</td>"
+                f"<td style='text-align:right'>{loss:.1f}</td></tr>")
+    return ("<table class='eaveline-monthly' style='font-size:12px;border-collapse:collapse'>"
+            f"<tr><th style='text-align:left'>month</th><th>{html.escape(basis)} kWh</th>"
+            "<th>shade loss %</th></tr>" + "".join(rows) + "</table>")
+
+
+class SkyChart(w.HBox):
+    """Sun paths and the skyline seen from one module, with its monthly figures beside them.
+
+    Call :meth:`show` with the site, the casters, the module's centre and its monthly table.
+    """
+
+    def __init__(self, *, width_px: int = 400, height_px: int = 300):
+        self.x_scale = bq.LinearScale(min=0.0, max=360.0)
+        self.y_scale = bq.LinearScale(min=0.0, max=90.0)
+        scales = {"x": self.x_scale, "y": self.y_scale}
+        self.region_marks = bq.Lines(x=[], y=[], scales=scales, close_path=True, fill="inside",
+                                     colors=[style.INK], fill_colors=[], fill_opacities=[],
+                                     stroke_width=0.8)
+        self.region_labels = bq.Label(x=[], y=[], text=[], scales=scales, colors=[style.INK],
+                                      default_size=10, align="middle")
+        self.month_marks = bq.Lines(x=[], y=[], scales=scales, colors=["#9fb3b1"],
+                                    stroke_width=0.8)
+        self.key_marks = bq.Lines(x=[], y=[], scales=scales, colors=[style.FIGURE_SCALE[5]],
+                                  stroke_width=2.0)
+        self.key_labels = bq.Label(x=[], y=[], text=[], scales=scales,
+                                   colors=[style.FIGURE_SCALE[6]], default_size=10,
+                                   align="start", font_weight="bold")
+        self.hour_labels = bq.Label(x=[], y=[], text=[], scales=scales, colors=["#5d6b6a"],
+                                    default_size=9, align="middle")
+        self.x_axis = bq.Axis(scale=self.x_scale, label="sun azimuth [degrees, 180 = south]",
+                              tick_values=np.arange(0, 361, 45), grid_color="#eeeeee")
+        self.y_axis = bq.Axis(scale=self.y_scale, orientation="vertical", side="left",
+                              label="elevation [degrees]", tick_values=np.arange(0, 91, 15),
+                              grid_color="#eeeeee")
+        self.figure = bq.Figure(
+            marks=[self.region_marks, self.month_marks, self.key_marks, self.region_labels,
+                   self.key_labels, self.hour_labels],
+            axes=[self.x_axis, self.y_axis], display_toolbar=False,
+            fig_margin={"top": 12, "bottom": 44, "left": 52, "right": 10},
+            layout=w.Layout(width=f"{width_px}px", height=f"{height_px}px"))
+        self.figure.add_class("eaveline-sky")
+        self.title = w.HTML()
+        self.table = w.HTML()
+        self.table.add_class("eaveline-sky-table")
+        self.regions: list[SkyRegion] = []
+        self.paths: list[SunPath] = []
+        self._paths_for = None
+        super().__init__([w.VBox([self.title, self.figure]), self.table])
+
+    def show(self, *, site, casters, point, module_id: str, monthly: pd.DataFrame,
+             year: int = TYPICAL_YEAR, basis: str = "DC") -> None:
+        """Draw the chart for one module.
+
+        Parameters
+        ----------
+        site : layout.site.Site
+            For the sun's paths.
+        casters : sequence
+            Everything that can shade the module (:func:`layout.energy.scene_casters`).
+        point : array_like, shape (3,)
+            The module's centre, site frame [m].
+        module_id : str
+            Shown in the title.
+        monthly : pandas.DataFrame
+            The module's monthly figures (:meth:`layout.analysis.Evaluation.module_monthly`).
+        year : int, keyword-only
+            Calendar year of the sun paths.
+        basis : str, keyword-only
+            Energy basis of the monthly table, "AC" or "DC".
+        """
+        if self._paths_for != (site, year):
+            self.paths = sun_paths(site, year=year)
+            self._paths_for = (site, year)
+            self._draw_paths()
+        self.regions = skyline_regions(point, casters)
+        rings, fills, lx, ly, lt = [], [], [], [], []
+        for k, region in enumerate(self.regions):
+            colour = style.CASTER_COLOURS[k % len(style.CASTER_COLOURS)]
+            for ring in _rings_xy(region.outline):
+                rings.append(ring)
+                fills.append(colour)
+            lx.append(float(np.clip(region.top_azimuth_deg, 25.0, 335.0)))  # inside the axes
+            ly.append(min(region.top_deg + 2.0, 88.0))
+            lt.append(region.label)
+        x, y = _padded(rings)
+        with self.region_marks.hold_sync(), self.region_labels.hold_sync():
+            self.region_marks.x, self.region_marks.y = x, y
+            self.region_marks.colors = ["#5d5d5d"] * max(len(rings), 1)
+            self.region_marks.fill_colors = fills
+            self.region_marks.fill_opacities = [0.55] * len(fills)
+            self.region_labels.x, self.region_labels.y = lx, ly
+            self.region_labels.text = lt
+        self.title.value = (f"<div style='font-size:12px;color:{style.INK}'>Sky seen from "
+                            f"module <b>{html.escape(module_id)}</b>: the sun is hidden where "
+                            "a path crosses a shaded region.</div>")
+        self.table.value = monthly_html(monthly, basis=basis)
+
+    def _draw_paths(self) -> None:
+        months = [p for p in self.paths if p.month not in KEY_PATHS]
+        keys = [p for p in self.paths if p.month in KEY_PATHS]
+        mx, my = _padded([np.column_stack([p.azimuth_deg, p.elevation_deg]) for p in months])
+        kx, ky = _padded([np.column_stack([p.azimuth_deg, p.elevation_deg]) for p in keys])
+        labels_x, labels_y, labels = [], [], []
+        for p in keys:
+            top = int(np.nanargmax(p.elevation_deg))
+            labels_x.append(float(p.azimuth_deg[top]) + 4.0)
+            labels_y.append(float(p.elevation_deg[top]) + 1.5)
+            labels.append(KEY_PATHS[p.month])
+        hx, hy, ht = [], [], []
+        june = next(p for p in self.paths if p.month == 6)
+        for hour in range(5, 21):  # clock hours along the longest day
+            at = np.flatnonzero(np.isclose(june.hours, hour))
+            if len(at) and np.isfinite(june.elevation_deg[at[0]]):
+                hx.append(float(june.azimuth_deg[at[0]]))
+                hy.append(float(june.elevation_deg[at[0]]) + 2.5)
+                ht.append(f"{hour}h")
+        with self.month_marks.hold_sync(), self.key_marks.hold_sync(), \
+                self.key_labels.hold_sync(), self.hour_labels.hold_sync():
+            self.month_marks.x, self.month_marks.y = mx, my
+            self.key_marks.x, self.key_marks.y = kx, ky
+            self.key_labels.x, self.key_labels.y, self.key_labels.text = (labels_x, labels_y,
+                                                                          labels)
+            self.hour_labels.x, self.hour_labels.y, self.hour_labels.text = hx, hy, ht
