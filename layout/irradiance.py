@@ -286,14 +286,17 @@ def substring_shade(beam_shaded, *, cell_substring=None, n_substrings: int | Non
     t, m = f.shape[:2]
     if f.dtype != np.float32:
         f = f.astype(float, copy=False)
-    if t and not (np.isfinite(f.min()) and f.min() >= 0 and f.max() <= 1):
-        raise InputError("beam_shaded", "must be fractions from 0 to 1", allowed="0 to 1")
     mean = np.zeros((t, m))
     worst = np.zeros((t, m, s), dtype=np.float32)
     # most steps leave every cell in the sun: reduce only the steps with some shade
-    shaded_steps = np.flatnonzero(f.reshape(t, -1).max(axis=1, initial=0.0) > 0)
+    row_max = f.reshape(t, -1).max(axis=1, initial=0.0)
+    shaded_steps = np.flatnonzero(row_max > 0)
+    shaded = f[shaded_steps]
+    if not (np.isfinite(row_max).all() and row_max.max(initial=0.0) <= 1
+            and f.min(initial=0.0) >= 0):
+        raise InputError("beam_shaded", "must be fractions from 0 to 1", allowed="0 to 1")
     for lo in range(0, m, chunk):
-        part = f[shaded_steps, lo:lo + chunk]
+        part = shaded[:, lo:lo + chunk]
         mean[shaded_steps, lo:lo + chunk] = part.mean(axis=2, dtype=np.float64)
         worst[shaded_steps, lo:lo + chunk] = np.maximum.reduceat(
             part if in_order else part[:, :, order], starts, axis=2)

@@ -263,6 +263,13 @@ def layout_totals(table: pd.DataFrame, *, power_w: float,
     }
 
 
+def _sums_by(index: np.ndarray, size: int, shaded_w, unshaded_w) -> tuple[np.ndarray, ...]:
+    """Sum module power over steps that share ``index`` (0 … size-1) [W·steps]."""
+    shaded = np.bincount(index, weights=np.nansum(shaded_w, axis=1), minlength=size)
+    unshaded = np.bincount(index, weights=np.nansum(unshaded_w, axis=1), minlength=size)
+    return shaded, unshaded
+
+
 def monthly_table(power, *, step_minutes: float, columns=None) -> pd.DataFrame:
     """Energy with and without shade and the shade loss, month by month.
 
@@ -283,12 +290,11 @@ def monthly_table(power, *, step_minutes: float, columns=None) -> pd.DataFrame:
     shaded_w, unshaded_w, basis = _energy_arrays(power)
     if columns is not None:
         shaded_w, unshaded_w = shaded_w[:, columns], unshaded_w[:, columns]
-    month = power.times.month
-    frame = pd.DataFrame({"energy_kwh": np.nansum(shaded_w, axis=1),
-                          "energy_unshaded_kwh": np.nansum(unshaded_w, axis=1)}, index=month)
-    monthly = frame.groupby(level=0).sum() * step_minutes / 60.0 / 1000.0
-    monthly = monthly.reindex(range(1, 13), fill_value=0.0)
-    monthly.index.name = "month"
+    month = np.asarray(power.times.month) - 1
+    shaded, unshaded = _sums_by(month, 12, shaded_w, unshaded_w)
+    scale = check_range("step_minutes", step_minutes, 0, 1440, low_open=True) / 60.0 / 1000.0
+    monthly = pd.DataFrame({"energy_kwh": shaded * scale, "energy_unshaded_kwh": unshaded * scale},
+                           index=pd.RangeIndex(1, 13, name="month"))
     monthly["shade_loss_pct"] = 100.0 - _percent(monthly["energy_kwh"],
                                                  monthly["energy_unshaded_kwh"])
     monthly.attrs["energy_basis"] = basis
@@ -315,12 +321,11 @@ def month_hour_loss(power, *, columns=None) -> pd.DataFrame:
     if columns is not None:
         shaded_w, unshaded_w = shaded_w[:, columns], unshaded_w[:, columns]
     times = power.times
-    frame = pd.DataFrame({"shaded": shaded_w.sum(axis=1), "unshaded": unshaded_w.sum(axis=1),
-                          "month": times.month, "hour": times.hour})
-    sums = frame.groupby(["month", "hour"])[["shaded", "unshaded"]].sum()
-    loss = 100.0 - _percent(sums["shaded"], sums["unshaded"])
-    table = pd.Series(loss, index=sums.index).unstack("hour")
-    table = table.reindex(index=range(1, 13), columns=range(24))
+    cell = (np.asarray(times.month) - 1) * 24 + np.asarray(times.hour)
+    shaded, unshaded = _sums_by(cell, 12 * 24, shaded_w, unshaded_w)
+    loss = 100.0 - _percent(shaded, unshaded)
+    table = pd.DataFrame(loss.reshape(12, 24), index=pd.RangeIndex(1, 13),
+                         columns=pd.RangeIndex(0, 24))
     table.index.name = "month"
     table.columns.name = "hour"
     return table

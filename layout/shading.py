@@ -847,22 +847,21 @@ def _group_shade(n_steps, n_points, pairs, labels, n_groups, month, out=None) ->
         size = n_points // n_groups if n_groups else 0
         regular = (len(present) == n_groups and size * n_groups == n_points
                    and np.array_equal(starts, np.arange(n_groups) * size))
+        # Only the steps that some ray is blocked at are built densely; the rest stay 0.
+        rows = np.unique(np.concatenate([step for step, _, _ in prepared]))
         per = max(1, _DENSE_BLOCK // n_points)
-        for t0 in range(0, n_steps, per):
-            t1 = min(n_steps, t0 + per)
-            beam = None
+        for r0 in range(0, len(rows), per):
+            block = rows[r0:r0 + per]
+            beam = np.ones((len(block), n_points), dtype=np.float32)
             for step, point, factor in prepared:
-                i, j = np.searchsorted(step, [t0, t1])
+                i, j = np.searchsorted(step, [block[0], block[-1] + 1])
                 if j <= i:
                     continue
-                if beam is None:
-                    beam = np.ones((t1 - t0, n_points), dtype=np.float32)
+                row = np.searchsorted(block, step[i:j])
                 if factor is None:
-                    beam[step[i:j] - t0, point[i:j]] = 0.0
+                    beam[row, point[i:j]] = 0.0
                 else:
-                    beam[step[i:j] - t0, point[i:j]] *= factor[i:j]
-            if beam is None:
-                continue
+                    beam[row, point[i:j]] *= factor[i:j]
             if perm is not None:
                 beam = beam[:, perm]
             if regular:
@@ -871,10 +870,10 @@ def _group_shade(n_steps, n_points, pairs, labels, n_groups, month, out=None) ->
                     lit += beam[:, k::size]
                 if size > 1:
                     lit *= np.float32(1.0 / size)
-                np.subtract(np.float32(1.0), lit, out=out[t0:t1])
+                out[block] = np.float32(1.0) - lit
             else:
                 lit = np.add.reduceat(beam, starts, axis=1)
-                out[t0:t1, present] = 1.0 - lit / counts[present]
+                out[np.ix_(block, present)] = 1.0 - lit / counts[present]
     out[horizon] = 1.0
     out[:, counts == 0] = np.nan
     return out
