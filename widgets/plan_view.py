@@ -471,7 +471,13 @@ class PlanView(w.VBox):
         centroids = {name: np.asarray(shapely.Polygon(ring).centroid.coords[0])
                      for name, ring in scene.faces}
         ex, ey, et, er = [], [], [], []
+        labelled = set()
         for name, _, kind, ends in scene.edges:
+            # an edge two faces share (a ridge, a hip, a valley) is labelled once
+            key = (kind, frozenset(tuple(np.round(p, 6)) for p in ends))
+            if key in labelled:
+                continue
+            labelled.add(key)
             mid = ends.mean(axis=0)
             inward = centroids[name] - mid
             inward *= min(0.35, 0.25 * float(np.linalg.norm(inward))) / max(
