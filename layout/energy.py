@@ -39,6 +39,7 @@ __all__ = [
     "EnergyOptions",
     "SunSteps",
     "load_weather",
+    "parapet_walls",
     "scene_casters",
     "sky_view_ratio",
     "sun_steps",
@@ -53,7 +54,7 @@ class EnergyOptions:
 
     Parameters
     ----------
-    weather_file : str or None, default None
+    weather_file : str, os.PathLike or None, default None
         A TMY3 (``.csv``), TMY2 (``.tm2``) or EPW (``.epw``) file, absolute or relative to
         the project file's folder; None uses clear sky at the site (Ineichen with pvlib's
         Linke turbidity table), which overstates beam light and so the shade loss.
@@ -89,6 +90,8 @@ class EnergyOptions:
 
     def __post_init__(self):
         set_ = object.__setattr__
+        if isinstance(self.weather_file, os.PathLike):
+            set_(self, "weather_file", os.fspath(self.weather_file))
         if self.weather_file is not None and (not isinstance(self.weather_file, str)
                                               or not self.weather_file.strip()):
             raise InputError("weather_file", "must be a file path or null",
@@ -208,10 +211,11 @@ def sun_steps(weather: Weather) -> SunSteps:
 def scene_casters(project) -> tuple:
     """Everything that can shade the project's modules, modules excepted.
 
-    The obstructions as entered and as surveyed (a far horizon included), and every roof face
-    of every building as a plate: the other wing of an L, a higher roof beside a lower one,
-    the far slope behind a ridge. A face never shades the points in its own plane, so the modules
-    mounted flush on it are not shaded by it.
+    The obstructions as entered and as surveyed (a far horizon included), every roof face of
+    every building as a plate (the other wing of an L, a higher roof beside a lower one, the
+    far slope behind a ridge), and the parapet walls (:func:`parapet_walls`). A face never
+    shades the points in its own plane, so the modules mounted flush on it are not shaded by
+    it.
 
     Parameters
     ----------
@@ -223,7 +227,39 @@ def scene_casters(project) -> tuple:
         Obstructions, horizon profiles and :class:`~layout.obstructions.Plate` objects.
     """
     faces = tuple(Plate.from_face(face) for face in project.faces)
-    return tuple(project.scene_obstructions) + faces
+    return tuple(project.scene_obstructions) + faces + parapet_walls(project)
+
+
+def parapet_walls(project) -> tuple:
+    """Thin vertical walls standing on every parapet edge, ``parapet_height_m`` tall.
+
+    A building's ``parapet_height_m`` marks its parapet edges (edge kind ``parapet``, which
+    sets the setback); here the wall itself becomes a caster, a vertical plate from the roof
+    surface along the edge up by the parapet height, so that it shades the modules near it.
+
+    Parameters
+    ----------
+    project : layout.project.Project
+
+    Returns
+    -------
+    tuple of layout.obstructions.Plate
+    """
+    walls = []
+    for building in project.buildings:
+        height = building.parapet_height_m
+        if height <= 0:
+            continue
+        for face in building.faces:
+            for edge in face.edges:
+                if edge.kind != "parapet":
+                    continue
+                (x0, y0), (x1, y1) = edge.start, edge.end
+                z0, z1 = face.height_at(np.array([edge.start, edge.end]))
+                walls.append(Plate(((x0, y0, z0), (x1, y1, z1), (x1, y1, z1 + height),
+                                    (x0, y0, z0 + height)), kind="other",
+                                   name=f"parapet of {face.name}, edge {edge.index}"))
+    return tuple(walls)
 
 
 def sky_view_ratio(modules, casters, *, n_directions: int = 1024,

@@ -175,7 +175,9 @@ def module_table(power, irradiance, modules, *, step_minutes: float,
     Returns
     -------
     pandas.DataFrame
-        Indexed by module id: ``face``, ``orientation``, ``surface_tilt``,
+        Indexed by module id: ``face``, ``row``, ``column`` (counted from the eave and from
+        the left, as :class:`~layout.placement.PlacedModule` numbers them), ``orientation``,
+        ``surface_tilt``,
         ``surface_azimuth`` [degrees], ``energy_kwh``, ``energy_unshaded_kwh``,
         ``shade_loss_pct``, ``poa_kwh_m2``, ``poa_unshaded_kwh_m2``, ``solar_access_pct``,
         ``tof_pct``, ``tsrf_pct``. ``attrs["energy_basis"]`` is "AC" or "DC".
@@ -193,6 +195,8 @@ def module_table(power, irradiance, modules, *, step_minutes: float,
     tof = _percent(poa_unshaded, best.insolation_kwh_m2)
     table = pd.DataFrame({
         "face": [m.face for m in modules],
+        "row": np.array([m.row for m in modules], dtype=int),
+        "column": np.array([m.column for m in modules], dtype=int),
         "orientation": [m.orientation for m in modules],
         "surface_tilt": [m.tilt_deg for m in modules],
         "surface_azimuth": [m.azimuth_deg for m in modules],
@@ -209,15 +213,15 @@ def module_table(power, irradiance, modules, *, step_minutes: float,
     return table
 
 
-_TABLE_COLUMNS = ("face", "orientation", "surface_tilt", "surface_azimuth", "energy_kwh",
-                  "energy_unshaded_kwh", "shade_loss_pct", "poa_kwh_m2", "poa_unshaded_kwh_m2",
-                  "solar_access_pct", "tof_pct", "tsrf_pct")
+_TABLE_COLUMNS = ("face", "row", "column", "orientation", "surface_tilt", "surface_azimuth",
+                  "energy_kwh", "energy_unshaded_kwh", "shade_loss_pct", "poa_kwh_m2",
+                  "poa_unshaded_kwh_m2", "solar_access_pct", "tof_pct", "tsrf_pct")
 
 
 def empty_module_table() -> pd.DataFrame:
     """Return the per-module table of a layout without modules: the columns, no rows."""
-    table = pd.DataFrame({c: pd.Series(dtype=object if c in ("face", "orientation") else float)
-                          for c in _TABLE_COLUMNS},
+    kinds = {"face": object, "orientation": object, "row": int, "column": int}
+    table = pd.DataFrame({c: pd.Series(dtype=kinds.get(c, float)) for c in _TABLE_COLUMNS},
                          index=pd.Index([], name="module_id", dtype=object))
     table.attrs["energy_basis"] = "DC"
     return table

@@ -303,6 +303,9 @@ class FillOptions:
         [degrees], more than 0 and less than 90; None mounts modules flush on flat faces too.
     rack_azimuth_deg : float, default 180
         Direction the racked modules face, clockwise from north [degrees].
+    rack_base_height_m : float, default 0
+        Height of each racked module's lower edge above the roof [m], 0 to 10 (a ballasted
+        rack on a membrane sits near 0; raising the rows clears a parapet's shadow).
     rack_gcr : float or None, default None
         Ground coverage ratio of the rack rows (module slant length over row pitch), more
         than 0 and at most 1; None spaces the rows by the no-shade window on the winter
@@ -318,6 +321,7 @@ class FillOptions:
     rack_tilt_deg: float | None = None
     rack_azimuth_deg: float = 180.0
     rack_gcr: float | None = None
+    rack_base_height_m: float = 0.0
 
     def __post_init__(self):
         if self.orientation not in FILL_ORIENTATIONS:
@@ -346,6 +350,8 @@ class FillOptions:
                                                    0, 360, unit="degrees"))
         if self.rack_gcr is not None:
             set_(self, "rack_gcr", check_range("rack_gcr", self.rack_gcr, 0, 1, low_open=True))
+        set_(self, "rack_base_height_m", check_range("rack_base_height_m",
+                                                     self.rack_base_height_m, 0, 10, unit="m"))
 
     def to_dict(self) -> dict:
         """Plain-data form used by the project file."""
@@ -354,13 +360,14 @@ class FillOptions:
             "gap_up_slope_m": self.gap_up_slope_m, "rows": self.rows,
             "offset_steps": self.offset_steps, "rack_tilt_deg": self.rack_tilt_deg,
             "rack_azimuth_deg": self.rack_azimuth_deg, "rack_gcr": self.rack_gcr,
+            "rack_base_height_m": self.rack_base_height_m,
         }
 
     @classmethod
     def from_dict(cls, data: dict) -> FillOptions:
         """Inverse of :meth:`to_dict`; raises :class:`InputError` naming the bad field."""
         known = ("orientation", "gap_along_eave_m", "gap_up_slope_m", "rows", "offset_steps",
-                 "rack_tilt_deg", "rack_azimuth_deg", "rack_gcr")
+                 "rack_tilt_deg", "rack_azimuth_deg", "rack_gcr", "rack_base_height_m")
         check_fields(data, known, required=(), what="fill option")
         return cls(**data)
 
@@ -896,7 +903,8 @@ def _fill_racked_face(face, usable, module, options, latitude):
     return fill_racks(face, usable, module, tilt_deg=options.rack_tilt_deg,
                       rack_azimuth_deg=options.rack_azimuth_deg, row_pitch_m=pitch,
                       orientation=orientation, gap_m=options.gap_along_eave_m,
-                      rows=options.rows, offset_steps=options.offset_steps)
+                      base_height_m=options.rack_base_height_m, rows=options.rows,
+                      offset_steps=options.offset_steps)
 
 
 def _plan_share(modules, spec: ModuleSpec, roof_plan_area_m2: float) -> float:

@@ -170,3 +170,26 @@ def test_energy_options_round_trip_through_the_project_file(demo, tmp_path):
                                                         inverter_efficiency=0.96))
     edited = demo.with_changes(energy=energy)
     assert load_project(save_project(edited, tmp_path / "e")).energy == energy
+
+
+def test_a_parapet_casts_a_shadow_as_long_as_geometry_says():
+    # A wall of height h shades the flat roof behind it to h / tan(elevation) when the sun
+    # stands square to it (plane geometry; REFERENCES.md gives the pole case, 2.00 × height
+    # at 40° N solstice noon, elevation 26.56°).
+    from layout import flat_roof
+    from layout.energy import parapet_walls, scene_casters
+    from layout.shading import shaded
+    from layout.sun import sun_vectors
+
+    roof = flat_roof(20.0, 12.0, eave_height_m=6.0, parapet_height_m=1.0, name="store")
+    project = Project(site=Site(40.0, -105.0, "America/Denver"), buildings=(roof,),
+                      module=generic_60_cell(400.0), clearance=no_setbacks())
+    walls = parapet_walls(project)
+    assert len(walls) == 4
+    assert {round(max(c[2] for c in w.corners), 9) for w in walls} == {7.0}
+    reach = 1.0 / math.tan(math.radians(26.56))  # 2.00 m
+    sun = sun_vectors(np.array([180.0]), np.array([26.56]))
+    points = np.array([[10.0, 0.98 * reach, 6.0], [10.0, 1.02 * reach, 6.0]])
+    assert shaded(points, sun, scene_casters(project)).tolist() == [[True, False]]
+    no_parapet = project.with_changes(buildings=(replace(roof, parapet_height_m=0.0),))
+    assert parapet_walls(no_parapet) == ()
