@@ -212,5 +212,21 @@ def test_dragging_the_tree_updates_the_annual_shade_loss(voila_url, browser_tool
             print(f"\nscreenshot: {shot}\nmouse-up to new shade loss on screen: "
                   f"{elapsed_ms:.0f} ms")
             assert shot.stat().st_size > 10_000
+
+            # the Survey tab: the tangent-method worked example typed field by field shows
+            # its height (REFERENCES.md "Survey": 50 ft at 17 deg, eye 5.5 ft -> 20.8 ft)
+            page.locator(".eaveline-side .lm-TabBar-tab", has_text="Survey").click()
+            for key, text in (("eye-height-m", "5.5 ft"), ("bearing-deg", "0"),
+                              ("distance-m", "50 ft"), ("top-angle-deg", "17"),
+                              ("crown-radius-m", "10 ft"), ("crown-base-m", "8 ft")):
+                field = page.locator(f".eaveline-survey-{key} input").first
+                field.fill(text)
+                field.press("Enter")  # continuous_update=False: sent on Enter
+            expect(page.locator(".eaveline-survey-readout")).to_contain_text(
+                "Height 20.79 ft", timeout=15_000)
+            expect(page.locator(".eaveline-survey-list")).to_contain_text("20.79 ft")
+            survey_shot = tmp_path / "planner-survey.png"
+            page.screenshot(path=str(survey_shot), full_page=True)
+            print(f"survey screenshot: {survey_shot}")
         finally:
             browser.close()

@@ -55,6 +55,7 @@ def planner(shared_planner, demo):
     p.preset.value = "as in the project"
     p.selected_id = None
     assert p.set_project(demo)
+    p.survey.new_entry()
     return p
 
 
@@ -683,3 +684,210 @@ def test_compare_waits_for_a_request_after_an_edit(planner):
     assert planner.compare_result is not shown
     assert planner.compare_result.loc["portrait", "shade_loss_pct"] == pytest.approx(
         planner.result.totals["shade_loss_pct"], rel=1e-9)
+
+
+
+# --------------------------------------------------------------------------- Survey tab
+# The worked example of the tangent method (REFERENCES.md "Survey", forestry mensuration, USDA
+# Forest Service field guides): 50 ft away, 17° to the top, eye at 5.5 ft -> 20.8 ft. The tree
+# stands 6 m south of the demo's south eave, sighted due north from a station 50 ft further
+# south, so that it shades the array in winter.
+WORKED_EXAMPLE = {
+    "name": "oak", "station_x_m": "5 m", "station_y_m": "-21.24 m", "eye_height_m": "5.5 ft",
+    "bearing_deg": "0", "distance_m": "50 ft", "top_angle_deg": "17",
+    "crown_radius_m": "10 ft", "crown_base_m": "8 ft",
+}
+
+
+def worked_entry():
+    from layout.survey import SurveyEntry
+
+    return SurveyEntry("tree", 0.0, 50 * FOOT_M, 17.0, eye_height_m=5.5 * FOOT_M,
+                       station_x_m=5.0, station_y_m=-21.24, crown_radius_m=10 * FOOT_M,
+                       crown_base_m=8 * FOOT_M, name="oak")
+
+
+def type_readings(panel, values):
+    """What a user does: type each field and leave it (continuous_update=False)."""
+    for key, text in values.items():
+        panel.rows[key].input.value = text
+
+
+def shown_height_ft(panel) -> float:
+    return float(re.search(r"Height ([\d.]+) ft", panel.readout.value).group(1))
+
+
+def test_survey_form_shows_the_worked_example_height():
+    from layout.survey import height_tangent
+    from widgets.survey_panel import SurveyPanel
+
+    panel = SurveyPanel()
+    panel.show((), units="imperial")
+    type_readings(panel, {k: v for k, v in WORKED_EXAMPLE.items() if k != "crown_base_m"})
+    assert panel.entries == () and "Still needed: Crown base height" in panel.readout.value
+    type_readings(panel, {"crown_base_m": "8 ft"})
+    entry = panel.entries[0]
+    assert entry == worked_entry()
+    # REFERENCES.md worked example: 20.8 ft (the formula gives 20.79 ft)
+    expected = height_tangent(50 * FOOT_M, 17.0, eye_height_m=5.5 * FOOT_M)
+    assert entry.geometry()["height_m"] == pytest.approx(expected, rel=1e-12)
+    assert shown_height_ft(panel) == pytest.approx(expected / FOOT_M, abs=0.005)
+    assert shown_height_ft(panel) == pytest.approx(20.8, abs=0.05)
+    low, high = entry.height_range()
+    assert f"from {low / FOOT_M:.2f} ft" in panel.readout.value
+    assert f"to {high / FOOT_M:.2f} ft" in panel.readout.value
+    assert f"{expected / FOOT_M:.2f} ft" in panel.list_html.value
+
+
+def test_survey_tolerances_are_prefilled_with_the_cores_defaults():
+    from layout.survey import SurveyEntry
+    from widgets.survey_panel import SurveyPanel, default_tolerance, read_angle
+
+    # bare readings get the core's documented defaults (layout.survey module notes); values
+    # large enough that no default is cut to half of its size
+    tree = SurveyEntry("tree", 10.0, 20.0, 30.0, base_angle_deg=-3.0, crown_radius_m=4.0,
+                       crown_base_m=3.0)
+    tree_angle = SurveyEntry("tree", 10.0, 20.0, 30.0, crown_radius_m=4.0,
+                             crown_base_angle_deg=5.0)
+    wall = SurveyEntry("wall", 10.0, 20.0, 10.0, width_m=5.0, depth_m=1.0)
+    pole = SurveyEntry("pole", 10.0, 30.0, 10.0, method="laser", radius_m=0.5)
+    for entry in (tree, tree_angle, wall, pole):
+        for key, reading in vars(entry).items():
+            if hasattr(reading, "tolerance"):
+                assert default_tolerance(key, entry.method) == reading.tolerance, key
+    panel = SurveyPanel()
+    panel.show((), units="metric")
+    row = panel.rows["top_angle_deg"]
+    assert row.tolerance.value == "0.716"  # shown to 3 digits; left as is, the exact default
+    assert read_angle(row.tolerance.value, field="t") == pytest.approx(
+        default_tolerance("top_angle_deg"), abs=5e-4)
+    assert panel.rows["distance_m"].tolerance.value == "0.100 m"
+    panel.rows["method"].input.value = "laser"  # an untouched tolerance follows the method
+    assert panel.rows["distance_m"].tolerance.value == "0.300 m"
+    # a 5 cm vent radius: the core cuts the default to half the size, and the box says so
+    type_readings(panel, {"kind": "vent", "bearing_deg": "45", "distance_m": "20",
+                          "top_angle_deg": "15", "radius_m": "0.05"})
+    assert panel.entries[0].radius_m.tolerance == pytest.approx(0.025)
+    assert panel.entries[0].top_angle_deg.tolerance == default_tolerance("top_angle_deg")
+    assert panel.rows["radius_m"].tolerance.value == "0.025 m"
+    assert "(default)" in panel.rows["radius_m"].unit.value
+
+
+def test_a_surveyed_tree_stands_on_the_plan_and_in_the_figures(planner, demo, reference):
+    planner.show_tab("Survey")
+    type_readings(planner.survey, WORKED_EXAMPLE)
+    assert planner.project.survey == (worked_entry(),)
+    assert planner.project.obstructions == demo.obstructions
+    g = worked_entry().geometry()
+    plan = planner.plan
+    assert plan.surveyed_markers.x[0] == pytest.approx(g["x_m"] / FOOT_M)
+    assert plan.surveyed_markers.y[0] == pytest.approx(g["y_m"] / FOOT_M)
+    assert not plan.surveyed_markers.enable_move  # moved through its readings only
+    assert plan.station_marks.x[0] == pytest.approx(5.0 / FOOT_M)
+    # the crown is drawn with the trees: one more crown ring than the demo has
+    assert len(plan.tree_marks.x) == 1 + sum(type(o).__name__ == "Tree"
+                                             for o in demo.obstructions)
+    totals = core_result(reference, planner.project).totals
+    assert shown_loss(planner) == pytest.approx(totals["shade_loss_pct"], abs=0.005)
+    assert totals["shade_loss_pct"] > core_result(reference, demo).totals["shade_loss_pct"]
+    # the sky chart and the shadows see the surveyed tree as well
+    assert planner.project.scene_obstructions[-1] == worked_entry().obstruction()
+
+
+def test_a_bad_reading_stays_beside_its_field_and_the_survey_is_kept(planner):
+    panel = planner.survey
+    type_readings(panel, WORKED_EXAMPLE)
+    project = planner.project
+    row = panel.rows["top_angle_deg"]
+    row.input.value = "95"
+    assert "out of range" in row.error and "90" in row.error
+    assert planner.project is project and row.input.value == "95"  # nothing typed is lost
+    panel.rows["crown_radius_m"].tolerance.value = "wide"
+    assert "tolerance is not a length" in panel.rows["crown_radius_m"].error
+    assert "out of range" in row.error  # both messages stay until each field is right
+    assert planner.project is project
+    panel.rows["crown_radius_m"].tolerance.value = "1 ft"
+    row.input.value = "18"
+    assert row.error == "" and panel.rows["crown_radius_m"].error == ""
+    entry = planner.project.survey[0]
+    assert entry.top_angle_deg.value == 18.0
+    assert entry.crown_radius_m.tolerance == pytest.approx(FOOT_M, rel=1e-12)
+    # a crown base above the top is the core's refusal, shown beside the crown base
+    panel.rows["crown_base_m"].input.value = "30 ft"
+    assert "crown base outside the tree" in panel.rows["crown_base_m"].error
+    assert planner.project.survey[0] == entry
+
+
+def test_surveyed_ring_opens_the_entry_and_delete_removes_it(planner, demo):
+    type_readings(planner.survey, WORKED_EXAMPLE)
+    planner.survey.new_entry()
+    planner.tabs.selected_index = 0
+    planner.plan.surveyed_markers.selected = [0]  # a click on the ring
+    assert planner.tabs.selected_index == planner.tabs.titles.index("Survey")
+    assert planner.survey.index == 0
+    assert planner.survey.rows["distance_m"].input.value == "50 ft 0 in"
+    planner.survey.delete_button.click()
+    assert planner.project.survey == ()
+    assert planner.plan.surveyed_markers.x.size == 0
+    assert shown_count(planner) == demo.layout().count
+
+
+def test_survey_csv_import_keeps_good_rows_and_lists_bad_ones(planner):
+    import html as html_module
+    from pathlib import Path
+
+    from layout.survey import read_survey_csv
+
+    path = Path(__file__).parent / "data" / "survey_yard.csv"
+    entries, problems = read_survey_csv(path)  # the core's own reading of the file
+    assert problems and entries
+    panel = planner.survey
+    panel.csv_path.value = str(path)
+    panel.import_button.click()
+    assert planner.project.survey == tuple(entries)
+    shown = html_module.unescape(panel.import_message.value)
+    for problem in problems:
+        assert f"row {problem.row}, {problem.column or 'row'}" in shown
+        assert str(problem) in shown
+    panel.csv_path.value = str(path.with_name("no-such-survey.csv"))
+    panel.import_button.click()
+    assert "Not read" in panel.import_message.value
+    assert planner.project.survey == tuple(entries)
+
+
+def test_loss_band_is_the_cores_for_the_same_seed(planner, reference):
+    from layout.outlook import shade_loss_range
+
+    assert planner.range_button.disabled  # the demo has no survey
+    type_readings(planner.survey, WORKED_EXAMPLE)
+    project = planner.project
+    planner.range_samples.value, planner.range_seed.value = 4, 7
+    said = []
+    planner.status.observe(lambda change: said.append(change["new"]), names="value")
+    planner.range_button.click()
+    band = planner.loss_range
+    assert any("Loss range: draw 4 of 4" in text for text in said)
+    core = shade_loss_range(project, samples=4, seed=7, analysis=reference)
+    pd.testing.assert_frame_equal(band.totals[["nominal", "p5", "p95"]],
+                                  core.totals[["nominal", "p5", "p95"]], rtol=1e-9)
+    loss = core.totals.loc["shade_loss_pct"]
+    assert loss["p95"] > loss["p5"]  # the tolerances move this tree's shade
+    text = planner.band_label.value
+    assert f"{loss['p5']:.2f} to {loss['p95']:.2f}</b> %" in text
+    assert "4 draws" in text and "seed 7" in text
+    # per module: hover text and the selected module's readout
+    module_id = planner.selected_id
+    low = core.modules.loc[module_id, "shade_loss_pct_p5"]
+    high = core.modules.loc[module_id, "shade_loss_pct_p95"]
+    assert f"(range {low:.2f} to {high:.2f} %)" in planner.module_readout.value
+    i = planner.plan.module_ids.index(module_id)
+    assert f"(range {low:.1f} to {high:.1f} %)" in planner.plan.module_targets.names[i]
+    # the planner's analysis is left on the project shown
+    assert planner.analysis.project is project
+    assert shown_loss(planner) == pytest.approx(loss["nominal"], abs=0.005)
+    # kept through a change of units, dropped when the project changes
+    planner.units_toggle.value = "metric"
+    assert "eaveline-band" in planner.band_label.value
+    drop_marker(planner, TREE, -1.0, -6.0)
+    assert "press <b>Loss range</b>" in planner.band_label.value
+    assert "range" not in planner.module_readout.value

@@ -2,8 +2,9 @@
 
 The widgets observe a project and the core's results and render them; they never compute
 physics. :class:`Planner` is the composite planner (plan, side panel, sky chart, heat map,
-timeline, files, cautions);
-``python -m widgets`` serves it as a web app with Voila.
+timeline, files, cautions), :class:`SurveyPanel` its Survey tab (field readings with their
+tolerances, the surveyed list, a CSV import);
+``python -m widgets`` serves the planner as a web app with Voila.
 """
 
 from .charts import HoursHeatMap
@@ -11,6 +12,8 @@ from .forms import ObstructionForm
 from .plan_view import PlanView
 from .planner import Planner
 from .sky_chart import SkyChart
+from .survey_panel import SurveyPanel
 from .timeline import Timeline
 
-__all__ = ["HoursHeatMap", "ObstructionForm", "PlanView", "Planner", "SkyChart", "Timeline"]
+__all__ = ["HoursHeatMap", "ObstructionForm", "PlanView", "Planner", "SkyChart", "SurveyPanel",
+           "Timeline"]

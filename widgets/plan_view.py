@@ -3,8 +3,15 @@
 Everything is drawn in the site frame (x east, y north) at true scale with equal axes, in
 metres or in feet as the project asks. The view only draws what the core computed
 (:meth:`layout.project.Project.layout` and the usable areas of :mod:`layout.clearance`) and
-reports two gestures back to its owner: an obstruction marker dropped at a new place, and a
-click on a module. It never changes the project itself.
+reports three gestures back to its owner: an obstruction marker dropped at a new place, a
+click on a module, and a click on a surveyed obstruction. It never changes the project itself.
+
+Surveyed obstructions (:attr:`layout.project.Project.survey`) are drawn like the others, from
+the obstruction their nominal readings build, and marked as surveyed: a hollow ring at the
+sighted axis, a small triangle at the station and a dotted sight line between them. They are
+not dragged: their place follows from a bearing and a distance off the station, so a drag
+would have to rewrite readings the surveyor took. A click on the ring opens the entry in the
+Survey tab, where its readings are edited.
 """
 
 from __future__ import annotations
@@ -19,7 +26,7 @@ import ipywidgets as w
 import numpy as np
 import shapely
 
-from layout.units import FOOT_M
+from layout.units import FOOT_M, format_length
 
 from . import style
 
@@ -91,6 +98,9 @@ class PlanScene:
     obstructions : tuple of (int, str, bool, shapely geometry, (float, float))
         Index in the project, label, whether it is a tree, plan footprint [m] and marker
         anchor [m].
+    surveyed : tuple of (int, str, bool, shapely geometry, (float, float), (float, float))
+        Index in ``project.survey``, label, whether it is a tree, plan footprint [m], the
+        sighted axis [m] and the station the readings were taken from [m].
     """
 
     faces: tuple
@@ -99,11 +109,13 @@ class PlanScene:
     usable: tuple
     modules: tuple
     obstructions: tuple
+    surveyed: tuple = ()
 
     def bounds(self) -> tuple[float, float, float, float]:
         """``(xmin, ymin, xmax, ymax)`` of everything drawn [m]."""
         geoms = [shapely.Polygon(ring) for _, ring in self.faces]
         geoms += [footprint for _, _, _, footprint, _ in self.obstructions]
+        geoms += [footprint for _, _, _, footprint, _, _ in self.surveyed]
         if not geoms:
             return (0.0, 0.0, 10.0, 10.0)
         return tuple(float(b) for b in shapely.total_bounds(geoms))
@@ -157,8 +169,24 @@ def plan_scene(project, layout, areas: dict) -> PlanScene:
         (i, obstruction_label(o, i), type(o).__name__ == "Tree", o.footprint_polygon,
          obstruction_anchor(o))
         for i, o in enumerate(project.obstructions) if _is_drawn(o))
+    built = project.scene_obstructions[len(project.obstructions):]
+    surveyed = tuple(
+        (i, obstruction_label(o, i) if o.name else f"{entry.kind} {i + 1} (surveyed)",
+         type(o).__name__ == "Tree", o.footprint_polygon, obstruction_anchor(o),
+         (float(entry.station_x_m), float(entry.station_y_m)))
+        for i, (entry, o) in enumerate(zip(project.survey, built, strict=True)))
     return PlanScene(faces=tuple(faces), edges=tuple(edges), zones=tuple(zones),
-                     usable=tuple(usable), modules=modules, obstructions=obstructions)
+                     usable=tuple(usable), modules=modules, obstructions=obstructions,
+                     surveyed=surveyed)
+
+
+def _footprint_rings(scene: PlanScene) -> tuple[list, list]:
+    """Rings of the solid obstructions and of the tree crowns, surveyed ones included [m]."""
+    every = [(tree, fp) for _, _, tree, fp, _ in scene.obstructions]
+    every += [(tree, fp) for _, _, tree, fp, _, _ in scene.surveyed]
+    solids = [r for tree, fp in every if not tree for r in _rings(fp)]
+    crowns = [r for tree, fp in every if tree for r in _rings(fp)]
+    return solids, crowns
 
 
 # --------------------------------------------------------------------------- drawing helpers
@@ -236,7 +264,9 @@ class PlanView(w.VBox):
 
     - :meth:`on_obstruction_moved` ``(index, x_m, y_m)``: obstruction ``index`` of the project
       was dropped with its marker at plan point (x, y) [m];
-    - :meth:`on_module_clicked` ``(module_id)``: the user clicked a module.
+    - :meth:`on_module_clicked` ``(module_id)``: the user clicked a module;
+    - :meth:`on_surveyed_clicked` ``(index)``: the user clicked surveyed obstruction
+      ``index`` of ``project.survey`` (surveyed obstructions are not dragged).
     """
 
     def __init__(self, *, width_px: int = FIGURE_WIDTH_PX, height_px: int = FIGURE_HEIGHT_PX):
@@ -251,6 +281,8 @@ class PlanView(w.VBox):
         self._quiet = False
         self._moved: list[Callable] = []
         self._clicked: list[Callable] = []
+        self._survey_clicked: list[Callable] = []
+        self._surveyed_index: list[int] = []
         self.module_values = None
         self.module_values_label = ""
         self._scale_limits: tuple = (None, None)
@@ -313,6 +345,18 @@ class PlanView(w.VBox):
             display_names=False, interactions={"hover": "tooltip"},
             tooltip=bq.Tooltip(fields=["name"], labels=["drag"]),
         )
+        self.sight_marks = lines(colors=["#7d8786"], stroke_width=0.8, line_style="dotted")
+        self.station_marks = bq.Scatter(
+            x=[], y=[], scales=scales, marker="triangle-up", default_size=40,
+            colors=["#7d8786"], stroke="white", stroke_width=0.5, display_names=False,
+            interactions={"hover": "tooltip"},
+            tooltip=bq.Tooltip(fields=["name"], labels=["station"]))
+        self.surveyed_markers = bq.Scatter(
+            x=[], y=[], scales=scales, marker="circle", default_size=110, fill=False,
+            colors=[style.INK], stroke=style.INK, stroke_width=2.0, enable_move=False,
+            display_names=False, interactions={"click": "select", "hover": "tooltip"},
+            tooltip=bq.Tooltip(fields=["name"], labels=["surveyed"]),
+            selected_style={}, unselected_style={})
         self.x_axis = bq.Axis(scale=xs, label="x, east [m]", grid_color="#eeeeee",
                               label_offset="36px")
         self.y_axis = bq.Axis(scale=ys, label="y, north [m]", side="left",
@@ -328,8 +372,9 @@ class PlanView(w.VBox):
             marks=[self.face_marks, self.zone_fill_marks, self.hatch_marks, self.usable_marks,
                    self.module_fill_marks, self.removed_marks, self.flag_marks,
                    self.shadow_marks, self.tree_marks, self.obstruction_marks,
-                   self.edge_labels, self.face_labels, self.selected_mark,
-                   self.module_targets, self.obstruction_markers],
+                   self.sight_marks, self.edge_labels, self.face_labels, self.selected_mark,
+                   self.module_targets, self.station_marks, self.surveyed_markers,
+                   self.obstruction_markers],
             axes=[self.x_axis, self.y_axis],
             fig_margin=dict(FIGURE_MARGIN_PX), display_toolbar=False,
             background_style={"fill": "white"}, padding_x=0.0, padding_y=0.0,
@@ -341,16 +386,18 @@ class PlanView(w.VBox):
         self.zoom_toggle = w.ToggleButton(value=False, description="Zoom and pan",
                                           tooltip="Wheel to zoom, drag to pan; turn off to "
                                                   "move obstructions again",
-                                          layout=w.Layout(width="auto"))
+                                          layout=w.Layout(width="auto", flex="0 0 auto"))
         self.fit_button = w.Button(description="Fit", tooltip="Show the whole site",
-                                   layout=w.Layout(width="auto"))
+                                   layout=w.Layout(width="auto", flex="0 0 auto"))
         self.zoom_toggle.observe(self._toggle_zoom, names="value")
         self.fit_button.on_click(lambda _: self.fit())
         self.hint = w.HTML(
             "<span style='color:#5d6b6a;font-size:12px'>Drag a dark marker to move that "
-            "obstruction; click a module to take it out or put it back.</span>")
+            "obstruction; click a module to take it out or put it back. A hollow ring is "
+            "surveyed: click it to edit its readings in Survey.</span>")
         self.obstruction_markers.observe(self._marker_moved, names=["x", "y"])
         self.module_targets.observe(self._module_selected, names=["selected"])
+        self.surveyed_markers.observe(self._surveyed_selected, names=["selected"])
         super().__init__([w.HBox([self.zoom_toggle, self.fit_button, self.hint],
                                  layout=w.Layout(align_items="center")),
                           self.figure])
@@ -363,6 +410,51 @@ class PlanView(w.VBox):
     def on_module_clicked(self, callback: Callable) -> None:
         """Call ``callback(module_id)`` when a module is clicked."""
         self._clicked.append(callback)
+
+    def on_surveyed_clicked(self, callback: Callable) -> None:
+        """Call ``callback(index)`` when the ring of surveyed obstruction ``index`` is clicked."""
+        self._survey_clicked.append(callback)
+
+    def _surveyed_selected(self, change) -> None:
+        if self._quiet:
+            return
+        selected = change["new"]
+        if selected is None or len(selected) == 0:
+            return
+        i = int(np.asarray(selected)[-1])
+        with self._silently():
+            self.surveyed_markers.selected = None
+        if 0 <= i < len(self._surveyed_index):
+            for callback in self._survey_clicked:
+                callback(self._surveyed_index[i])
+
+    def _draw_surveyed(self, scene: PlanScene) -> None:
+        """Set the survey marks (rings, stations, sight lines); call inside hold_sync."""
+        k = self._k
+        self._surveyed_index = [i for i, *_ in scene.surveyed]
+        anchors = np.array([a for *_, a, _ in scene.surveyed], dtype=float).reshape(-1, 2) * k
+        stations = np.array([s for *_, s in scene.surveyed], dtype=float).reshape(-1, 2) * k
+        self.surveyed_markers.x = anchors[:, 0].tolist()
+        self.surveyed_markers.y = anchors[:, 1].tolist()
+        self.surveyed_markers.names = [label for _, label, *_ in scene.surveyed]
+        self.surveyed_markers.selected = None
+        unique = np.unique(stations, axis=0) if len(stations) else stations
+        self.station_marks.x = unique[:, 0].tolist()
+        self.station_marks.y = unique[:, 1].tolist()
+        self.station_marks.names = [f"x {format_length(x / k, self.units)}, "
+                                    f"y {format_length(y / k, self.units)}" for x, y in unique]
+        sights = [np.array([s, a]) for s, a in zip(stations, anchors, strict=True)]
+        self.sight_marks.x = [line[:, 0].tolist() for line in sights]
+        self.sight_marks.y = [line[:, 1].tolist() for line in sights]
+
+    def _surveyed_in_view(self, scene: PlanScene) -> bool:
+        if not scene.surveyed:
+            return True
+        x0, y0, x1, y1 = shapely.total_bounds([fp for _, _, _, fp, _, _ in scene.surveyed])
+        k = self._k
+        xs, ys = self.x_scale, self.y_scale
+        return (xs.min <= x0 * k and x1 * k <= xs.max and ys.min <= y0 * k
+                and y1 * k <= ys.max)
 
     def _marker_moved(self, change) -> None:
         if self._quiet:
@@ -465,8 +557,7 @@ class PlanView(w.VBox):
         usable_rings = [r for _, area in scene.usable for r in _rings(area)]
         active = [ring for _, ring, on in scene.modules if on]
         removed = [ring for _, ring, on in scene.modules if not on]
-        solids = [r for _, _, tree, fp, _ in scene.obstructions if not tree for r in _rings(fp)]
-        crowns = [r for _, _, tree, fp, _ in scene.obstructions if tree for r in _rings(fp)]
+        solids, crowns = _footprint_rings(scene)
 
         centroids = {name: np.asarray(shapely.Polygon(ring).centroid.coords[0])
                      for name, ring in scene.faces}
@@ -498,7 +589,8 @@ class PlanView(w.VBox):
         marks = [self.face_marks, self.zone_fill_marks, self.hatch_marks, self.usable_marks,
                  self.module_fill_marks, self.removed_marks, self.obstruction_marks,
                  self.tree_marks, self.edge_labels, self.face_labels, self.module_targets,
-                 self.obstruction_markers, self.flag_marks, self.selected_mark]
+                 self.obstruction_markers, self.flag_marks, self.selected_mark,
+                 self.surveyed_markers, self.station_marks, self.sight_marks]
         with contextlib.ExitStack() as stack, self._silently():
             for mark in marks:
                 stack.enter_context(mark.hold_sync())
@@ -525,6 +617,7 @@ class PlanView(w.VBox):
             self.obstruction_markers.x = self._anchors[:, 0].tolist()
             self.obstruction_markers.y = self._anchors[:, 1].tolist()
             self.obstruction_markers.names = [label for _, label, *_ in scene.obstructions]
+            self._draw_surveyed(scene)
             self._paint_modules(scene)
             if self.shadow_outline is not None and refit_shadows:
                 self.show_shadows(self.shadow_outline)
@@ -536,14 +629,14 @@ class PlanView(w.VBox):
     def _draw_obstructions(self, scene: PlanScene) -> None:
         k = self._k
         self._scene = scene
-        solids = [r for _, _, tree, fp, _ in scene.obstructions if not tree for r in _rings(fp)]
-        crowns = [r for _, _, tree, fp, _ in scene.obstructions if tree for r in _rings(fp)]
+        solids, crowns = _footprint_rings(scene)
         self._obstruction_index = [i for i, *_ in scene.obstructions]
         self._anchors = np.array([a for *_, a in scene.obstructions], dtype=float).reshape(
             -1, 2) * k
         marks = [self.obstruction_marks, self.tree_marks, self.obstruction_markers,
                  self.module_fill_marks, self.module_targets, self.flag_marks,
-                 self.selected_mark]
+                 self.selected_mark, self.surveyed_markers, self.station_marks,
+                 self.sight_marks]
         with contextlib.ExitStack() as stack, self._silently():
             for mark in marks:
                 stack.enter_context(mark.hold_sync())
@@ -554,7 +647,10 @@ class PlanView(w.VBox):
             self.obstruction_markers.x = self._anchors[:, 0].tolist()
             self.obstruction_markers.y = self._anchors[:, 1].tolist()
             self.obstruction_markers.names = [label for _, label, *_ in scene.obstructions]
+            self._draw_surveyed(scene)
             self._paint_modules(scene)
+        if not self._surveyed_in_view(scene):
+            self.fit()  # a surveyed obstruction outside the view: show the whole site
 
     # ----------------------------------------------------------------- module figures
     @property

@@ -14,6 +14,11 @@ Module
     and the refill; the module count, kWp and the rules in force are always shown.
 Objects
     The obstruction form (edit, add, delete).
+Survey
+    Field readings typed one obstruction at a time, each with its tolerance, with the height
+    the core computes and its range (:class:`widgets.survey_panel.SurveyPanel`); the list of
+    surveyed obstructions; a CSV import. Surveyed obstructions stand on the plan with a
+    hollow ring and are not dragged: a click on the ring opens their readings here.
 Sky
     Sun paths and the skyline seen from the selected module, with its monthly figures.
 Hours
@@ -23,6 +28,15 @@ Compare
     (:func:`layout.compare.compare_layouts`), as a table and a bar chart.
 File
     Save and load the project; export the module table (CSV) and outlines (GeoJSON).
+
+Loss range
+----------
+The **Loss range** button under the totals carries the tolerances of the survey readings to
+the annual shade loss (:func:`layout.outlook.shade_loss_range`, run on the planner's own
+analysis, so each draw ray-tests only the surveyed obstructions): the 5th to 95th percentile
+band is shown beside the totals, and per module in the hover text and the selected module's
+readout, with the number of draws and the seed. It is kept until the project changes (a change
+of units alone keeps it).
 """
 
 from __future__ import annotations
@@ -46,6 +60,7 @@ from layout.clearance import (
 from layout.compare import compare_layouts
 from layout.energy import scene_casters
 from layout.errors import InputError
+from layout.outlook import DEFAULT_SAMPLES, shade_loss_range
 from layout.placement import FILL_ORIENTATIONS
 from layout.project import FILE_SUFFIX, ProjectFileError, load_project, save_project
 from layout.sun import TYPICAL_YEAR
@@ -57,6 +72,7 @@ from .export import write_layout_geojson, write_module_table
 from .forms import FieldRow, ObstructionForm, error_text, length_text, read_length
 from .plan_view import PlanView, obstruction_anchor, obstruction_label, plan_scene
 from .sky_chart import SkyChart
+from .survey_panel import SurveyPanel
 from .timeline import Timeline, roof_shadows
 
 __all__ = [
@@ -65,6 +81,7 @@ __all__ = [
     "SETBACK_PRESETS",
     "TAB_NAMES",
     "Planner",
+    "band_text",
     "module_note",
     "snap_length",
     "totals_text",
@@ -98,7 +115,7 @@ FIGURES = {
 }
 
 #: Side panel tabs, in order.
-TAB_NAMES = ("Module", "Objects", "Sky", "Hours", "Compare", "File")
+TAB_NAMES = ("Module", "Objects", "Survey", "Sky", "Hours", "Compare", "File")
 
 #: Drag positions snap to this grid [m]: 1 cm, or a quarter inch in imperial projects.
 SNAP_M = {"metric": 0.01, "imperial": INCH_M / 4}
@@ -130,10 +147,40 @@ def totals_text(totals: dict) -> str:
         f"(thick outline)</span>")
 
 
-def module_note(module_id: str, row) -> str:
-    """Hover text of one module: its id and annual figures (a row of the module table)."""
-    return (f"{module_id}: {row.energy_kwh:.0f} kWh, shade loss {row.shade_loss_pct:.1f} %, "
-            f"TSRF {row.tsrf_pct:.1f} %")
+def _band_columns(band) -> tuple[str, str]:
+    """Labels of the lowest and highest percentile of a loss range: ``("p5", "p95")``."""
+    return f"p{min(band.percentiles):g}", f"p{max(band.percentiles):g}"
+
+
+def module_note(module_id: str, row, band: tuple[float, float] | None = None) -> str:
+    """Hover text of one module: its id and annual figures (a row of the module table).
+
+    ``band`` is the module's shade loss range [%] over the survey tolerances (low, high),
+    shown after its shade loss when given.
+    """
+    loss = f"shade loss {row.shade_loss_pct:.1f} %"
+    if band is not None:
+        loss += f" (range {band[0]:.1f} to {band[1]:.1f} %)"
+    return f"{module_id}: {row.energy_kwh:.0f} kWh, {loss}, TSRF {row.tsrf_pct:.1f} %"
+
+
+def band_text(band) -> str:
+    """One line of HTML with a layout's shade loss range (a :class:`ShadeLossRange`).
+
+    The band is the lowest to the highest percentile asked for (5th to 95th by default)
+    around the nominal readings' loss, with the energy lost, the draws and the seed.
+    """
+    low, high = _band_columns(band)
+    loss = band.totals.loc["shade_loss_pct"]
+    lost = band.totals.loc["energy_lost_kwh"]
+    seed = "none" if band.seed is None else str(band.seed)
+    notes = "".join(f"<br>{html.escape(n)}" for n in band.notes)
+    return (f"<span style='font-size:13px;color:{style.INK}'>Over the survey tolerances: "
+            f"shade loss <b class='eaveline-band'>{loss[low]:.2f} to {loss[high]:.2f}</b> % "
+            f"({low}–{high}) around {loss['nominal']:.2f} %; energy lost {lost[low]:,.1f} to "
+            f"{lost[high]:,.1f} kWh a year</span>"
+            f"<span style='font-size:12px;color:#5d6b6a'> · {band.samples} draws of the "
+            f"readings, seed {seed}, {band.distribution} errors{notes}</span>")
 
 
 def _html_lines(lines, *, colour: str = "#34403f") -> str:
@@ -221,13 +268,31 @@ class Planner(w.VBox):
 
         self.objects = ObstructionForm()
         self.objects.on_change(self._obstructions_edited)
+        self.survey = SurveyPanel()
+        self.survey.base_dir = self._base_dir
+        self.survey.on_change(self._survey_edited)
+        self.plan.on_surveyed_clicked(self._surveyed_clicked)
+        self.loss_range = None
+        self._range_key = None
+        self.range_button = w.Button(description="Loss range", layout=w.Layout(width="auto"),
+                                     tooltip="Draw the survey readings from their tolerances "
+                                             "and evaluate each draw: the 5th to 95th "
+                                             "percentile of the shade loss")
+        self.range_button.add_class("eaveline-loss-range")
+        self.range_button.on_click(lambda _: self.run_loss_range())
+        self.range_samples = w.BoundedIntText(value=DEFAULT_SAMPLES, min=2, max=5000,
+                                              description="Draws",
+                                              layout=w.Layout(width="150px"))
+        self.range_seed = w.IntText(value=0, description="Seed", layout=w.Layout(width="140px"))
+        self.band_label = w.HTML()
+        self.band_label.add_class("eaveline-loss-band")
         self._build_module_tab()
         self._build_sky_tab()
         self._build_hours_tab()
         self._build_compare_tab()
         self._build_file_tab(path)
-        self.tabs = w.Tab(children=[self.module_tab, self.objects, self.sky_tab, self.hours_tab,
-                                    self.compare_tab, self.file_tab],
+        self.tabs = w.Tab(children=[self.module_tab, self.objects, self.survey, self.sky_tab,
+                                    self.hours_tab, self.compare_tab, self.file_tab],
                           titles=TAB_NAMES,
                           layout=w.Layout(width="600px", min_width="480px"))
         self.tabs.add_class("eaveline-side")
@@ -237,7 +302,10 @@ class Planner(w.VBox):
             + "<br>".join(html.escape(c) for c in CAUTIONS) + "</div>")
         self.cautions.add_class("eaveline-cautions")
 
-        figures = w.VBox([self.count_label, self.totals_label, self.module_readout,
+        figures = w.VBox([self.count_label, self.totals_label,
+                          w.HBox([self.range_button, self.range_samples, self.range_seed],
+                                 layout=w.Layout(align_items="center")),
+                          self.band_label, self.module_readout,
                           self.caveat_label, self.last_move,
                           w.HBox([self.progress, self.status],
                                  layout=w.Layout(align_items="center"))],
@@ -298,6 +366,8 @@ class Planner(w.VBox):
         self._draw_shadows()
         self.objects.show(project.obstructions, units=project.units,
                           new_position=self._roof_middle())
+        self.survey.show(project.survey, units=project.units)
+        self._show_band()
         self._show_module_fields()
         self._refresh_tab()
         self.last_recompute_s = time.perf_counter() - start
@@ -339,7 +409,8 @@ class Planner(w.VBox):
             values = table[key]
         threshold = self.project.energy.tsrf_threshold_pct
         flagged = table.index[table["tsrf_pct"] < threshold] if len(table) else []
-        notes = {mid: module_note(mid, row) for mid, row in zip(
+        bands = self._module_bands()
+        notes = {mid: module_note(mid, row, bands.get(mid)) for mid, row in zip(
             table.index, table.itertuples(index=False), strict=True)}
         self.plan.set_module_figures(values, label=label or "", vmin=vmin, flagged=flagged,
                                      notes=notes, selected=self.selected_id, redraw=redraw)
@@ -376,11 +447,16 @@ class Planner(w.VBox):
             self.module_readout.value = ""
             return
         r = table.loc[self.selected_id]
+        band = self._module_bands().get(self.selected_id)
+        band_part = ("" if band is None else
+                     f" <span class='eaveline-module-band'>(range {band[0]:.2f} to "
+                     f"{band[1]:.2f} %)</span>")
         self.module_readout.value = (
             f"<span style='font-size:12px;color:{style.INK}'>Selected module "
             f"<b>{html.escape(self.selected_id)}</b> (diamond): {r.energy_kwh:.0f} kWh · "
-            f"shade loss {r.shade_loss_pct:.2f} % · solar access {r.solar_access_pct:.1f} % · "
-            f"TOF {r.tof_pct:.1f} % · TSRF {r.tsrf_pct:.1f} %</span>")
+            f"shade loss {r.shade_loss_pct:.2f} %{band_part} · solar access "
+            f"{r.solar_access_pct:.1f} % · TOF {r.tof_pct:.1f} % · TSRF {r.tsrf_pct:.1f} %"
+            f"</span>")
 
     def select_module(self, module_id: str) -> None:
         """Show one active module in the Sky and Hours tabs and mark it on the plan."""
@@ -435,6 +511,124 @@ class Planner(w.VBox):
             self.objects.show(self.project.obstructions, units=self.project.units, index=index,
                               new_position=self._roof_middle())
 
+    def _survey_edited(self, entries, index) -> bool:
+        try:
+            project = self.project.with_changes(survey=tuple(entries))
+        except (InputError, ProjectFileError) as err:
+            self._status(f"Survey not changed: {err}", error=True)
+            return False
+        count = len(project.survey)
+        noun = "obstruction" if count == 1 else "obstructions"
+        if not self.set_project(project, message=f"Survey updated: {count} surveyed {noun}."):
+            return False
+        self.survey.show(self.project.survey, units=self.project.units, index=index)
+        return True
+
+    def _surveyed_clicked(self, index: int) -> None:
+        self.show_tab("Survey")
+        self.survey.select(index)
+
+    # ----------------------------------------------------------------- loss range
+    @staticmethod
+    def _range_key_of(project) -> tuple:
+        """Return what a loss range depends on: all but the units, name and notes."""
+        return (project.site, project.buildings, project.module, project.clearance,
+                project.fill, project.array_faces, project.obstructions, project.survey,
+                project.removed, project.pathways, project.energy)
+
+    def _range_current(self) -> bool:
+        return self.loss_range is not None and self._range_key == self._range_key_of(
+            self.project)
+
+    def _module_bands(self) -> dict:
+        """Shade loss range [%] (low, high) per module id, when the loss range is current."""
+        if not self._range_current():
+            return {}
+        low, high = _band_columns(self.loss_range)
+        modules = self.loss_range.modules
+        return {mid: (float(a), float(b)) for mid, a, b in zip(
+            modules.index, modules[f"shade_loss_pct_{low}"],
+            modules[f"shade_loss_pct_{high}"], strict=True) if np.isfinite(a)}
+
+    def _show_band(self) -> None:
+        p = self.project
+        self.range_button.disabled = not p.survey
+        if self._range_current():
+            self.band_label.value = band_text(self.loss_range)
+        elif self.loss_range is not None and p.survey:
+            self.band_label.value = (
+                "<span style='font-size:12px;color:#2b7c79'>The project changed since the "
+                "loss range: press <b>Loss range</b> to draw the readings again.</span>")
+        elif p.survey:
+            self.band_label.value = (
+                "<span style='font-size:12px;color:#5d6b6a'>Press <b>Loss range</b> for the "
+                "5th to 95th percentile of the shade loss over the survey tolerances.</span>")
+        else:
+            self.band_label.value = (
+                "<span style='font-size:12px;color:#5d6b6a'>A loss range needs surveyed "
+                "obstructions (Survey tab).</span>")
+
+    def run_loss_range(self, *, samples: int | None = None, seed: int | None = ...):
+        """Carry the survey tolerances to the shade loss and show the band.
+
+        Runs :func:`layout.outlook.shade_loss_range` on the planner's analysis (it is left
+        holding the project shown), with the progress line counting the draws.
+
+        Parameters
+        ----------
+        samples : int, keyword-only, optional
+            Draws of the readings, at least 2; default the "Draws" box.
+        seed : int or None, keyword-only, optional
+            Seed of the generator; default the "Seed" box.
+
+        Returns
+        -------
+        layout.outlook.ShadeLossRange or None
+            None when the project has no survey or the core refused.
+        """
+        p = self.project
+        if not p.survey:
+            self._show_band()
+            self._status("A loss range needs surveyed obstructions (Survey tab).")
+            return None
+        samples = self.range_samples.value if samples is None else samples
+        seed = self.range_seed.value if seed is ... else seed
+        evaluations = [0]
+
+        def progress(stage: str, step: int, total: int) -> None:
+            if step == total - 1:  # the last stage of an evaluation is announced
+                evaluations[0] += 1
+            current = evaluations[0] + (step < total - 1)  # the evaluation running, from 1
+            with self.progress.hold_sync():
+                self.progress.max = samples + 1
+                self.progress.value = current
+                self.progress.layout.visibility = "visible"
+            what = (f"draw {current} of {samples}" if current <= samples
+                    else "the nominal readings")
+            self._status(f"Loss range: {what} ({stage})…", busy=True)
+
+        saved = self.analysis.progress
+        self.analysis.progress = progress
+        start = time.perf_counter()
+        try:
+            band = shade_loss_range(p, samples=samples, seed=seed, analysis=self.analysis)
+        except (InputError, ProjectFileError, OSError, ValueError) as err:
+            self.analysis.progress = saved
+            self.analysis.update(p)  # back to the project shown
+            self._progress_done()
+            self._status(f"No loss range: {err}", error=True)
+            return None
+        finally:
+            self.analysis.progress = saved
+        self._progress_done()
+        self.loss_range, self._range_key = band, self._range_key_of(p)
+        self._show_band()
+        self._set_module_figures()
+        self._show_selected()
+        self._status(f"Loss range over {band.samples} draws (seed {band.seed}) in "
+                     f"{time.perf_counter() - start:.1f} s.")
+        return band
+
     def _units_changed(self, change) -> None:
         if self.project is not None and change["new"] != self.project.units:
             shown = "feet and inches" if change["new"] == "imperial" else "metres"
@@ -458,7 +652,7 @@ class Planner(w.VBox):
                 self.timeline.show_sun(None)
             return
         p = self.project
-        key = (moment, p.site, p.faces, p.obstructions)
+        key = (moment, p.site, p.faces, p.obstructions, p.survey)
         if key == self._shadow_key:
             return
         when = moment.tz_localize(p.site.timezone)
