@@ -64,6 +64,7 @@ __all__ = [
     "ShadeLossRange",
     "growth_outlook",
     "leaf_effect",
+    "percentile_label",
     "percentile_ranks",
     "project_at_year",
     "sampled_projects",
@@ -333,7 +334,8 @@ def _interval(values: np.ndarray, percentile: float, confidence: float) -> tuple
     return low, high
 
 
-def _label(p: float) -> str:
+def percentile_label(p: float) -> str:
+    """Return the column label of a percentile in the range tables: 5 → ``"p5"``."""
     return f"p{p:g}"
 
 
@@ -342,7 +344,7 @@ def _check_percentiles(percentiles) -> tuple[float, ...]:
                 for i, p in enumerate(percentiles))
     if not pct:
         raise InputError("percentiles", "is empty", allowed="one or more of 0 to 100")
-    if len({_label(p) for p in pct}) != len(pct):
+    if len({percentile_label(p) for p in pct}) != len(pct):
         raise InputError("percentiles", "has a percentile twice", value=list(pct))
     return pct
 
@@ -459,8 +461,8 @@ def _layout_figures(result) -> dict:
 def shade_loss_range(project, *, samples: int = DEFAULT_SAMPLES, seed: int | None = 0,
                      percentiles: Sequence[float] = (5, 95), distribution: str = "normal",
                      confidence: float = DEFAULT_CONFIDENCE, year: int = 0,
-                     widen_crown: bool = True, analysis=None, base_dir=None
-                     ) -> ShadeLossRange:
+                     widen_crown: bool = True, analysis=None, base_dir=None,
+                     progress=None) -> ShadeLossRange:
     """Carry the tolerances of the survey readings to the annual shade loss.
 
     Draws ``samples`` sets of surveyed obstructions from the readings' tolerances
@@ -491,6 +493,9 @@ def shade_loss_range(project, *, samples: int = DEFAULT_SAMPLES, seed: int | Non
         None builds one.
     base_dir : str or os.PathLike, keyword-only, optional
         Folder a relative weather file is read from, when ``analysis`` is None.
+    progress : callable, keyword-only, optional
+        Called as ``progress(done, total)`` before each evaluation: the draws, then the
+        nominal readings (``total = samples + 1``).
 
     Returns
     -------
@@ -507,12 +512,16 @@ def shade_loss_range(project, *, samples: int = DEFAULT_SAMPLES, seed: int | Non
     runner = _analysis(drawn[0], analysis, base_dir)
     rows, energy, loss, notes = [], [], [], []
     changed_fill = 0
-    for sampled in drawn:
+    for done, sampled in enumerate(drawn):
+        if progress is not None:
+            progress(done, samples + 1)
         runner.update(sampled)
         result = runner.result
         rows.append(_layout_figures(result))
         energy.append(result.table["energy_kwh"])
         loss.append(result.table["shade_loss_pct"])
+    if progress is not None:
+        progress(samples, samples + 1)
     runner.update(nominal_project)  # last, so the analysis is left at the nominal project
     nominal = runner.result
     ids = nominal.table.index
@@ -536,18 +545,18 @@ def shade_loss_range(project, *, samples: int = DEFAULT_SAMPLES, seed: int | Non
             else:
                 bands = np.zeros((len(pct), 0))
             for p, band in zip(pct, bands, strict=True):
-                modules[f"{name}_{_label(p)}"] = band
+                modules[f"{name}_{percentile_label(p)}"] = band
     draws = pd.DataFrame(rows, index=pd.RangeIndex(samples, name="draw"),
                          columns=["energy_kwh", "energy_unshaded_kwh", "energy_lost_kwh",
                                   "shade_loss_pct"])
     figures = _layout_figures(nominal)
     table = {"nominal": [figures[q] for q in _QUANTITIES]}
     for p in pct:
-        table[_label(p)] = [float(np.percentile(draws[q], p)) for q in _QUANTITIES]
+        table[percentile_label(p)] = [float(np.percentile(draws[q], p)) for q in _QUANTITIES]
     for p in pct:
         bounds = [_interval(draws[q].to_numpy(), p, conf) for q in _QUANTITIES]
-        table[f"{_label(p)}_low"] = [b[0] for b in bounds]
-        table[f"{_label(p)}_high"] = [b[1] for b in bounds]
+        table[f"{percentile_label(p)}_low"] = [b[0] for b in bounds]
+        table[f"{percentile_label(p)}_high"] = [b[1] for b in bounds]
     totals = pd.DataFrame(table, index=pd.Index(list(_QUANTITIES), name="quantity"))
     return ShadeLossRange(percentiles=pct, modules=modules, totals=totals, draws=draws,
                           draw_energy_kwh=energy_frame, samples=samples, seed=seed,

@@ -122,6 +122,7 @@ __all__ = [
     "Reading",
     "SurveyEntry",
     "SurveyProblem",
+    "default_tolerance",
     "elevation_tangent",
     "entries_from_table",
     "grown_tree",
@@ -494,7 +495,29 @@ _BLOCK_ONLY = ("width_m", "depth_m", "axis_deg")
 _CYLINDER_ONLY = ("radius_m",)
 
 
-def _default_tolerance(field: str, method: str) -> float:
+def default_tolerance(field: str, method: str = "tangent") -> float:
+    """Return the default tolerance of a reading typed without one.
+
+    Parameters
+    ----------
+    field : str
+        A reading field of :class:`SurveyEntry` (``"distance_m"``, ``"top_angle_deg"`` ...).
+    method : {"tangent", "laser"}, default "tangent"
+        How the distance is measured: a tape (or a rangefinder's horizontal mode) or a laser
+        slope distance.
+
+    Returns
+    -------
+    float
+        Half-width of the range [degrees for angles, m for lengths]: angles
+        :data:`ANGLE_TOLERANCE_DEG` (Brack & Wood 1998), bearings
+        :data:`BEARING_TOLERANCE_DEG`, a taped distance :data:`TAPE_DISTANCE_TOLERANCE_M`, a
+        laser distance :data:`LASER_DISTANCE_TOLERANCE_M`, crown sizes
+        :data:`CROWN_TOLERANCE_M`, other sizes :data:`SIZE_TOLERANCE_M`.
+    """
+    if field not in _READINGS:
+        raise InputError("field", "is not a survey reading", value=field,
+                         allowed=", ".join(_READINGS))
     if field == "distance_m":
         return LASER_DISTANCE_TOLERANCE_M if method == "laser" else TAPE_DISTANCE_TOLERANCE_M
     if field == "bearing_deg":
@@ -520,7 +543,7 @@ def _as_reading(field: str, value, method: str) -> Reading | None:
         if isinstance(value, bool):
             raise InputError(field, "must be a number", value=value)
         number = check_finite(field, value)
-        tol = _default_tolerance(field, method)
+        tol = default_tolerance(field, method)
         if _READINGS[field].tol_max is None:
             tol = min(tol, abs(number) / 2.0)  # a small size: at most half of it
         elif field == "crown_base_m":

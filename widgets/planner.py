@@ -60,7 +60,7 @@ from layout.clearance import (
 from layout.compare import compare_layouts
 from layout.energy import scene_casters
 from layout.errors import InputError
-from layout.outlook import DEFAULT_SAMPLES, shade_loss_range
+from layout.outlook import DEFAULT_SAMPLES, percentile_label, shade_loss_range
 from layout.placement import FILL_ORIENTATIONS
 from layout.project import FILE_SUFFIX, ProjectFileError, load_project, save_project
 from layout.sun import TYPICAL_YEAR
@@ -149,7 +149,7 @@ def totals_text(totals: dict) -> str:
 
 def _band_columns(band) -> tuple[str, str]:
     """Labels of the lowest and highest percentile of a loss range: ``("p5", "p95")``."""
-    return f"p{min(band.percentiles):g}", f"p{max(band.percentiles):g}"
+    return percentile_label(min(band.percentiles)), percentile_label(max(band.percentiles))
 
 
 def module_note(module_id: str, row, band: tuple[float, float] | None = None) -> str:
@@ -593,33 +593,23 @@ class Planner(w.VBox):
             return None
         samples = self.range_samples.value if samples is None else samples
         seed = self.range_seed.value if seed is ... else seed
-        evaluations = [0]
-
-        def progress(stage: str, step: int, total: int) -> None:
-            if step == total - 1:  # the last stage of an evaluation is announced
-                evaluations[0] += 1
-            current = evaluations[0] + (step < total - 1)  # the evaluation running, from 1
+        def progress(done: int, total: int) -> None:
             with self.progress.hold_sync():
-                self.progress.max = samples + 1
-                self.progress.value = current
+                self.progress.max = total
+                self.progress.value = done + 1
                 self.progress.layout.visibility = "visible"
-            what = (f"draw {current} of {samples}" if current <= samples
-                    else "the nominal readings")
-            self._status(f"Loss range: {what} ({stage})…", busy=True)
+            what = f"draw {done + 1} of {total - 1}" if done < total - 1 else "the nominal readings"
+            self._status(f"Loss range: {what}…", busy=True)
 
-        saved = self.analysis.progress
-        self.analysis.progress = progress
         start = time.perf_counter()
         try:
-            band = shade_loss_range(p, samples=samples, seed=seed, analysis=self.analysis)
+            band = shade_loss_range(p, samples=samples, seed=seed, analysis=self.analysis,
+                                    progress=progress)
         except (InputError, ProjectFileError, OSError, ValueError) as err:
-            self.analysis.progress = saved
             self.analysis.update(p)  # back to the project shown
             self._progress_done()
             self._status(f"No loss range: {err}", error=True)
             return None
-        finally:
-            self.analysis.progress = saved
         self._progress_done()
         self.loss_range, self._range_key = band, self._range_key_of(p)
         self._show_band()

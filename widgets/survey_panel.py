@@ -30,18 +30,13 @@ import ipywidgets as w
 
 from layout.errors import InputError
 from layout.survey import (
-    ANGLE_TOLERANCE_DEG,
-    BEARING_TOLERANCE_DEG,
     BLOCK_KINDS,
-    CROWN_TOLERANCE_M,
     CYLINDER_KINDS,
     DEFAULT_EYE_HEIGHT_M,
     GROWTH_CLASS_RATES_M_PER_YR,
-    LASER_DISTANCE_TOLERANCE_M,
-    SIZE_TOLERANCE_M,
     SURVEY_KINDS,
-    TAPE_DISTANCE_TOLERANCE_M,
     SurveyEntry,
+    default_tolerance,
     read_survey_csv,
     survey_table,
 )
@@ -124,40 +119,6 @@ def _kind_label(kind: str) -> str:
     if kind in CYLINDER_KINDS:
         return f"{kind} (cylinder)"
     return kind
-
-
-def default_tolerance(field: str, method: str = "tangent") -> float:
-    """Return the documented default tolerance of a reading field.
-
-    Parameters
-    ----------
-    field : str
-        A key of :data:`READING_FIELDS`.
-    method : {"tangent", "laser"}
-        How the distance is measured: a tape (or a rangefinder's horizontal mode) or a laser
-        slope distance.
-
-    Returns
-    -------
-    float
-        Half-width of the range [degrees for angles, m for lengths], as
-        :mod:`layout.survey` states it: angles ``ANGLE_TOLERANCE_DEG`` (Brack & Wood 1998),
-        bearings ``BEARING_TOLERANCE_DEG``, a taped distance ``TAPE_DISTANCE_TOLERANCE_M``, a
-        laser distance ``LASER_DISTANCE_TOLERANCE_M``, crown sizes ``CROWN_TOLERANCE_M``,
-        other sizes ``SIZE_TOLERANCE_M``.
-    """
-    if field not in READING_FIELDS:
-        raise InputError("field", "is not a survey reading", value=field,
-                         allowed=", ".join(READING_FIELDS))
-    if field == "distance_m":
-        return LASER_DISTANCE_TOLERANCE_M if method == "laser" else TAPE_DISTANCE_TOLERANCE_M
-    if field == "bearing_deg":
-        return BEARING_TOLERANCE_DEG
-    if field.endswith("_deg"):
-        return ANGLE_TOLERANCE_DEG
-    if field in ("crown_radius_m", "crown_base_m"):
-        return CROWN_TOLERANCE_M
-    return SIZE_TOLERANCE_M
 
 
 def read_angle(text, *, field: str) -> float:
