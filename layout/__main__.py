@@ -16,6 +16,10 @@ compare [PROJECT | --demo] [--orientations O,O] [--min-tsrf PCT] [--min-energy K
         [--max-shade-loss PCT] [--keep-worst] [--json] [--weather FILE] [--shade-model MODEL]
     Portrait, landscape and mixed fills side by side, each also without its worst modules
     (TSRF below the project's threshold unless limits are given): :mod:`layout.compare`.
+batch SOURCE -o OUT [--format parquet|csv] [--module-tables] [--scheduler ADDRESS | --serial]
+    Evaluate every project of a folder (or listed in a CSV) on Dask, one row per project, with
+    failures in their rows; a rerun skips what is already written (:mod:`layout.portfolio`;
+    ``python -m layout batch --help`` lists the options).
 
 Exit status 0 on success, 1 for bad input (one line on standard error: the file, the field and
 the allowed range), 2 for a misused command line. Progress goes to standard error when it is
@@ -549,6 +553,8 @@ def _parser() -> argparse.ArgumentParser:
     evaluate.add_argument("--csv", metavar="DIR",
                           help="also write the module, face, monthly and month × hour tables "
                                "as CSV files into DIR")
+    commands.add_parser("batch", help="evaluate many project files on Dask "
+                        "(python -m layout batch --help)", add_help=False)
     compare = commands.add_parser("compare", help="portrait, landscape and mixed side by "
                                                   "side, with and without the worst modules")
     common(compare)
@@ -575,6 +581,11 @@ def main(argv: Sequence[str] | None = None) -> int:
     gives one line on standard error and status 1, never a traceback. Set the environment
     variable ``EAVELINE_DEBUG=1`` to see the traceback of an unexpected error.
     """
+    argv = list(sys.argv[1:] if argv is None else argv)
+    if argv and argv[0] == "batch":  # many projects on Dask: its own options
+        from .portfolio import portfolio_main
+
+        return portfolio_main(argv[1:])
     args = _parser().parse_args(argv)
     try:
         if args.command == "summary":

@@ -252,13 +252,13 @@ class Analysis:
                 samples = module_samples(modules, project.module,
                                          samples_per_cell=energy.samples_per_cell)
                 self._cache = ShadeCache(samples.points, self._sun.vectors,
-                                         month=self._sun.month)
+                                         month=self._sun.month, normals=samples.normals)
             self._geometry, self._casters = geometry, None
             ran.append("points")
             clock = self._stage("points", clock)
 
         casters = scene_casters(project)
-        if casters != self._casters:
+        if (casters, energy.sky_directions) != self._casters:
             if modules:
                 self._say("tracing the sun past every obstruction", 3)
                 every = casters
@@ -278,7 +278,7 @@ class Analysis:
                 clock = self._stage("sky", clock)
             else:
                 self._shade, self._sky, self.rays_tested = None, np.zeros(0), 0
-            self._casters = casters
+            self._casters = (casters, energy.sky_directions)
             self._irradiance_key = None
 
         irradiance_key = (self._geometry, self._casters, energy.sky_model, energy.iam_model,

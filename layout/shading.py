@@ -79,6 +79,7 @@ from .obstructions import PLANE_TOLERANCE_M, Block, Cylinder, HorizonProfile, Pl
 
 __all__ = [
     "RAY_START_M",
+    "Facing",
     "ModuleSamples",
     "ModuleShade",
     "ShadeCache",
@@ -690,7 +691,41 @@ def obstruction_hits(points, sun, obstruction, *, ray_start: float = RAY_START_M
     return _obstruction_hits(pts, sun_v, obstruction, start, int(max_pairs), cull, None)
 
 
-def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order) -> ShadeHits:
+@dataclass(frozen=True, eq=False)
+class Facing:
+    """Which sun steps light the front of each point's surface.
+
+    Points on a module see beam light only while the sun is in front of the module's plane;
+    rays from a point whose surface faces away from the sun carry no beam, so they need no
+    ray test and count as unshaded. Surfaces are grouped by normal (all the points of one
+    module plane share one), so the table stays small.
+
+    Attributes
+    ----------
+    lit : numpy.ndarray of bool, shape (T, K)
+        True where the sun is in front of surface orientation k (``sun · normal > 0``).
+    group : numpy.ndarray of int, shape (N,)
+        Surface orientation of each point.
+    """
+
+    lit: np.ndarray
+    group: np.ndarray
+
+    @classmethod
+    def from_normals(cls, sun, normals) -> Facing:
+        """Build the table from unit vectors toward the sun (T, 3) and point normals (N, 3)."""
+        normals = np.asarray(normals, dtype=float)
+        unique, group = np.unique(np.round(normals, 9), axis=0, return_inverse=True)
+        lit = np.asarray(sun, dtype=float) @ unique.T > 0.0
+        return cls(lit=lit, group=group.reshape(-1).astype(np.intp))
+
+    def subset(self, index) -> Facing:
+        """Return the same table for the points ``index`` only."""
+        return Facing(self.lit, self.group[index])
+
+
+def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order,
+                      facing=None) -> ShadeHits:
     empty = np.zeros(0, dtype=np.int32)
     if isinstance(obstruction, HorizonProfile):
         blocked = np.asarray(obstruction.blocks_vectors(sun_v), dtype=bool) if len(sun_v) \
@@ -705,8 +740,9 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
         dist = _plate_side(obstruction, pts)
         active = np.flatnonzero(np.abs(dist) > PLANE_TOLERANCE_M)
         if len(active) < len(pts):
+            sub_facing = None if facing is None else facing.subset(active)
             hits = _obstruction_hits(pts[active], sun_v, obstruction, start, max_pairs, cull,
-                                     sun_order)
+                                     sun_order, sub_facing)
             return ShadeHits(hits.step, active[hits.point].astype(np.int32), hits.crown_only)
         # a ray meets the plane only when the sun lies on the far side from the point
         side_pt = dist > 0
@@ -721,6 +757,9 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
         fast = _tree_kernel(obstruction, pts, sun_v, start)
 
     def test(pt, st):
+        if facing is not None:  # rays of back-lit points carry no beam: not tested
+            keep = facing.lit[st, facing.group[pt]]
+            pt, st = pt[keep], st[keep]
         for i in range(0, len(pt), sub):
             p, s = pt[i:i + sub], st[i:i + sub]
             if fast is not None:
@@ -967,14 +1006,26 @@ class ShadeCache:
         Initial obstructions.
     month : array_like of int, shape (T,), keyword-only, optional
         Month of each sun step, for tree transmittance.
+    normals : array_like, shape (N, 3), keyword-only, optional
+        Front normal of the surface each point lies on. When given, a step at which the sun
+        is behind a point's surface (``sun · normal <= 0``) is not ray-tested for that point
+        and counts as unshaded: the surface receives no beam then, shaded or not
+        (:class:`Facing`).
     ray_start, max_pairs
         As in :func:`shaded`.
     """
 
-    def __init__(self, points, sun, obstructions=(), *, month=None,
+    def __init__(self, points, sun, obstructions=(), *, month=None, normals=None,
                  ray_start: float = RAY_START_M, max_pairs: int = DEFAULT_MAX_PAIRS):
         self.points = _check_points(points)
         self.sun = _check_sun(sun)
+        self.facing = None
+        if normals is not None:
+            normals = np.asarray(normals, dtype=float)
+            if normals.shape != self.points.shape:
+                raise InputError("normals", "needs one (x, y, z) normal per point",
+                                 value=normals.shape, allowed=str(self.points.shape))
+            self.facing = Facing.from_normals(self.sun, normals)
         self.month = None if month is None else _check_month(month, len(self.sun))
         self.ray_start = check_positive("ray_start", ray_start, unit="m")
         self.max_pairs = int(max_pairs)
@@ -995,7 +1046,7 @@ class ShadeCache:
                 new[ob] = self._hits[ob]
             else:
                 new[ob] = _obstruction_hits(self.points, self.sun, ob, self.ray_start,
-                                            self.max_pairs, True, self._order)
+                                            self.max_pairs, True, self._order, self.facing)
                 computed += 1
         self._hits = new
         self.obstructions = obstructions
@@ -1098,6 +1149,8 @@ class ModuleSamples:
         Module (position in ``module_ids``), cell and substring (bypass diode) of each point.
     n_cells, n_substrings : int
         Cells and substrings per module.
+    normals : numpy.ndarray, shape (N, 3)
+        Front normal of the module each point lies on.
     """
 
     module_ids: tuple[str, ...]
@@ -1107,6 +1160,7 @@ class ModuleSamples:
     substring: np.ndarray
     n_cells: int
     n_substrings: int
+    normals: np.ndarray
 
     @property
     def cell_group(self) -> np.ndarray:
@@ -1132,7 +1186,7 @@ def module_samples(modules, spec, *, samples_per_cell: int = 1) -> ModuleSamples
         Points and labels.
     """
     modules = tuple(modules)
-    pts, mod, cell, sub = [], [], [], []
+    pts, mod, cell, sub, normal = [], [], [], [], []
     for k, m in enumerate(modules):
         if not hasattr(m, "cell_points"):
             raise InputError(f"modules[{k}]", "is not a placed module", value=type(m).__name__,
@@ -1142,12 +1196,13 @@ def module_samples(modules, spec, *, samples_per_cell: int = 1) -> ModuleSamples
         cell.append(c)
         sub.append(s)
         mod.append(np.full(len(p), k))
+        normal.append(np.broadcast_to(np.asarray(m.normal, dtype=float), (len(p), 3)))
     if not modules:
         raise InputError("modules", "is empty", allowed="one or more placed modules")
     return ModuleSamples(tuple(m.id for m in modules), np.vstack(pts),
                          np.concatenate(mod).astype(np.intp), np.concatenate(cell).astype(np.intp),
                          np.concatenate(sub).astype(np.intp), int(spec.cell_count),
-                         int(spec.bypass_diodes))
+                         int(spec.bypass_diodes), np.vstack(normal))
 
 
 @dataclass(frozen=True, eq=False)
@@ -1232,9 +1287,10 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
         Add every module as a :class:`~layout.obstructions.Plate` caster, so rows shade rows.
         A module never shades itself (its points lie in its own plane).
     cache : ShadeCache, keyword-only, optional
-        A cache built on ``module_samples(modules, spec, samples_per_cell=...).points`` and
-        the same ``sun``: it is updated with the casters (only new or changed ones are
-        ray-tested) and keeps its hits for the next call. Memory is then that of the cache.
+        A cache built on ``module_samples(modules, spec, samples_per_cell=...)``'s points and
+        normals and the same ``sun``: it is updated with the casters (only new or changed
+        ones are ray-tested) and keeps its hits for the next call. Memory is then that of the
+        cache.
     ray_start, max_pairs
         As in :func:`shaded`.
     max_rays : int, keyword-only
@@ -1244,7 +1300,9 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
     Returns
     -------
     ModuleShade
-        Shaded fractions by cell and substring, float32.
+        Shaded fractions by cell and substring, float32. At a step when the sun is behind a
+        module's plane the module gets no beam, shaded or not: its cells are not ray-tested
+        then and count as unshaded (:class:`Facing`).
     """
     modules = tuple(modules)
     samples = module_samples(modules, spec, samples_per_cell=samples_per_cell)
@@ -1262,10 +1320,14 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
                              allowed="a ShadeCache on module_samples(...).points")
         if cache.sun.shape != sun_v.shape or not np.allclose(cache.sun, sun_v, atol=1e-12):
             raise InputError("cache", "was built for other sun steps", allowed="the same sun")
+        if cache.facing is None:
+            raise InputError("cache", "was built without the modules' normals",
+                             allowed="ShadeCache(samples.points, sun, normals=samples.normals)")
         cache.update(casters)
         cell = cache.group_shade(samples.cell_group, n_groups=n_mod * n_cells)
     else:
         order = _sun_order(sun_v)
+        facing = Facing.from_normals(sun_v, samples.normals)
         cell = np.empty((len(sun_v), n_mod * n_cells), dtype=np.float32)
         per_module = len(samples.points) // n_mod
         chunk = max(1, int(max_rays) // max(1, per_module * len(sun_v)))
@@ -1273,7 +1335,9 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
             m1 = min(n_mod, m0 + chunk)
             sel = slice(m0 * per_module, m1 * per_module)
             pts = samples.points[sel]
-            pairs = [(ob, _obstruction_hits(pts, sun_v, ob, start, int(max_pairs), True, order))
+            sub_facing = facing.subset(np.arange(len(samples.points))[sel])
+            pairs = [(ob, _obstruction_hits(pts, sun_v, ob, start, int(max_pairs), True, order,
+                                            sub_facing))
                      for ob in casters]
             labels = samples.cell_group[sel] - m0 * n_cells
             _group_shade(len(sun_v), len(pts), pairs, labels, (m1 - m0) * n_cells, m,

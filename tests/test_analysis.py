@@ -193,3 +193,12 @@ def test_a_parapet_casts_a_shadow_as_long_as_geometry_says():
     assert shaded(points, sun, scene_casters(project)).tolist() == [[True, False]]
     no_parapet = project.with_changes(buildings=(replace(roof, parapet_height_m=0.0),))
     assert parapet_walls(no_parapet) == ()
+
+
+def test_changing_the_sky_directions_recomputes_the_sky_view(demo, analysis):
+    energy = replace(demo.energy, sky_directions=256)
+    edited = demo.with_changes(energy=energy)
+    ran = analysis.update(edited)
+    assert "sky" in ran and analysis.rays_tested == 0  # the beam's hits are all cached
+    assert_same(analysis.result, evaluate(edited))
+    analysis.update(demo)

@@ -548,7 +548,7 @@ def test_module_shade_cache_and_trees():
     scene = [tree, Block([(-4, -3), (-3, -3), (-3, -2), (-4, -2)], 5.0)]
     direct = module_shade(mods, spec, sun, scene, month=month, max_rays=3000)
     samples = module_samples(mods, spec)
-    cache = ShadeCache(samples.points, sun, month=month)
+    cache = ShadeCache(samples.points, sun, month=month, normals=samples.normals)
     cached = module_shade(mods, spec, sun, scene, month=month, cache=cache)
     assert np.array_equal(direct.cell, cached.cell)
     moved = [tree.translated(1.0, 0.0), scene[1]]
