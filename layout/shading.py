@@ -849,28 +849,46 @@ def _hit_factors(obstruction, hits: ShadeHits, month) -> np.ndarray:
 _DENSE_BLOCK = 1 << 24
 
 
-def _group_shade(n_steps, n_points, pairs, labels, n_groups, month, out=None) -> np.ndarray:
+def _prepare_hits(obstruction, hits: ShadeHits, month, n_steps: int):
+    """Sort one obstruction's hits by step and attach the beam factor let through at each.
+
+    Returns ``("horizon", blocked_steps)`` for a far horizon, None when nothing is hit, else
+    ``(step, point, factor)`` sorted by step (a radix sort for up to 65,536 steps), with
+    ``factor`` None for an opaque obstruction.
+    """
+    if hits.blocked_steps is not None:
+        return ("horizon", hits.blocked_steps)
+    if not len(hits):
+        return None
+    key = hits.step.astype(np.uint16) if n_steps <= 65536 else hits.step
+    order = np.argsort(key, kind="stable")
+    factor = _hit_factors(obstruction, hits, month)
+    return (hits.step[order], hits.point[order],
+            factor[order].astype(np.float32) if factor.any() else None)
+
+
+def _group_shade(n_steps, n_points, pairs, labels, n_groups, month, out=None,
+                 prepared_hits=None) -> np.ndarray:
     """Shaded beam fraction per (step, group) from sparse hits, float32 (T, G).
 
-    Each obstruction's hits are sorted by step (a radix sort for up to 65,536 steps); then,
-    block by block of steps, the beam fraction of every point is built densely in float32
-    (at most :data:`_DENSE_BLOCK` values, 64 MB) and summed per group. Rays met by several
-    obstructions multiply their transmittances. ``out``, if given, is a float32 (T, G) array
-    (a view is fine) that receives the result.
+    Each obstruction's hits are sorted by step (:func:`_prepare_hits`, or taken ready from
+    ``prepared_hits``, one entry per pair); then, block by block of the steps that have hits,
+    the beam fraction of every point is built densely in float32 (at most
+    :data:`_DENSE_BLOCK` values, 64 MB) and summed per group. Rays met by several obstructions
+    multiply their transmittances. ``out``, if given, is a float32 (T, G) array (a view is
+    fine) that receives the result.
     """
     horizon = np.zeros(n_steps, dtype=bool)
     prepared = []
-    for obstruction, hits in pairs:
-        if hits.blocked_steps is not None:
-            horizon |= hits.blocked_steps
+    if prepared_hits is None:
+        prepared_hits = [_prepare_hits(ob, hits, month, n_steps) for ob, hits in pairs]
+    for entry in prepared_hits:
+        if entry is None:
             continue
-        if not len(hits):
+        if isinstance(entry[0], str):  # ("horizon", blocked_steps)
+            horizon |= entry[1]
             continue
-        key = hits.step.astype(np.uint16) if n_steps <= 65536 else hits.step
-        order = np.argsort(key, kind="stable")
-        factor = _hit_factors(obstruction, hits, month)
-        prepared.append((hits.step[order], hits.point[order],
-                         factor[order].astype(np.float32) if factor.any() else None))
+        prepared.append(entry)
     counts = np.bincount(labels, minlength=n_groups)
     if out is None:
         out = np.zeros((n_steps, n_groups), dtype=np.float32)
@@ -887,16 +905,21 @@ def _group_shade(n_steps, n_points, pairs, labels, n_groups, month, out=None) ->
         regular = (len(present) == n_groups and size * n_groups == n_points
                    and np.array_equal(starts, np.arange(n_groups) * size))
         # Only the steps that some ray is blocked at are built densely; the rest stay 0.
-        rows = np.unique(np.concatenate([step for step, _, _ in prepared]))
+        has_hits = np.zeros(n_steps, dtype=bool)
+        for step, _, _ in prepared:
+            has_hits[step] = True
+        rows = np.flatnonzero(has_hits)
+        row_of = np.zeros(n_steps, dtype=np.intp)  # step -> its row in the dense block
         per = max(1, _DENSE_BLOCK // n_points)
         for r0 in range(0, len(rows), per):
             block = rows[r0:r0 + per]
+            row_of[block] = np.arange(len(block))
             beam = np.ones((len(block), n_points), dtype=np.float32)
             for step, point, factor in prepared:
                 i, j = np.searchsorted(step, [block[0], block[-1] + 1])
                 if j <= i:
                     continue
-                row = np.searchsorted(block, step[i:j])
+                row = row_of[step[i:j]]
                 if factor is None:
                     beam[row, point[i:j]] = 0.0
                 else:
@@ -1031,6 +1054,7 @@ class ShadeCache:
         self.max_pairs = int(max_pairs)
         self._order = _sun_order(self.sun)
         self._hits: dict = {}
+        self._prepared: dict = {}
         self.obstructions: tuple = ()
         self.update(obstructions)
 
@@ -1049,6 +1073,7 @@ class ShadeCache:
                                             self.max_pairs, True, self._order, self.facing)
                 computed += 1
         self._hits = new
+        self._prepared = {ob: self._prepared[ob] for ob in new if ob in self._prepared}
         self.obstructions = obstructions
         return computed
 
@@ -1081,9 +1106,14 @@ class ShadeCache:
             Number of groups; default ``labels.max() + 1``. Empty groups give NaN.
         """
         lab, g = _check_labels(labels, len(self.points), n_groups)
-        return _group_shade(len(self.sun), len(self.points),
-                            [(ob, self._hits[ob]) for ob in self.obstructions], lab, g,
-                            self.month)
+        pairs = [(ob, self._hits[ob]) for ob in self.obstructions]
+        prepared = []
+        for ob, hits in pairs:  # sorted once per obstruction and kept with its hits
+            if ob not in self._prepared:
+                self._prepared[ob] = _prepare_hits(ob, hits, self.month, len(self.sun))
+            prepared.append(self._prepared[ob])
+        return _group_shade(len(self.sun), len(self.points), pairs, lab, g, self.month,
+                            prepared_hits=prepared)
 
 
 # --------------------------------------------------------------------------- aggregation
