@@ -335,9 +335,10 @@ class Tree:
     Parameters
     ----------
     center : (float, float)
-        Trunk position in plan, site frame [m]. The tree stands on the ground, z = 0.
+        Trunk position in plan, site frame [m]. The tree stands on the ground at its foot,
+        ``ground_m`` above the site's z = 0 (0 unless it stands on a bank or a slope).
     height : float
-        Height of the crown top [m], above zero.
+        Height of the crown top above the tree's foot [m], above zero.
     crown_radius : float
         Horizontal radius of the crown [m], above zero.
     crown_base : float
@@ -354,6 +355,10 @@ class Tree:
         0 to 1]. None means opaque all year. See :meth:`deciduous` for a preset.
     name : str, default ""
         A label for the user.
+    ground_m : float, default 0
+        Height of the ground at the trunk above the site's z = 0 [m], -100 to 1000: a tree on
+        a bank above the house, as a surveyor measures it with a base angle. ``height`` and
+        ``crown_base`` are measured from this foot.
     growth_m_per_yr : float, default 0
         How fast the tree grows taller [m/yr], 0 to 3; used to project its shade over the
         system's life (:func:`layout.survey.grown_tree`). State forestry extension tables
@@ -370,6 +375,7 @@ class Tree:
     transmittance: tuple[float, ...] | None = None
     name: str = ""
     growth_m_per_yr: float = 0.0
+    ground_m: float = 0.0
 
     def __post_init__(self):
         set_ = object.__setattr__
@@ -392,12 +398,13 @@ class Tree:
         set_(self, "name", _check_text("name", self.name))
         set_(self, "growth_m_per_yr", check_range("growth_m_per_yr", self.growth_m_per_yr,
                                                   0, 3, unit="m/yr"))
+        set_(self, "ground_m", check_range("ground_m", self.ground_m, -100, 1000, unit="m"))
 
     @classmethod
     def deciduous(cls, center, height: float, crown_radius: float, crown_base: float,
                   trunk_radius: float = 0.2, *, hemisphere: str = "north",
                   leaf_on_months=DECIDUOUS_LEAF_ON_MONTHS, name: str = "",
-                  growth_m_per_yr: float = 0.0) -> Tree:
+                  growth_m_per_yr: float = 0.0, ground_m: float = 0.0) -> Tree:
         """Build a deciduous tree: crown transmittance 0.2 in leaf, 0.6 leafless.
 
         Values from Heisler (1986) for sugar maple; see :func:`deciduous_transmittance` for the
@@ -406,7 +413,7 @@ class Tree:
         return cls(center, height, crown_radius, crown_base, trunk_radius,
                    transmittance=deciduous_transmittance(hemisphere=hemisphere,
                                                          leaf_on_months=leaf_on_months),
-                   name=name, growth_m_per_yr=growth_m_per_yr)
+                   name=name, growth_m_per_yr=growth_m_per_yr, ground_m=ground_m)
 
     @property
     def monthly_transmittance(self) -> np.ndarray:
@@ -417,8 +424,8 @@ class Tree:
 
     @property
     def crown_center_z(self) -> float:
-        """Height of the spheroid crown's centre [m]."""
-        return 0.5 * (self.crown_base + self.height)
+        """Height of the spheroid crown's centre in the site frame [m]."""
+        return self.ground_m + 0.5 * (self.crown_base + self.height)
 
     @property
     def crown_semi_axis_z(self) -> float:
@@ -434,7 +441,7 @@ class Tree:
     def bounds(self) -> tuple[float, float, float, float, float, float]:
         """Axis-aligned box ``(xmin, ymin, zmin, xmax, ymax, zmax)`` [m]."""
         (x, y), r = self.center, max(self.crown_radius, self.trunk_radius)
-        return (x - r, y - r, 0.0, x + r, y + r, self.height)
+        return (x - r, y - r, self.ground_m, x + r, y + r, self.ground_m + self.height)
 
     def translated(self, dx: float = 0.0, dy: float = 0.0) -> Tree:
         """Return a copy moved by ``(dx, dy)`` in plan [m] (a tree stays on the ground)."""
@@ -446,18 +453,20 @@ class Tree:
                 "crown_radius": self.crown_radius, "crown_base": self.crown_base,
                 "trunk_radius": self.trunk_radius, "crown_shape": self.crown_shape,
                 "transmittance": None if self.transmittance is None else list(self.transmittance),
-                "name": self.name, "growth_m_per_yr": self.growth_m_per_yr}
+                "name": self.name, "growth_m_per_yr": self.growth_m_per_yr,
+                "ground_m": self.ground_m}
 
     @classmethod
     def from_dict(cls, data: dict) -> Tree:
         """Inverse of :meth:`to_dict`; raises :class:`InputError` naming the bad field."""
         known = {"center", "height", "crown_radius", "crown_base", "trunk_radius",
-                 "crown_shape", "transmittance", "name", "growth_m_per_yr"}
+                 "crown_shape", "transmittance", "name", "growth_m_per_yr", "ground_m"}
         _read("tree", data, known, ("center", "height", "crown_radius", "crown_base"), "tree")
         return cls(data["center"], data["height"], data["crown_radius"], data["crown_base"],
                    data.get("trunk_radius", 0.2), crown_shape=data.get("crown_shape", "spheroid"),
                    transmittance=data.get("transmittance"), name=data.get("name", ""),
-                   growth_m_per_yr=data.get("growth_m_per_yr", 0.0))
+                   growth_m_per_yr=data.get("growth_m_per_yr", 0.0),
+                   ground_m=data.get("ground_m", 0.0))
 
 
 # --------------------------------------------------------------------------- thin plates

@@ -286,14 +286,15 @@ def _ray_effect(obstruction, o, d, start) -> tuple[np.ndarray, np.ndarray]:
         return hit, np.zeros(len(o), dtype=bool)
     if isinstance(obstruction, Tree):
         (cx, cy) = obstruction.center
+        ground = obstruction.ground_m
         if obstruction.crown_base > 0:
-            trunk = _hit_vertical_cylinder(cx, cy, obstruction.trunk_radius, 0.0,
-                                           obstruction.crown_base, o, d, start)
+            trunk = _hit_vertical_cylinder(cx, cy, obstruction.trunk_radius, ground,
+                                           ground + obstruction.crown_base, o, d, start)
         else:
             trunk = np.zeros(len(o), dtype=bool)
         if obstruction.crown_shape == "cone":
-            crown = _hit_cone(cx, cy, obstruction.crown_radius, obstruction.crown_base,
-                              obstruction.height, o, d, start)
+            crown = _hit_cone(cx, cy, obstruction.crown_radius, ground + obstruction.crown_base,
+                              ground + obstruction.height, o, d, start)
         else:
             crown = _hit_spheroid(cx, cy, obstruction.crown_center_z, obstruction.crown_radius,
                                   obstruction.crown_semi_axis_z, o, d, start)
@@ -369,8 +370,8 @@ def _tree_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
     tc = tx * tx + ty * ty - tree.trunk_radius ** 2
     dx, dy = sun_v[:, 0].copy(), sun_v[:, 1].copy()
     inv_dz = 1.0 / sun_v[:, 2]
-    below = -pts[:, 2]
-    above = tree.crown_base - pts[:, 2]
+    below = tree.ground_m - pts[:, 2]
+    above = tree.ground_m + tree.crown_base - pts[:, 2]
 
     def kernel(p, st):
         a = ga[st]

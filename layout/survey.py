@@ -863,10 +863,11 @@ class SurveyEntry:
             if self.trunk_radius_m is not None:
                 args = (*args, self.trunk_radius_m)
             growth = 0.0 if self.growth_m_per_yr is None else growth_rate(self.growth_m_per_yr)
+            ground = at("base_z")  # the foot, on a bank or slope when a base angle was read
             if self.deciduous:
                 return Tree.deciduous(*args, hemisphere=hemisphere, name=self.name,
-                                      growth_m_per_yr=growth)
-            return Tree(*args, name=self.name, growth_m_per_yr=growth)
+                                      growth_m_per_yr=growth, ground_m=ground)
+            return Tree(*args, name=self.name, growth_m_per_yr=growth, ground_m=ground)
         if self.kind in CYLINDER_KINDS:
             return Cylinder((x, y), at("radius_m"), at("top_z"), at("base_z"), kind=self.kind,
                             name=self.name)

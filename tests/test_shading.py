@@ -1,4 +1,5 @@
 import math
+from dataclasses import replace
 
 import numpy as np
 import pandas as pd
@@ -629,3 +630,20 @@ def test_plate_culling_does_not_change_the_answer(seed):
     full = shaded(pts, sun, plates, cull=False)
     assert full.any()
     assert np.array_equal(shaded(pts, sun, plates, max_pairs=500), full)
+
+
+def test_a_tree_on_a_bank_shades_as_the_same_tree_lifted():
+    # Translation invariance (geometry): a tree whose foot stands g above z = 0 meets a ray
+    # exactly where the same tree at z = 0 meets the ray from the point g lower.
+    rng = np.random.default_rng(3)
+    pts = np.c_[rng.uniform(-15, 15, (400, 2)), rng.uniform(0, 9, 400)]
+    az, el = rng.uniform(0, 360, 300), rng.uniform(2, 85, 300)
+    sun = sun_vectors(az, el)
+    for shape in ("spheroid", "cone"):
+        flat = Tree((1.0, -2.0), 9.0, 3.0, 2.5, 0.3, crown_shape=shape)
+        banked = replace(flat, ground_m=2.75)
+        lowered = pts - np.array([0.0, 0.0, 2.75])
+        np.testing.assert_array_equal(shaded(pts, sun, [banked]), shaded(lowered, sun, [flat]))
+        np.testing.assert_array_equal(transmitted(pts, sun, [banked]),
+                                      transmitted(lowered, sun, [flat]))
+        assert banked.bounds[2] == 2.75 and banked.bounds[5] == 11.75

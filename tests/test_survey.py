@@ -586,3 +586,18 @@ def test_entries_from_typed_frame():
     assert len(es) == 1
     assert m_to_feet(es[0].obstruction().height) == pytest.approx(20.79, abs=0.005)
     assert [(p.row, p.column) for p in problems] == [(3, "top_angle_deg")]
+
+
+def test_a_tree_on_a_bank_keeps_its_foot():
+    # Tangent method with a base angle (REFERENCES.md, forestry mensuration): the tree's foot
+    # stands d·tan(θ_base) + eye height above the station's ground.
+    from layout.survey import SurveyEntry
+
+    entry = SurveyEntry("tree", 180.0, 20.0, 30.0, base_angle_deg=5.0, eye_height_m=1.6,
+                        crown_radius_m=3.0, crown_base_m=3.0)
+    tree = entry.obstruction()
+    foot = 20.0 * math.tan(math.radians(5.0)) + 1.6
+    assert tree.ground_m == pytest.approx(foot, abs=1e-9)
+    assert tree.height == pytest.approx(20.0 * (math.tan(math.radians(30.0))
+                                                - math.tan(math.radians(5.0))), abs=1e-9)
+    assert tree.bounds[5] == pytest.approx(20.0 * math.tan(math.radians(30.0)) + 1.6, abs=1e-9)
