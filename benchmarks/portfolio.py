@@ -2,6 +2,7 @@
 
     .venv/bin/python benchmarks/portfolio.py               # 200 projects, then 50 and 200
     .venv/bin/python benchmarks/portfolio.py --with-800    # also 800 (several minutes)
+    .venv/bin/python benchmarks/portfolio.py --growth-only --with-800   # 50, 200, 800 only
 
 Synthetic projects (``layout.portfolio.synthetic_portfolio``, seed 0, about one site per ten
 projects, hourly clear sky, default module and rules). Every run writes into a fresh folder, so
@@ -37,11 +38,27 @@ def _time(source, out, scheduler, workers=None) -> tuple[float, float, int]:
     return wall, _cpu_seconds() - cpu, len(run.computed)
 
 
+def _compare(tmp: Path, count: int, workers, cores) -> None:
+    """Time the same portfolio serially and on the Dask local cluster; print the speed-up."""
+    started = time.perf_counter()
+    write_synthetic_portfolio(tmp / "p200", count, seed=0)
+    print(f"wrote {count} synthetic projects in {time.perf_counter() - started:.1f} s")
+    serial, cpu, n = _time(tmp / "p200", tmp / "serial", "serial")
+    print(f"serial     : {serial:7.1f} s  {serial / n:6.3f} s/project  "
+          f"(this process's CPU {cpu:.1f} s; load {os.getloadavg()[0]:.2f})")
+    dask, dask_cpu, n = _time(tmp / "p200", tmp / "dask", None, workers)
+    print(f"dask local : {dask:7.1f} s  {dask / n:6.3f} s/project  "
+          f"(CPU of client and workers {dask_cpu:.1f} s; load {os.getloadavg()[0]:.2f})")
+    print(f"speed-up   : {serial / dask:.2f}x on {workers or cores} workers")
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--count", type=int, default=200, help="projects of the serial/Dask "
                                                                "comparison (default 200)")
     parser.add_argument("--with-800", action="store_true", help="add 800 to the growth series")
+    parser.add_argument("--growth-only", action="store_true",
+                        help="skip the serial/Dask comparison; only the growth series")
     parser.add_argument("--workers", type=int, default=None,
                         help="worker processes (default one per core)")
     args = parser.parse_args()
@@ -50,17 +67,8 @@ def main() -> None:
           f"{os.getloadavg()[0]:.2f}")
     with tempfile.TemporaryDirectory() as tmp:
         tmp = Path(tmp)
-        started = time.perf_counter()
-        write_synthetic_portfolio(tmp / "p200", args.count, seed=0)
-        print(f"wrote {args.count} synthetic projects in {time.perf_counter() - started:.1f} s")
-
-        serial, cpu, n = _time(tmp / "p200", tmp / "serial", "serial")
-        print(f"serial     : {serial:7.1f} s  {serial / n:6.3f} s/project  "
-              f"(this process's CPU {cpu:.1f} s; load {os.getloadavg()[0]:.2f})")
-        dask, dask_cpu, n = _time(tmp / "p200", tmp / "dask", None, args.workers)
-        print(f"dask local : {dask:7.1f} s  {dask / n:6.3f} s/project  "
-              f"(CPU of client and workers {dask_cpu:.1f} s; load {os.getloadavg()[0]:.2f})")
-        print(f"speed-up   : {serial / dask:.2f}x on {args.workers or cores} workers")
+        if not args.growth_only:
+            _compare(tmp, args.count, args.workers, cores)
 
         counts = [50, 200] + ([800] if args.with_800 else [])
         print("\ngrowth on the Dask local cluster (each count a fresh portfolio, seed 1):")

@@ -32,6 +32,7 @@ import pandas as pd
 from .clearance import roof_mounted
 from .electrical import DcPower, dc_power
 from .energy import SunSteps, load_weather, scene_casters, sky_view_ratio, sun_steps
+from .errors import InputError
 from .irradiance import ModuleIrradiance, module_irradiance
 from .metrics import (
     BestOrientation,
@@ -112,8 +113,6 @@ class Evaluation:
     def _column(self, module_id: str) -> int:
         ids = [m.id for m in self.modules]
         if module_id not in ids:
-            from .errors import InputError
-
             raise InputError("module_id", "is not an active module of this layout",
                              value=module_id)
         return ids.index(module_id)
