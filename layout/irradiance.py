@@ -299,7 +299,7 @@ def substring_shade(beam_shaded, *, cell_substring=None, n_substrings: int | Non
         part = shaded[:, lo:lo + chunk]
         mean[shaded_steps, lo:lo + chunk] = part.mean(axis=2, dtype=np.float64)
         worst[shaded_steps, lo:lo + chunk] = np.maximum.reduceat(
-            part if in_order else part[:, :, order], starts, axis=2)
+            part if in_order else np.take(part, order, axis=2), starts, axis=2)
     return mean, worst
 
 
