@@ -495,12 +495,7 @@ def _segment_zones(starts, ends, distances) -> np.ndarray:
 
 def _rings_of(geometry) -> list[np.ndarray]:
     """Coordinates of every ring (exterior and holes) of the polygons in ``geometry``."""
-    rings = []
-    for part in shapely.get_parts(geometry):
-        if isinstance(part, shapely.Polygon) and not part.is_empty:
-            rings.append(np.asarray(part.exterior.coords))
-            rings.extend(np.asarray(hole.coords) for hole in part.interiors)
-    return rings
+    return [np.asarray(ring.coords) for ring in shapely.get_rings(shapely.get_parts(geometry))]
 
 
 def _grow(geometry, distance: float):

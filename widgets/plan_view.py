@@ -184,20 +184,15 @@ def _footprint_rings(scene: PlanScene) -> tuple[list, list]:
     """Rings of the solid obstructions and of the tree crowns, surveyed ones included [m]."""
     every = [(tree, fp) for _, _, tree, fp, _ in scene.obstructions]
     every += [(tree, fp) for _, _, tree, fp, _, _ in scene.surveyed]
-    solids = [r for tree, fp in every if not tree for r in _rings(fp)]
-    crowns = [r for tree, fp in every if tree for r in _rings(fp)]
+    solids = [r for tree, fp in every if not tree for r in polygon_rings(fp)]
+    crowns = [r for tree, fp in every if tree for r in polygon_rings(fp)]
     return solids, crowns
 
 
 # --------------------------------------------------------------------------- drawing helpers
-def _rings(geometry) -> list[np.ndarray]:
+def polygon_rings(geometry) -> list[np.ndarray]:
     """Every ring (exteriors and holes) of a polygonal geometry, as (n, 2) arrays."""
-    out = []
-    for part in shapely.get_parts(geometry):
-        if isinstance(part, shapely.Polygon) and not part.is_empty:
-            out.append(np.asarray(part.exterior.coords))
-            out.extend(np.asarray(r.coords) for r in part.interiors)
-    return out
+    return [np.asarray(ring.coords) for ring in shapely.get_rings(shapely.get_parts(geometry))]
 
 
 def _exteriors(geometry) -> list[np.ndarray]:
@@ -554,7 +549,7 @@ class PlanView(w.VBox):
                 continue  # the obstruction itself is drawn from its footprint
             zone_rings.extend(_exteriors(zone))
             hatch.extend(_hatch(zone, spacing))
-        usable_rings = [r for _, area in scene.usable for r in _rings(area)]
+        usable_rings = [r for _, area in scene.usable for r in polygon_rings(area)]
         active = [ring for _, ring, on in scene.modules if on]
         removed = [ring for _, ring, on in scene.modules if not on]
         solids, crowns = _footprint_rings(scene)
@@ -710,7 +705,7 @@ class PlanView(w.VBox):
     def show_shadows(self, outline=None) -> None:
         """Draw shadows (a plan geometry [m]) over the roof, or clear them with None."""
         self.shadow_outline = outline
-        rings = [] if outline is None else _rings(outline)
+        rings = [] if outline is None else polygon_rings(outline)
         n = max(len(rings), 1)
         with self.shadow_marks.hold_sync():
             self.shadow_marks.x, self.shadow_marks.y = _padded(rings, self._k)

@@ -27,6 +27,7 @@ from layout.shading import obstruction_hits
 from layout.sun import TYPICAL_YEAR, solar_position, sun_vectors
 
 from . import style
+from .plan_view import polygon_rings
 
 __all__ = [
     "SkyChart",
@@ -195,15 +196,6 @@ def skyline_regions(point, casters, *, azimuth_step_deg: float = 2.0,
     return regions
 
 
-def _rings_xy(geometry) -> list[np.ndarray]:
-    rings = []
-    for part in shapely.get_parts(geometry):
-        if isinstance(part, shapely.Polygon) and not part.is_empty:
-            rings.append(np.asarray(part.exterior.coords))
-            rings.extend(np.asarray(r.coords) for r in part.interiors)
-    return rings
-
-
 def _padded(rings):
     if not rings:
         return np.zeros((0, 0)), np.zeros((0, 0))
@@ -313,7 +305,7 @@ class SkyChart(w.HBox):
         rings, fills, lx, ly, lt = [], [], [], [], []
         for k, region in enumerate(self.regions):
             colour = style.CASTER_COLOURS[k % len(style.CASTER_COLOURS)]
-            for ring in _rings_xy(region.outline):
+            for ring in polygon_rings(region.outline):
                 rings.append(ring)
                 fills.append(colour)
             lx.append(float(np.clip(region.top_azimuth_deg, 25.0, 335.0)))  # inside the axes
