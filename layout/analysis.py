@@ -173,6 +173,7 @@ class Analysis:
         self._best_model: str | None = None
         self._geometry = None
         self._cache: ShadeCache | None = None
+        self._samples = None
         self._casters = None
         self._shade: ModuleShade | None = None
         self._sky: np.ndarray | None = None
@@ -246,12 +247,13 @@ class Analysis:
         geometry = (_geometry_key(modules), project.module, energy.samples_per_cell)
         if geometry != self._geometry:
             self._say("placing sample points on the cells", 2)
-            self._cache = None
+            self._cache = self._samples = None
             if modules:
                 samples = module_samples(modules, project.module,
                                          samples_per_cell=energy.samples_per_cell)
                 self._cache = ShadeCache(samples.points, self._sun.vectors,
                                          month=self._sun.month, normals=samples.normals)
+                self._samples = samples
             self._geometry, self._casters = geometry, None
             ran.append("points")
             clock = self._stage("points", clock)
@@ -267,7 +269,7 @@ class Analysis:
                 self._shade = module_shade(
                     modules, project.module, self._sun.vectors, every,
                     samples_per_cell=energy.samples_per_cell, include_modules=False,
-                    cache=self._cache)
+                    cache=self._cache, samples=self._samples)
                 ran.append("rays")
                 clock = self._stage("rays", clock)
                 self._say("measuring how much sky each module sees", 4)
@@ -289,7 +291,9 @@ class Analysis:
                 spec = project.module
                 self._irradiance = module_irradiance(
                     self._weather, [m.tilt_deg for m in modules],
-                    [m.azimuth_deg for m in modules], beam_shaded=self._shade.cell,
+                    [m.azimuth_deg for m in modules],
+                    shade_rows=(np.flatnonzero(self._sun.up)[self._shade.steps],
+                                self._shade.by_cell),
                     cell_substring=spec.substring_of_cell(np.arange(spec.cell_count)),
                     n_substrings=spec.bypass_diodes, sky_view=self._sky,
                     model=energy.sky_model, iam_model=energy.iam_model, mount=energy.mount,

@@ -308,13 +308,26 @@ def dc_module_level(substring_irradiance, temp_cell, pdc0: float, *,
                          value=g.shape)
     s = g.shape[2]
     temp = np.asarray(temp_cell, dtype=float)
-    out = np.zeros(g.shape[:2])
-    lit = _lit_steps(g)  # steps with any light: nights cost nothing
-    ordered = -np.sort(-g[lit], axis=2)  # brightest first
-    share = np.arange(1, s + 1) / s
-    candidates = pvlib.pvsystem.pvwatts_dc(ordered, temp[lit][:, :, None], pdc0,
-                                           gamma_pdc) * share
-    out[lit] = np.max(candidates, axis=2)
+    # The k-th brightest substring G_(k) is the substring j that has k substrings at least
+    # as bright (ties share the largest k), so the candidates (k / S) G_(k) are
+    # rank_j / S * G_j, found with S² whole-array comparisons instead of a sort along the
+    # short substring axis. pvwatts_dc is G times a factor of the temperature: the best
+    # candidate is the largest while that factor is positive, the smallest otherwise.
+    if s == 0:
+        return np.zeros(g.shape[:2])
+    substrings = np.ascontiguousarray(np.moveaxis(g, 2, 0))  # (S, T, M)
+    highest = np.full(g.shape[:2], -np.inf)
+    lowest = np.full(g.shape[:2], np.inf)
+    for brightness in substrings:
+        rank = np.count_nonzero(substrings >= brightness, axis=0)
+        candidate = rank * (brightness / s)
+        np.maximum(highest, candidate, out=highest)
+        np.minimum(lowest, candidate, out=lowest)
+    factor = pvlib.pvsystem.pvwatts_dc(1000.0, temp, 1.0, gamma_pdc)
+    best = np.where(factor >= 0, highest, lowest)
+    out = np.asarray(pvlib.pvsystem.pvwatts_dc(best, temp, pdc0, gamma_pdc), dtype=float)
+    dark = substrings.max(axis=0).max(axis=1, initial=0.0) <= 0
+    out[dark] = 0.0  # no light at the step: no power
     return out
 
 

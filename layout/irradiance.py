@@ -237,6 +237,69 @@ def _expand_steps(array: np.ndarray, weather: Weather, field: str) -> np.ndarray
                      allowed=f"{n_all} (every step) or {int(up.sum())} (sun-up steps)")
 
 
+def _substring_labels(cell_substring, n_substrings, k: int):
+    """Check the substring of each of ``k`` columns; return (labels, S, cells per substring)."""
+    if cell_substring is None:
+        labels = np.arange(k)
+    else:
+        labels = np.asarray(cell_substring)
+        if labels.shape != (k,) or not np.issubdtype(labels.dtype, np.integer) \
+                or (k and labels.min() < 0):
+            raise InputError("cell_substring", "needs one substring number (from 0) per cell",
+                             value=labels.shape, allowed=f"{k} whole numbers >= 0")
+    s = int(n_substrings) if n_substrings is not None else int(labels.max()) + 1
+    if k and labels.max() >= s:
+        raise InputError("cell_substring", "names a substring beyond n_substrings",
+                         value=int(labels.max()), allowed=f"0 to {s - 1}")
+    counts = np.bincount(labels, minlength=s)
+    if (counts == 0).any():
+        raise InputError("cell_substring", "leaves a substring without cells",
+                         value=int(np.flatnonzero(counts == 0)[0]))
+    return labels, s, counts
+
+
+def _row_shade(shade_rows, n_steps: int, n_modules: int, cell_substring, n_substrings):
+    """Reduce shaded fractions held at some steps only to module mean and substring worst.
+
+    ``shade_rows`` is ``(steps, by_cell)``: increasing step indices (R,) and cell-major
+    fractions (M, K, R). Returns the dense mean (T, M) and worst (T, M, S) float32.
+    """
+    try:
+        steps, by_cell = shade_rows
+    except (TypeError, ValueError):
+        raise InputError("shade_rows", "must be a pair (steps, by_cell)",
+                         allowed="(steps (R,), fractions (M, K, R))") from None
+    steps = np.asarray(steps)
+    by_cell = np.asarray(by_cell)
+    if by_cell.ndim != 3 or by_cell.shape[0] != n_modules or steps.ndim != 1 \
+            or by_cell.shape[2] != len(steps):
+        raise InputError("shade_rows", "must hold fractions (module, cell, step) at its steps",
+                         value=by_cell.shape, allowed=f"({n_modules}, K, {len(steps)})")
+    if len(steps) and (not np.issubdtype(steps.dtype, np.integer) or steps[0] < 0
+                       or steps[-1] >= n_steps or (np.diff(steps) <= 0).any()):
+        raise InputError("shade_rows", "needs increasing step numbers",
+                         allowed=f"whole numbers from 0 to {n_steps - 1}, increasing")
+    labels, s, _ = _substring_labels(cell_substring, n_substrings, by_cell.shape[1])
+    mean = np.zeros((n_steps, n_modules))
+    worst = np.zeros((n_steps, n_modules, s), dtype=np.float32)
+    if not len(steps) or not by_cell.size:
+        return mean, worst
+    if by_cell.dtype != np.float32:
+        by_cell = by_cell.astype(float)
+    # reductions over the cell axis combine whole contiguous (module, step) rows
+    mean_rows = by_cell.sum(axis=1, dtype=np.float64) / by_cell.shape[1]  # (M, R)
+    for substring in range(s):
+        cells = np.flatnonzero(labels == substring)
+        highest = by_cell[:, cells[0], :].copy()
+        for c in cells[1:]:
+            np.maximum(highest, by_cell[:, c, :], out=highest)
+        worst[steps, :, substring] = highest.T
+    if not (np.isfinite(mean_rows).all() and worst.max() <= 1 and by_cell.min() >= 0):
+        raise InputError("shade_rows", "must hold fractions from 0 to 1", allowed="0 to 1")
+    mean[steps] = mean_rows.T
+    return mean, worst
+
+
 def substring_shade(beam_shaded, *, cell_substring=None, n_substrings: int | None = None,
                     chunk: int = 32) -> tuple[np.ndarray, np.ndarray]:
     """Reduce per-cell beam shaded fractions to the module mean and each substring's worst cell.
@@ -264,22 +327,7 @@ def substring_shade(beam_shaded, *, cell_substring=None, n_substrings: int | Non
         raise InputError("beam_shaded", "must be an array (time, module, cell)",
                          value=f.shape, allowed="3 dimensions")
     k = f.shape[2]
-    if cell_substring is None:
-        labels = np.arange(k)
-    else:
-        labels = np.asarray(cell_substring)
-        if labels.shape != (k,) or not np.issubdtype(labels.dtype, np.integer) \
-                or (k and labels.min() < 0):
-            raise InputError("cell_substring", "needs one substring number (from 0) per cell",
-                             value=labels.shape, allowed=f"{k} whole numbers >= 0")
-    s = int(n_substrings) if n_substrings is not None else int(labels.max()) + 1
-    if k and labels.max() >= s:
-        raise InputError("cell_substring", "names a substring beyond n_substrings",
-                         value=int(labels.max()), allowed=f"0 to {s - 1}")
-    counts = np.bincount(labels, minlength=s)
-    if (counts == 0).any():
-        raise InputError("cell_substring", "leaves a substring without cells",
-                         value=int(np.flatnonzero(counts == 0)[0]))
+    labels, s, counts = _substring_labels(cell_substring, n_substrings, k)
     order = np.argsort(labels, kind="stable")
     in_order = bool((order == np.arange(k)).all())  # cells already grouped by substring
     starts = np.concatenate([[0], np.cumsum(counts)[:-1]])
@@ -380,7 +428,8 @@ def plane_components(weather: Weather, surface_tilt: float, surface_azimuth: flo
 
 
 def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_shaded=None,
-                      cell_substring=None, n_substrings: int | None = None, sky_view=None,
+                      shade_rows=None, cell_substring=None, n_substrings: int | None = None,
+                      sky_view=None,
                       model: str = "perez", iam_model: str | None = "physical",
                       mount: str = "close_mount_glass_glass",
                       plane_cache: dict | None = None) -> ModuleIrradiance:
@@ -397,6 +446,11 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
         weather or only its sun-up steps (``weather.solar_position["sun_up"]``, the same steps
         as :func:`layout.sun.sun_above_horizon`). Default: no beam shade, one cell per
         substring.
+    shade_rows : tuple, keyword-only, optional
+        The same fractions held only at the steps that have shade, instead of
+        ``beam_shaded``: ``(steps, by_cell)`` with ``steps`` (R,) increasing indices into
+        every step of the weather and ``by_cell`` (M, K, R) the fractions cell-major (as
+        :attr:`layout.shading.ModuleShade.by_cell`); every other step is unshaded.
     cell_substring : array_like of int, shape (K,), keyword-only, optional
         Substring of each of the K columns (e.g. ``ModuleSpec.substring_of_cell``); default:
         the columns are substrings.
@@ -431,7 +485,13 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
     orientations, group = orientation_groups(surface_tilt, surface_azimuth)
     n_steps, n_modules = len(weather.data), len(group)
 
-    if beam_shaded is None:
+    if beam_shaded is not None and shade_rows is not None:
+        raise InputError("shade_rows", "cannot be given together with beam_shaded",
+                         allowed="one of beam_shaded and shade_rows")
+    if shade_rows is not None:
+        mean_f, worst_f = _row_shade(shade_rows, n_steps, n_modules, cell_substring,
+                                     n_substrings)
+    elif beam_shaded is None:
         s = 3 if n_substrings is None else int(n_substrings)
         mean_f = np.zeros((n_steps, n_modules))
         worst_f = np.zeros((n_steps, n_modules, s), dtype=np.float32)
@@ -494,7 +554,8 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
     temp_air = weather.data["temp_air"].to_numpy()[:, None]
     wind = weather.data["wind_speed"].to_numpy()[:, None]
     temp = pvlib.temperature.sapm_cell(poa, temp_air, wind, **params)
-    temp_un = pvlib.temperature.sapm_cell(poa_un, temp_air, wind, **params)
+    temp_un = pvlib.temperature.sapm_cell(parts["poa_global"], temp_air, wind,
+                                          **params)[:, group]  # once per plane
     settings = {"model": model, "iam_model": iam_model, "mount": mount}
     return ModuleIrradiance(
         times=weather.times, poa_global=poa, poa_global_unshaded=poa_un, effective=eff,

@@ -345,12 +345,15 @@ def _block_kernel(block: Block, pts: np.ndarray, sun_v: np.ndarray, start: float
     return kernel
 
 
-def _tree_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
-    """Build a faster exact kernel for a tree over (point, step) index pairs, or None.
+def _tree_kernels(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
+    """Build faster exact kernels for a spheroid tree's crown and trunk, or None.
 
-    Same tests as :func:`_hit_vertical_cylinder` (trunk) and :func:`_hit_spheroid` (crown)
-    with the per-point and per-step parts tabulated once. Applies to a spheroid crown when
-    every step has the sun above the horizon and off the zenith; otherwise None.
+    Returns ``(crown, trunk)``: ``crown(p, st)`` and ``trunk(p, st)`` give, for (point, step)
+    index pairs, whether the ray meets the crown, resp. the trunk (same tests as
+    :func:`_hit_spheroid` and :func:`_hit_vertical_cylinder`, with the per-point and per-step
+    parts tabulated once); ``trunk`` is None for a tree without one (``crown_base`` 0).
+    Applies to a spheroid crown when every step has the sun above the horizon and off the
+    zenith; otherwise None.
     """
     horizontal = sun_v[:, 0] ** 2 + sun_v[:, 1] ** 2
     if tree.crown_shape != "spheroid" or (sun_v[:, 2] <= 0).any() or (horizontal <= 1e-24).any():
@@ -364,8 +367,29 @@ def _tree_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
     gx, gy, gz = g.T.copy()
     ga = np.einsum("ij,ij->i", g, g)
     fc = np.einsum("ij,ij->i", f, f) - 1.0
+    # Every point at least 2 ray starts outside the crown (scaled): the two roots of a ray
+    # have one sign, that of -b, and the far one is at least sqrt(c / a) >= 2 start, so a
+    # ray meets the crown exactly when b < 0 and the discriminant is not negative.
+    outside = bool((fc >= 4.0 * float(ga.max()) * start * start).all()) if len(fc) else True
+
+    def crown(p, st):
+        a = ga[st]
+        b = fx[p] * gx[st]
+        b += fy[p] * gy[st]
+        b += fz[p] * gz[st]
+        c = fc[p]
+        if outside:
+            hit = b * b >= a * c
+            hit &= b < 0
+            return hit
+        disc = b * b - a * c
+        hit = disc >= 0
+        hit &= (-b + np.sqrt(np.maximum(disc, 0.0))) >= start * a
+        return hit
+
+    if tree.crown_base <= 0:
+        return crown, None
     # trunk: vertical cylinder from the ground to crown_base
-    has_trunk = tree.crown_base > 0
     tx, ty = pts[:, 0] - cx, pts[:, 1] - cy
     tc = tx * tx + ty * ty - tree.trunk_radius ** 2
     dx, dy = sun_v[:, 0].copy(), sun_v[:, 1].copy()
@@ -373,14 +397,7 @@ def _tree_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
     below = tree.ground_m - pts[:, 2]
     above = tree.ground_m + tree.crown_base - pts[:, 2]
 
-    def kernel(p, st):
-        a = ga[st]
-        b = fx[p] * gx[st] + fy[p] * gy[st] + fz[p] * gz[st]
-        disc = b * b - a * fc[p]
-        crown = disc >= 0
-        crown &= (-b + np.sqrt(np.maximum(disc, 0.0))) >= start * a
-        if not has_trunk:
-            return np.zeros(len(p), dtype=bool), crown
+    def trunk(p, st):
         a2 = horizontal[st]
         b2 = tx[p] * dx[st] + ty[p] * dy[st]
         disc2 = b2 * b2 - a2 * tc[p]
@@ -388,7 +405,27 @@ def _tree_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
         inv_z = inv_dz[st]
         lo = np.maximum(np.maximum((-b2 - root) / a2, below[p] * inv_z), start)
         hi = np.minimum((-b2 + root) / a2, above[p] * inv_z)
-        trunk = (disc2 >= 0) & (lo <= hi)
+        return (disc2 >= 0) & (lo <= hi)
+
+    return crown, trunk
+
+
+def _tree_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
+    """Build a faster exact kernel for a whole tree over (point, step) index pairs, or None.
+
+    Returns ``(opaque, crown_only)`` per pair, as :func:`_ray_effect` does; see
+    :func:`_tree_kernels` for when it applies.
+    """
+    kernels = _tree_kernels(tree, pts, sun_v, start)
+    if kernels is None:
+        return None
+    crown_kernel, trunk_kernel = kernels
+
+    def kernel(p, st):
+        crown = crown_kernel(p, st)
+        if trunk_kernel is None:
+            return np.zeros(len(p), dtype=bool), crown
+        trunk = trunk_kernel(p, st)
         return trunk, crown & ~trunk
 
     return kernel
@@ -595,33 +632,123 @@ def _candidate_ranges(points, sun_order: _SunOrder, obstruction):
     its window's sectors gets no run; for blocks and plates a coarse bound (bounding
     cylinder) drops such points before the tighter hull bound is computed.
     """
-    n = len(points)
-    index = np.arange(n)
+    index = np.arange(len(points))
     if isinstance(obstruction, (Block, Plate)):
         _, span, _, _ = _sector_spans(sun_order,
                                       *_angular_bounds(points, obstruction, coarse=True))
         index = np.flatnonzero(span)
-    s_lo, span, e_lo, e_hi = _sector_spans(sun_order,
-                                           *_angular_bounds(points[index], obstruction))
-    total = int(span.sum())
-    local = np.repeat(np.arange(len(index)), span)
-    within = np.arange(total) - np.repeat(np.cumsum(span) - span, span)
-    sector = (s_lo[local] + within) % _SECTORS
-    base = sector * 4.0
-    run_lo, run_hi = e_lo[local], e_hi[local]
+    tighten = None
     if isinstance(obstruction, Plate):
         # the sun must lie on the far side of the plate's plane from the point
         upper, lower = _plate_sector_limits(obstruction)
         normal = _plate_geometry(obstruction)[3]
         side = _plate_side(obstruction, points[index]) * (1.0 if normal[2] >= 0 else -1.0)
-        above = side[local] > 0
-        run_hi = np.where(above, np.minimum(run_hi, upper[sector]), run_hi)
-        run_lo = np.where(above, run_lo, np.maximum(run_lo, lower[sector]))
+
+        def tighten(local, sector, run_lo, run_hi):
+            above = side[local] > 0
+            return (np.where(above, run_lo, np.maximum(run_lo, lower[sector])),
+                    np.where(above, np.minimum(run_hi, upper[sector]), run_hi))
+
+    return _window_runs(sun_order, index, _angular_bounds(points[index], obstruction), tighten)
+
+
+def _window_runs(sun_order: _SunOrder, index, bounds, tighten=None):
+    """Find the runs of sector-sorted sun steps inside each point's angular window.
+
+    ``bounds`` is ``(centre, half, el_min, el_max)`` per point of ``index`` (as from
+    :func:`_angular_bounds`); ``tighten(local, sector, run_lo, run_hi)``, if given, narrows
+    the shifted elevation band of each (point, sector) run. Returns ``(point, start, count)``
+    as :func:`_candidate_ranges` does.
+    """
+    s_lo, span, e_lo, e_hi = _sector_spans(sun_order, *bounds)
+    total = int(span.sum())
+    local = np.repeat(np.arange(len(index)), span)
+    within = np.arange(total) - np.repeat(np.cumsum(span) - span, span)
+    sector = (s_lo[local] + within) % _SECTORS
+    run_lo, run_hi = e_lo[local], e_hi[local]
+    if tighten is not None:
+        run_lo, run_hi = tighten(local, sector, run_lo, run_hi)
+    base = sector * 4.0
     start = np.searchsorted(sun_order.key, base + run_lo, side="left")
     stop = np.searchsorted(sun_order.key, base + run_hi, side="right")
     count = stop - start
     keep = count > 0
     return index[local[keep]], start[keep], count[keep]
+
+
+#: [rad] widening of a tree crown's cull window: its bounds go through arcsin and arccos
+#: near 1, where a rounding error of 1e-16 grows to about 1e-8 rad.
+_CROWN_MARGIN = 1e-6
+
+
+def _crown_ranges(points, sun_order: _SunOrder, tree: Tree):
+    """Find the runs of sun steps that may meet a spheroid crown (as :func:`_candidate_ranges`).
+
+    Scaling heights about the crown's centre by ``crown_radius / crown_semi_axis_z`` turns
+    the crown into a sphere of radius R, seen from an outside point as a circular cap of
+    angular radius ``asin(R / rho)`` around the direction of its centre; the scaling keeps
+    azimuths and maps a scaled elevation e' to ``atan(k tan e')`` (k = semi-axis / R),
+    monotone, so bounds carry over. Each point gets the cap's azimuth window and elevation
+    band; each (point, azimuth sector) run gets the cap's elevation range over that sector:
+    at an azimuth offset d from the centre the cap holds the elevations e with
+    ``A sin e + B cos e >= cos(ang)`` (A = sin ec, B = cos ec cos d), an interval centred on
+    ``psi = atan2(A, B)`` of half width ``acos(cos(ang) / hypot(A, B))``; over a sector, the
+    half width is largest at the smallest |d| and psi moves monotonically toward the pole of
+    ``sign(A)``, so the sector's range is bounded with psi at the far end.
+    """
+    radius = tree.crown_radius
+    k = tree.crown_semi_axis_z / radius
+    cx, cy = tree.center
+    dx, dy = cx - points[:, 0], cy - points[:, 1]
+    dh = np.hypot(dx, dy)
+    hz = (tree.crown_center_z - points[:, 2]) / k
+    rho = np.hypot(dh, hz)
+    ec = np.arctan2(hz, dh)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ang = np.arcsin(np.minimum(radius / rho, 1.0))
+        half_cap = np.arcsin(np.minimum(radius / dh, 1.0))
+    beside = dh > radius * (1 + 1e-12)  # outside the crown's vertical cylinder
+    inside = rho <= radius * (1 + 1e-12)
+    center = np.arctan2(dx, dy)
+    half = np.where(beside, half_cap + _CROWN_MARGIN, math.pi)
+
+    def true_elevation(scaled):
+        return np.arctan(k * np.tan(np.clip(scaled, -0.5 * math.pi, 0.5 * math.pi)))
+
+    el_min = np.where(inside, -0.5 * math.pi, true_elevation(ec - ang)) - _CROWN_MARGIN
+    el_max = np.where(inside, 0.5 * math.pi, true_elevation(ec + ang)) + _CROWN_MARGIN
+
+    def tighten(local, sector, run_lo, run_hi):
+        width = 2 * math.pi / _SECTORS
+        a0 = -math.pi + width * sector
+        d0 = (a0 - center[local] + math.pi) % (2 * math.pi) - math.pi
+        d1 = (a0 + width - center[local] + math.pi) % (2 * math.pi) - math.pi
+        d_min = np.where((d0 <= 0) & (d1 >= 0), 0.0, np.minimum(np.abs(d0), np.abs(d1)))
+        reach = half_cap[local]
+        d_max = np.minimum(np.maximum(np.abs(d0), np.abs(d1)), reach)
+        d_min = np.minimum(d_min, reach)
+        e = ec[local]
+        a_, cos_e = np.sin(e), np.cos(e)
+        b_near, b_far = cos_e * np.cos(d_min), cos_e * np.cos(d_max)
+        width_near = np.arccos(np.clip(np.cos(ang[local]) / np.hypot(a_, b_near), -1.0, 1.0))
+        psi_near, psi_far = np.arctan2(a_, b_near), np.arctan2(a_, b_far)
+        up = a_ >= 0
+        lo = np.where(up, psi_near, psi_far) - width_near
+        hi = np.where(up, psi_far, psi_near) + width_near
+        use = beside[local]
+        lo = np.where(use, true_elevation(lo) - _CROWN_MARGIN + _EL_SHIFT, run_lo)
+        hi = np.where(use, true_elevation(hi) + _CROWN_MARGIN + _EL_SHIFT, run_hi)
+        return np.maximum(run_lo, lo), np.minimum(run_hi, hi)
+
+    return _window_runs(sun_order, np.arange(len(points)), (center, half, el_min, el_max),
+                        tighten)
+
+
+@dataclass(frozen=True)
+class _Column:
+    """A vertical solid known only by its bounding box (a tree's trunk), for culling."""
+
+    bounds: tuple[float, float, float, float, float, float]
 
 
 def _expand_runs(point, start, count):
@@ -720,9 +847,63 @@ class Facing:
         lit = np.asarray(sun, dtype=float) @ unique.T > 0.0
         return cls(lit=lit, group=group.reshape(-1).astype(np.intp))
 
+    def lit_at(self, step, point) -> np.ndarray:
+        """Whether the sun of each ``step`` lights the front of the surface of each ``point``."""
+        if self.lit.shape[1] == 1:
+            return self.lit[:, 0][step]
+        return self.lit[step, self.group[point]]
+
     def subset(self, index) -> Facing:
         """Return the same table for the points ``index`` only."""
         return Facing(self.lit, self.group[index])
+
+
+class _HitList:
+    """Collects the hits of one obstruction as its candidate pairs are ray-tested."""
+
+    def __init__(self, effect, facing, sub):
+        self.effect = effect  # effect(p, st) -> (opaque or None, crown_only or None)
+        self.facing = facing
+        self.sub = sub
+        self.steps, self.points, self.crowns = [], [], []
+
+    def test(self, pt, st):
+        if self.facing is not None:  # rays of back-lit points carry no beam: not tested
+            keep = self.facing.lit_at(st, pt)
+            pt, st = pt[keep], st[keep]
+        for i in range(0, len(pt), self.sub):
+            p, s = pt[i:i + self.sub], st[i:i + self.sub]
+            opaque, crown = self.effect(p, s)
+            hit = crown if opaque is None else opaque if crown is None else opaque | crown
+            count = int(hit.sum())
+            self.steps.append(s[hit].astype(np.int32))
+            self.points.append(p[hit].astype(np.int32))
+            self.crowns.append(np.ones(count, dtype=bool) if opaque is None
+                               else np.zeros(count, dtype=bool) if crown is None
+                               else crown[hit])
+
+    def test_runs(self, order: _SunOrder, runs, max_pairs: int, side=None):
+        """Test every pair of the candidate runs, in groups of about ``max_pairs`` pairs."""
+        run_pt, run_start, run_count = runs
+        group = (np.cumsum(run_count) - 1) // max(1, max_pairs)
+        bounds = [0, *(np.flatnonzero(np.diff(group)) + 1).tolist(), len(run_pt)]
+        for a, b in itertools.pairwise(bounds):
+            if b <= a:
+                continue
+            pt, pos = _expand_runs(run_pt[a:b], run_start[a:b], run_count[a:b])
+            st = order.order[pos]
+            if side is not None:
+                side_pt, side_sun = side
+                keep = side_pt[pt] == side_sun[st]
+                pt, st = pt[keep], st[keep]
+            self.test(pt, st)
+
+    def result(self) -> ShadeHits:
+        if not self.steps:
+            empty = np.zeros(0, dtype=np.int32)
+            return ShadeHits(empty, empty, np.zeros(0, dtype=bool))
+        return ShadeHits(np.concatenate(self.steps), np.concatenate(self.points),
+                         np.concatenate(self.crowns))
 
 
 def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order,
@@ -735,7 +916,7 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
     if len(pts) == 0 or len(sun_v) == 0:
         _ray_effect(obstruction, np.zeros((0, 3)), np.zeros((0, 3)), start)  # type check
         return ShadeHits(empty, empty, np.zeros(0, dtype=bool))
-    side_pt = side_sun = None
+    side = None
     if isinstance(obstruction, Plate):
         # self-shading rule: points in the plate's plane are never shaded by it
         dist = _plate_side(obstruction, pts)
@@ -746,10 +927,15 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
                                      sun_order, sub_facing)
             return ShadeHits(hits.step, active[hits.point].astype(np.int32), hits.crown_only)
         # a ray meets the plane only when the sun lies on the far side from the point
-        side_pt = dist > 0
-        side_sun = sun_v @ _plate_geometry(obstruction)[3] < 0
+        side = (dist > 0, sun_v @ _plate_geometry(obstruction)[3] < 0)
     sub = max(256, max_pairs // _kernel_cost(obstruction))
-    steps, points_, crowns = [], [], []
+    order = None
+    if cull:
+        order = sun_order if sun_order is not None else _sun_order(sun_v)
+        if isinstance(obstruction, Tree):
+            kernels = _tree_kernels(obstruction, pts, sun_v, start)
+            if kernels is not None:
+                return _tree_hits(pts, obstruction, kernels, order, facing, max_pairs, sub)
 
     fast = None
     if isinstance(obstruction, Block):
@@ -757,51 +943,56 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
     elif isinstance(obstruction, Tree):
         fast = _tree_kernel(obstruction, pts, sun_v, start)
 
-    def test(pt, st):
-        if facing is not None:  # rays of back-lit points carry no beam: not tested
-            keep = facing.lit[st, facing.group[pt]]
-            pt, st = pt[keep], st[keep]
-        for i in range(0, len(pt), sub):
-            p, s = pt[i:i + sub], st[i:i + sub]
-            if fast is not None:
-                opaque, crown = fast(p, s)
-            else:
-                opaque, crown = _ray_effect(obstruction, pts[p], sun_v[s], start)
-            hit = opaque | crown
-            steps.append(s[hit].astype(np.int32))
-            points_.append(p[hit].astype(np.int32))
-            crowns.append(crown[hit])
+    def effect(p, st):
+        if fast is not None:
+            return fast(p, st)
+        return _ray_effect(obstruction, pts[p], sun_v[st], start)
 
+    found = _HitList(effect, facing, sub)
     if cull:
-        order = sun_order if sun_order is not None else _sun_order(sun_v)
-        run_pt, run_start, run_count = _candidate_ranges(pts, order, obstruction)
-        # split the runs into groups of about max_pairs pairs
-        group = (np.cumsum(run_count) - 1) // max(1, max_pairs)
-        bounds = [0, *(np.flatnonzero(np.diff(group)) + 1).tolist(), len(run_pt)]
-        for a, b in itertools.pairwise(bounds):
-            if b <= a:
-                continue
-            pt, pos = _expand_runs(run_pt[a:b], run_start[a:b], run_count[a:b])
-            st = order.order[pos]
-            if side_pt is not None:
-                keep = side_pt[pt] == side_sun[st]
-                pt, st = pt[keep], st[keep]
-            test(pt, st)
+        found.test_runs(order, _candidate_ranges(pts, order, obstruction), max_pairs, side)
         if len(order.zenith_steps):
-            pt = np.repeat(np.arange(len(pts)), len(order.zenith_steps))
-            st = np.tile(order.zenith_steps, len(pts))
-            test(pt, st)
+            found.test(np.repeat(np.arange(len(pts)), len(order.zenith_steps)),
+                       np.tile(order.zenith_steps, len(pts)))
     else:
         per = max(1, max_pairs // len(pts))
         for t0 in range(0, len(sun_v), per):
             st_block = np.arange(t0, min(t0 + per, len(sun_v)))
-            pt = np.tile(np.arange(len(pts)), len(st_block))
-            st = np.repeat(st_block, len(pts))
-            test(pt, st)
-    step = np.concatenate(steps) if steps else empty
-    point = np.concatenate(points_) if points_ else empty
-    crown = np.concatenate(crowns) if crowns else np.zeros(0, dtype=bool)
-    return ShadeHits(step, point, crown)
+            found.test(np.tile(np.arange(len(pts)), len(st_block)),
+                       np.repeat(st_block, len(pts)))
+    return found.result()
+
+
+def _tree_hits(pts, tree: Tree, kernels, order: _SunOrder, facing, max_pairs: int,
+               sub: int) -> ShadeHits:
+    """Hits of a spheroid tree, its crown and its trunk culled apart.
+
+    The crown's candidates come from its own cap (:func:`_crown_ranges`), the trunk's from its
+    thin column, so a point above the crown base never tests the trunk and a low sun below
+    the crown never tests the crown. A ray through both is blocked by the trunk.
+    """
+    crown_kernel, trunk_kernel = kernels
+    crown = _HitList(lambda p, st: (None, crown_kernel(p, st)), facing, sub)
+    crown.test_runs(order, _crown_ranges(pts, order, tree), max_pairs)
+    in_crown = crown.result()
+    if trunk_kernel is None:
+        return in_crown
+    (x, y), r = tree.center, tree.trunk_radius
+    column = _Column((x - r, y - r, tree.ground_m, x + r, y + r,
+                      tree.ground_m + tree.crown_base))
+    trunk = _HitList(lambda p, st: (trunk_kernel(p, st), None), facing, sub)
+    trunk.test_runs(order, _candidate_ranges(pts, order, column), max_pairs)
+    on_trunk = trunk.result()
+    if not len(on_trunk):
+        return in_crown
+    n = len(pts)
+    trunk_key = np.sort(on_trunk.step.astype(np.int64) * n + on_trunk.point)
+    crown_key = in_crown.step.astype(np.int64) * n + in_crown.point
+    where = np.minimum(np.searchsorted(trunk_key, crown_key), len(trunk_key) - 1)
+    only = trunk_key[where] != crown_key
+    return ShadeHits(np.concatenate([on_trunk.step, in_crown.step[only]]),
+                     np.concatenate([on_trunk.point, in_crown.point[only]]),
+                     np.concatenate([on_trunk.crown_only, in_crown.crown_only[only]]))
 
 
 # --------------------------------------------------------------------------- combining
@@ -826,63 +1017,95 @@ def _check_month(month, n_steps) -> np.ndarray:
 def _combine_transmitted(n_steps, n_points, pairs, month) -> np.ndarray:
     out = np.ones((n_steps, n_points))
     for obstruction, hits in pairs:
-        if hits.blocked_steps is not None:
-            out[hits.blocked_steps] = 0.0
+        entry = _prepare_hits(obstruction, hits, month, dtype=np.float64)
+        if entry is None:
             continue
-        out[hits.step, hits.point] *= _hit_factors(obstruction, hits, month)
+        if isinstance(entry[0], str):  # ("horizon", blocked_steps)
+            out[entry[1]] = 0.0
+            continue
+        step, point, factor = entry
+        if factor is None:
+            out[step, point] = 0.0
+        else:
+            out[step, point] *= factor
     return out
-
-
-def _hit_factors(obstruction, hits: ShadeHits, month) -> np.ndarray:
-    """Beam fraction let through at each hit: 0 for opaque, the crown's monthly value."""
-    factor = np.zeros(len(hits))
-    if isinstance(obstruction, Tree) and obstruction.transmittance is not None \
-            and hits.crown_only.any():
-        if month is None:
-            raise InputError("month", "is needed for a tree with a crown transmittance",
-                             allowed="one month number (1-12) per sun step")
-        tau = obstruction.monthly_transmittance
-        factor = np.where(hits.crown_only, tau[month[hits.step] - 1], 0.0)
-    return factor
 
 
 #: Largest number of (step, point) values held densely at once when summing hits per group.
 _DENSE_BLOCK = 1 << 24
 
 
-def _prepare_hits(obstruction, hits: ShadeHits, month, n_steps: int):
-    """Sort one obstruction's hits by step and attach the beam factor let through at each.
+def _prepare_hits(obstruction, hits: ShadeHits, month, dtype=np.float32):
+    """Attach to one obstruction's hits the beam fraction let through at each.
 
     Returns ``("horizon", blocked_steps)`` for a far horizon, None when nothing is hit, else
-    ``(step, point, factor)`` sorted by step (a radix sort for up to 65,536 steps), with
-    ``factor`` None for an opaque obstruction.
+    ``(step, point, factor)`` in the hits' order: ``factor`` is 0 where an opaque surface is
+    met and the crown's monthly transmittance where only a crown is, or None when every hit
+    is opaque.
     """
     if hits.blocked_steps is not None:
         return ("horizon", hits.blocked_steps)
     if not len(hits):
         return None
-    key = hits.step.astype(np.uint16) if n_steps <= 65536 else hits.step
+    factor = None
+    if isinstance(obstruction, Tree) and obstruction.transmittance is not None \
+            and hits.crown_only.any():
+        if month is None:
+            raise InputError("month", "is needed for a tree with a crown transmittance",
+                             allowed="one month number (1-12) per sun step")
+        per_step = obstruction.monthly_transmittance.astype(dtype)[month - 1]
+        factor = per_step[hits.step]
+        factor[~hits.crown_only] = 0.0
+        if not factor.any():
+            factor = None
+    return (hits.step, hits.point, factor)
+
+
+def _sorted_by_step(entry, n_steps: int):
+    """Sort prepared hits by step (a radix sort for up to 65,536 steps)."""
+    step, point, factor = entry
+    key = step.astype(np.uint16) if n_steps <= 65536 else step
     order = np.argsort(key, kind="stable")
-    factor = _hit_factors(obstruction, hits, month)
-    return (hits.step[order], hits.point[order],
-            factor[order].astype(np.float32) if factor.any() else None)
+    return step[order], point[order], None if factor is None else factor[order]
 
 
-def _group_shade(n_steps, n_points, pairs, labels, n_groups, month, out=None,
-                 prepared_hits=None) -> np.ndarray:
-    """Shaded beam fraction per (step, group) from sparse hits, float32 (T, G).
+def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, rows=None,
+                      out=None):
+    """Shaded beam fraction per group of points at the steps where some ray is blocked.
 
-    Each obstruction's hits are sorted by step (:func:`_prepare_hits`, or taken ready from
-    ``prepared_hits``, one entry per pair); then, block by block of the steps that have hits,
-    the beam fraction of every point is built densely in float32 (at most
-    :data:`_DENSE_BLOCK` values, 64 MB) and summed per group. Rays met by several obstructions
-    multiply their transmittances. ``out``, if given, is a float32 (T, G) array (a view is
-    fine) that receives the result.
+    Parameters
+    ----------
+    n_steps, n_points : int
+        Sun steps and points the hits refer to.
+    prepared_hits : sequence
+        One entry per obstruction, from :func:`_prepare_hits`.
+    labels : numpy.ndarray of int, shape (N,)
+        Group of each point, 0 to ``n_groups - 1``.
+    n_groups : int
+    rows : numpy.ndarray of int, optional
+        Increasing steps to give values for (a superset of the steps with hits, e.g. every
+        step); default: exactly the steps with a hit or below the far horizon.
+    out : numpy.ndarray of float32, shape (G, len(rows)), optional
+        Receives the values (a view is fine).
+
+    Returns
+    -------
+    rows : numpy.ndarray of int, shape (R,)
+        Increasing sun steps; at every other step no group has shade.
+    values : numpy.ndarray of float32, shape (G, R)
+        Shaded fraction of each group at those steps, group-major so that reductions over
+        groups (cells of a substring, say) run over whole contiguous rows. Rays met by
+        several obstructions multiply their transmittances. Empty groups give NaN.
+
+    Notes
+    -----
+    Block by block of the rows (at most :data:`_DENSE_BLOCK` values, 64 MB), the beam fraction
+    of every point is built densely (point-major, so one point's hits fall close together),
+    the hits are scattered into it, and the points are averaged per group. Hits need sorting
+    by step only when there is more than one block.
     """
     horizon = np.zeros(n_steps, dtype=bool)
     prepared = []
-    if prepared_hits is None:
-        prepared_hits = [_prepare_hits(ob, hits, month, n_steps) for ob, hits in pairs]
     for entry in prepared_hits:
         if entry is None:
             continue
@@ -890,55 +1113,74 @@ def _group_shade(n_steps, n_points, pairs, labels, n_groups, month, out=None,
             horizon |= entry[1]
             continue
         prepared.append(entry)
-    counts = np.bincount(labels, minlength=n_groups)
-    if out is None:
-        out = np.zeros((n_steps, n_groups), dtype=np.float32)
-    else:
-        out[...] = 0.0
-    if n_points and prepared:
-        perm = None if (np.diff(labels) >= 0).all() else np.argsort(labels, kind="stable")
-        lab = labels if perm is None else labels[perm]
-        starts = np.flatnonzero(np.r_[True, lab[1:] != lab[:-1]])
-        present = lab[starts]
-        # the common layouts: groups 0..G-1 in order, each of the same size k (k points a
-        # cell): sum k strided column slices instead of a general reduceat
-        size = n_points // n_groups if n_groups else 0
-        regular = (len(present) == n_groups and size * n_groups == n_points
-                   and np.array_equal(starts, np.arange(n_groups) * size))
-        # Only the steps that some ray is blocked at are built densely; the rest stay 0.
-        has_hits = np.zeros(n_steps, dtype=bool)
+    if rows is None:
+        with_shade = horizon.copy()
         for step, _, _ in prepared:
-            has_hits[step] = True
-        rows = np.flatnonzero(has_hits)
-        row_of = np.zeros(n_steps, dtype=np.intp)  # step -> its row in the dense block
-        per = max(1, _DENSE_BLOCK // n_points)
-        for r0 in range(0, len(rows), per):
-            block = rows[r0:r0 + per]
-            row_of[block] = np.arange(len(block))
-            beam = np.ones((len(block), n_points), dtype=np.float32)
-            for step, point, factor in prepared:
-                i, j = np.searchsorted(step, [block[0], block[-1] + 1])
-                if j <= i:
-                    continue
-                row = row_of[step[i:j]]
-                if factor is None:
-                    beam[row, point[i:j]] = 0.0
-                else:
-                    beam[row, point[i:j]] *= factor[i:j]
-            if perm is not None:
-                beam = beam[:, perm]
-            if regular:
-                lit = beam if size == 1 else beam[:, 0::size].copy()
-                for k in range(1, size):
-                    lit += beam[:, k::size]
-                if size > 1:
-                    lit *= np.float32(1.0 / size)
-                out[block] = np.float32(1.0) - lit
+            with_shade[step] = True
+        rows = np.flatnonzero(with_shade)
+    n_rows = len(rows)
+    values = np.empty((n_groups, n_rows), dtype=np.float32) if out is None else out
+    if n_rows == 0 or n_groups == 0:
+        return rows, values
+    counts = np.bincount(labels, minlength=n_groups)
+    perm = None if (np.diff(labels) >= 0).all() else np.argsort(labels, kind="stable")
+    lab = labels if perm is None else labels[perm]
+    starts = np.flatnonzero(np.r_[True, lab[1:] != lab[:-1]]) if n_points else np.zeros(0, int)
+    present = lab[starts]
+    # the common layouts: groups 0..G-1 in order, each of k points (k sample points a cell)
+    size = n_points // n_groups
+    regular = (len(present) == n_groups and size * n_groups == n_points
+               and np.array_equal(starts, np.arange(n_groups) * size))
+    direct = regular and size == 1  # one point a group: the beam block is the values block
+    row_of = np.zeros(n_steps, dtype=np.intp)  # step -> its column in the values
+    row_of[rows] = np.arange(n_rows)
+    per = max(1, _DENSE_BLOCK // max(1, n_points))
+    if n_rows > per:
+        prepared = [_sorted_by_step(entry, n_steps) for entry in prepared]
+    for r0 in range(0, n_rows, per):
+        r1 = min(n_rows, r0 + per)
+        width = r1 - r0
+        whole = direct and width == n_rows and values.flags.c_contiguous
+        beam = values if whole else np.empty((n_points, width), dtype=np.float32)
+        beam.fill(1.0)
+        flat_beam = beam.reshape(-1)
+        for step, point, factor in prepared:
+            part = slice(None)
+            if n_rows > per:
+                part = slice(*np.searchsorted(step, [rows[r0], rows[r1 - 1] + 1]))
+            flat = point[part].astype(np.intp) * width
+            flat += row_of[step[part]]
+            if r0:
+                flat -= r0
+            if factor is None:
+                flat_beam[flat] = 0.0
             else:
-                lit = np.add.reduceat(beam, starts, axis=1)
-                out[np.ix_(block, present)] = 1.0 - lit / counts[present]
-    out[horizon] = 1.0
-    out[:, counts == 0] = np.nan
+                np.multiply.at(flat_beam, flat, factor[part])
+        if direct:
+            np.subtract(np.float32(1.0), beam, out=values[:, r0:r1])
+        elif regular:
+            lit = beam.reshape(n_groups, size, r1 - r0).sum(axis=1)
+            values[:, r0:r1] = np.float32(1.0) - lit * np.float32(1.0 / size)
+        else:
+            lit = np.add.reduceat(beam if perm is None else beam[perm], starts, axis=0)
+            values[:, r0:r1] = np.nan
+            values[present, r0:r1] = np.float32(1.0) - lit / counts[present][:, None]
+    values[:, row_of[np.flatnonzero(horizon)]] = 1.0
+    values[counts == 0] = np.nan
+    return rows, values
+
+
+def _group_shade(n_steps, n_points, pairs, labels, n_groups, month) -> np.ndarray:
+    """Shaded beam fraction per (step, group) from sparse hits, float32 (T, G).
+
+    The dense form of :func:`_group_shade_rows`: zero at the steps without a blocked ray,
+    NaN for an empty group.
+    """
+    prepared = [_prepare_hits(ob, hits, month) for ob, hits in pairs]
+    rows, values = _group_shade_rows(n_steps, n_points, prepared, labels, n_groups)
+    out = np.zeros((n_steps, n_groups), dtype=np.float32)
+    out[rows] = values.T
+    out[:, np.bincount(labels, minlength=n_groups) == 0] = np.nan
     return out
 
 
@@ -1107,14 +1349,35 @@ class ShadeCache:
             Number of groups; default ``labels.max() + 1``. Empty groups give NaN.
         """
         lab, g = _check_labels(labels, len(self.points), n_groups)
-        pairs = [(ob, self._hits[ob]) for ob in self.obstructions]
+        rows, values = self.group_shade_rows(lab, n_groups=g)
+        out = np.zeros((len(self.sun), g), dtype=np.float32)
+        out[rows] = values.T
+        out[:, np.bincount(lab, minlength=g) == 0] = np.nan
+        return out
+
+    def group_shade_rows(self, labels, *, n_groups: int | None = None):
+        """Return the shaded beam fraction per group at only the steps that have shade.
+
+        Parameters
+        ----------
+        labels, n_groups
+            As in :meth:`group_shade`.
+
+        Returns
+        -------
+        rows : numpy.ndarray of int, shape (R,)
+            Increasing sun steps (rows of :attr:`sun`) where some ray is blocked; at the
+            others no group has shade.
+        values : numpy.ndarray of float32, shape (G, R)
+            Shaded fraction of each group at those steps, group-major.
+        """
+        lab, g = _check_labels(labels, len(self.points), n_groups)
         prepared = []
-        for ob, hits in pairs:  # sorted once per obstruction and kept with its hits
+        for ob in self.obstructions:  # factors attached once per obstruction, kept with hits
             if ob not in self._prepared:
-                self._prepared[ob] = _prepare_hits(ob, hits, self.month, len(self.sun))
+                self._prepared[ob] = _prepare_hits(ob, self._hits[ob], self.month)
             prepared.append(self._prepared[ob])
-        return _group_shade(len(self.sun), len(self.points), pairs, lab, g, self.month,
-                            prepared_hits=prepared)
+        return _group_shade_rows(len(self.sun), len(self.points), prepared, lab, g)
 
 
 # --------------------------------------------------------------------------- aggregation
@@ -1241,51 +1504,67 @@ class ModuleShade:
     """Beam shaded fraction of placed modules per sun step, by cell and by substring.
 
     Values are float32 fractions from 0 (no shade) to 1 (all of the beam blocked); a tree
-    crown blocks ``1 - transmittance`` of the beam where it is met. float32 keeps the arrays
-    at 4 bytes a value (a year of 4,400 sun-up hours for 500 modules of 60 cells is 0.5 GB by
-    cell, 27 MB by substring) and carries about 7 significant digits, far below the sampling
-    error of a few points a cell. The per-substring means are worked out from the cells when
-    first asked for.
+    crown blocks ``1 - transmittance`` of the beam where it is met. Only the steps at which
+    some ray is blocked are held (:attr:`steps`), cell-major (:attr:`by_cell`); the dense
+    per-step arrays are built when first asked for. float32 keeps the arrays at 4 bytes a
+    value (a year of 4,400 sun-up hours for 500 modules of 60 cells is at most 0.5 GB) and
+    carries about 7 significant digits, far below the sampling error of a few points a cell.
 
     Attributes
     ----------
     module_ids : tuple of str
         Id of each module.
-    cell : numpy.ndarray of float32, shape (T, M, C)
-        Shaded fraction of each cell (mean over its sample points).
+    steps : numpy.ndarray of int, shape (R,)
+        Increasing sun steps (rows of the sun vectors given) at which some cell may be
+        shaded; at every other step no cell is.
+    by_cell : numpy.ndarray of float32, shape (M, C, R)
+        Shaded fraction of each module's cells at :attr:`steps` (mean over a cell's sample
+        points).
+    n_steps : int
+        Number of sun steps T.
     cell_substring : numpy.ndarray of int, shape (C,)
         Substring (bypass diode) of each cell.
+    cell : numpy.ndarray of float32, shape (T, M, C)
+        Shaded fraction of each cell at every step.
     substring : numpy.ndarray of float32, shape (T, M, S)
         Shaded fraction of each bypass-diode substring (mean over its cells).
     """
 
     module_ids: tuple[str, ...]
-    cell: np.ndarray
+    steps: np.ndarray
+    by_cell: np.ndarray
+    n_steps: int
     cell_substring: np.ndarray
+
+    @cached_property
+    def cell(self) -> np.ndarray:
+        """Shaded fraction of each cell, float32 (T, M, C)."""
+        n_mod, n_cells, _ = self.by_cell.shape
+        if len(self.steps) == self.n_steps:  # every step held
+            return self.by_cell.transpose(2, 0, 1)
+        out = np.zeros((self.n_steps, n_mod, n_cells), dtype=np.float32)
+        out[self.steps] = self.by_cell.transpose(2, 0, 1)
+        return out
 
     @cached_property
     def substring(self) -> np.ndarray:
         """Shaded fraction of each substring, float32 (T, M, S) (mean over its cells)."""
-        return _substring_means(self.cell, self.cell_substring)
+        n_mod = self.by_cell.shape[0]
+        labels = np.asarray(self.cell_substring)
+        per = np.bincount(labels)
+        out = np.zeros((self.n_steps, n_mod, len(per)), dtype=np.float32)
+        for s, count in enumerate(per):
+            if count:
+                cells = self.by_cell[:, labels == s, :]
+                out[self.steps, :, s] = (cells.sum(axis=1, dtype=np.float64) / count).T
+        return out
 
     @property
     def module(self) -> np.ndarray:
         """Shaded fraction of each whole module, float32 (T, M) (cells have equal areas)."""
-        return self.cell.mean(axis=2, dtype=np.float64).astype(np.float32)
-
-
-def _substring_means(cell: np.ndarray, cell_substring: np.ndarray) -> np.ndarray:
-    """Mean of the cells of each substring, block by block (no copy of the whole array)."""
-    n_steps, n_mod, n_cells = cell.shape
-    by_substring = np.argsort(cell_substring, kind="stable")
-    starts = np.flatnonzero(np.r_[True, np.diff(cell_substring[by_substring]) != 0])
-    per = np.bincount(cell_substring)
-    substring = np.empty((n_steps, n_mod, len(per)), dtype=np.float32)
-    block = max(1, _DENSE_BLOCK // max(1, n_mod * n_cells))
-    for t0 in range(0, n_steps, block):
-        part = cell[t0:t0 + block][:, :, by_substring]
-        substring[t0:t0 + block] = np.add.reduceat(part, starts, axis=2, dtype=np.float64) / per
-    return substring
+        out = np.zeros((self.n_steps, self.by_cell.shape[0]), dtype=np.float32)
+        out[self.steps] = self.by_cell.mean(axis=1, dtype=np.float64).T
+        return out
 
 
 #: Default largest number of rays (sun steps × sample points) handled per chunk of modules in
@@ -1295,6 +1574,7 @@ DEFAULT_MAX_RAYS = 1 << 26
 
 def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1, month=None,
                  include_modules: bool = True, cache: ShadeCache | None = None,
+                 samples: ModuleSamples | None = None,
                  ray_start: float = RAY_START_M, max_pairs: int = DEFAULT_MAX_PAIRS,
                  max_rays: int = DEFAULT_MAX_RAYS) -> ModuleShade:
     """Compute the beam shaded fraction of each module per sun step, by cell and substring.
@@ -1322,6 +1602,9 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
         normals and the same ``sun``: it is updated with the casters (only new or changed
         ones are ray-tested) and keeps its hits for the next call. Memory is then that of the
         cache.
+    samples : ModuleSamples, keyword-only, optional
+        The modules' sample points, when already made by ``module_samples(modules, spec,
+        samples_per_cell=...)`` (saves making them again).
     ray_start, max_pairs
         As in :func:`shaded`.
     max_rays : int, keyword-only
@@ -1336,7 +1619,13 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
         then and count as unshaded (:class:`Facing`).
     """
     modules = tuple(modules)
-    samples = module_samples(modules, spec, samples_per_cell=samples_per_cell)
+    if samples is None:
+        samples = module_samples(modules, spec, samples_per_cell=samples_per_cell)
+    elif samples.module_ids != tuple(m.id for m in modules) \
+            or samples.n_cells != spec.cell_count \
+            or len(samples.points) != len(modules) * spec.cell_count * samples_per_cell:
+        raise InputError("samples", "were made for other modules or another sampling",
+                         allowed="module_samples(modules, spec, samples_per_cell=...)")
     sun_v = _check_sun(sun)
     start = check_positive("ray_start", ray_start, unit="m")
     m = None if month is None else _check_month(month, len(sun_v))
@@ -1355,11 +1644,12 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
             raise InputError("cache", "was built without the modules' normals",
                              allowed="ShadeCache(samples.points, sun, normals=samples.normals)")
         cache.update(casters)
-        cell = cache.group_shade(samples.cell_group, n_groups=n_mod * n_cells)
+        steps, values = cache.group_shade_rows(samples.cell_group, n_groups=n_mod * n_cells)
     else:
         order = _sun_order(sun_v)
         facing = Facing.from_normals(sun_v, samples.normals)
-        cell = np.empty((len(sun_v), n_mod * n_cells), dtype=np.float32)
+        steps = np.arange(len(sun_v))  # chunks of modules: every step held
+        values = np.empty((n_mod * n_cells, len(sun_v)), dtype=np.float32)
         per_module = len(samples.points) // n_mod
         chunk = max(1, int(max_rays) // max(1, per_module * len(sun_v)))
         for m0 in range(0, n_mod, chunk):
@@ -1367,12 +1657,13 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
             sel = slice(m0 * per_module, m1 * per_module)
             pts = samples.points[sel]
             sub_facing = facing.subset(np.arange(len(samples.points))[sel])
-            pairs = [(ob, _obstruction_hits(pts, sun_v, ob, start, int(max_pairs), True, order,
-                                            sub_facing))
-                     for ob in casters]
+            prepared = [_prepare_hits(ob, _obstruction_hits(pts, sun_v, ob, start,
+                                                            int(max_pairs), True, order,
+                                                            sub_facing), m)
+                        for ob in casters]
             labels = samples.cell_group[sel] - m0 * n_cells
-            _group_shade(len(sun_v), len(pts), pairs, labels, (m1 - m0) * n_cells, m,
-                         out=cell[:, m0 * n_cells:m1 * n_cells])
-    cell = cell.reshape(len(sun_v), n_mod, n_cells)
+            _group_shade_rows(len(sun_v), len(pts), prepared, labels, (m1 - m0) * n_cells,
+                              rows=steps, out=values[m0 * n_cells:m1 * n_cells])
     cell_substring = np.asarray(spec.substring_of_cell(np.arange(n_cells)), dtype=np.intp)
-    return ModuleShade(samples.module_ids, cell, cell_substring)
+    return ModuleShade(samples.module_ids, steps, values.reshape(n_mod, n_cells, len(steps)),
+                       len(sun_v), cell_substring)

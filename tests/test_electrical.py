@@ -79,6 +79,25 @@ P_IV_STC = _iv_power([_iv_module((), 1000.0)])  # the reference module's own STC
 
 
 # --------------------------------------------------------------------------- tests
+def test_module_level_is_the_best_of_the_bypassed_substring_sets():
+    # max over k of (k / S) * pvwatts_dc(G_(k), T) with G_(k) the k-th brightest substring,
+    # written out with a sort (the module docstring's rule), on random irradiance with ties,
+    # dark steps and S = 1 to 4 substrings
+    rng = np.random.default_rng(5)
+    for s in (1, 2, 3, 4):
+        g = np.round(rng.uniform(-5, 1000, (40, 6, s)), -2)  # rounding makes ties
+        g[:5] = 0.0
+        t = rng.uniform(-10, 70, (40, 6))
+        ordered = -np.sort(-g, axis=2)
+        share = np.arange(1, s + 1) / s
+        candidates = pvlib.pvsystem.pvwatts_dc(ordered, t[:, :, None], 300.0,
+                                               DEFAULT_GAMMA_PDC) * share
+        expected = candidates.max(axis=2)
+        expected[g.reshape(40, -1).max(axis=1) <= 0] = 0.0
+        np.testing.assert_allclose(dc_module_level(g, t, 300.0), expected, rtol=1e-12,
+                                   atol=1e-9)
+
+
 def test_unshaded_models_equal_pvwatts():
     g = np.array([[800.0, 400.0], [0.0, 1000.0]])
     t = np.array([[45.0, 30.0], [10.0, 25.0]])

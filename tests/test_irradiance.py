@@ -177,6 +177,39 @@ def test_sun_up_steps_only_expand_with_zero_at_night(clear):
         module_irradiance(clear, [20.0, 20.0], [90.0, 270.0], beam_shaded=f_up[:-1])
 
 
+def test_shade_held_at_some_steps_equals_the_dense_array(clear):
+    # the row form (only the steps with shade, cell-major, as ModuleShade holds it) gives the
+    # same irradiance as the dense (time, module, cell) array with zeros elsewhere
+    rng = np.random.default_rng(7)
+    n_all = len(clear.data)
+    steps = np.sort(rng.choice(np.flatnonzero(clear.solar_position["sun_up"]), 300,
+                               replace=False))
+    by_cell = (rng.random((2, 6, len(steps))) * (rng.random((2, 6, len(steps))) < 0.5))
+    by_cell = by_cell.astype(np.float32)
+    dense = np.zeros((n_all, 2, 6), dtype=np.float32)
+    dense[steps] = by_cell.transpose(2, 0, 1)
+    labels = [0, 1, 2, 0, 1, 2]
+    a = module_irradiance(clear, [20.0, 35.0], [180.0, 200.0], shade_rows=(steps, by_cell),
+                          cell_substring=labels, n_substrings=3)
+    b = module_irradiance(clear, [20.0, 35.0], [180.0, 200.0], beam_shaded=dense,
+                          cell_substring=labels, n_substrings=3)
+    np.testing.assert_allclose(a.effective, b.effective)
+    np.testing.assert_array_equal(a.substring_effective, b.substring_effective)
+    np.testing.assert_allclose(a.temp_cell_unshaded, b.temp_cell_unshaded)
+    with pytest.raises(InputError) as info:
+        module_irradiance(clear, [20.0, 35.0], [180.0, 200.0], shade_rows=(steps, by_cell),
+                          beam_shaded=dense)
+    assert info.value.field == "shade_rows"
+    with pytest.raises(InputError, match="increasing"):
+        module_irradiance(clear, [20.0, 35.0], [180.0, 200.0],
+                          shade_rows=(steps[::-1], by_cell))
+    with pytest.raises(InputError, match="0 to 1"):
+        module_irradiance(clear, [20.0, 35.0], [180.0, 200.0], shade_rows=(steps, -by_cell))
+    with pytest.raises(InputError, match="module, cell, step"):
+        module_irradiance(clear, [20.0, 35.0], [180.0, 200.0],
+                          shade_rows=(steps[:-1], by_cell))
+
+
 def test_substring_shade_reduction():
     f = np.array([[[0.0, 1.0, 0.2, 0.4, 0.0, 0.0]]])
     mean, worst = substring_shade(f, cell_substring=[0, 1, 0, 1, 2, 2])

@@ -271,6 +271,60 @@ def test_culling_and_chunking_do_not_change_the_answer(seed, max_pairs):
     assert np.array_equal(shaded(pts, sun, scene, max_pairs=max_pairs), full)
 
 
+def random_trees(rng):
+    """Spheroid trees of every kind a site has: tall and flat crowns, no trunk, on a bank."""
+    trees = []
+    for _ in range(4):
+        height = rng.uniform(3, 14)
+        trees.append(Tree(rng.uniform(-6, 6, 2), height, rng.uniform(0.5, 4),
+                          rng.choice([0.0, height * rng.uniform(0.05, 0.8)]),
+                          rng.uniform(0.1, 0.5), ground_m=rng.choice([0.0, -2.0, 1.5])))
+    return trees
+
+
+def hit_set(hits):
+    return set(zip(hits.step.tolist(), hits.point.tolist(), hits.crown_only.tolist(),
+                   strict=True))
+
+
+@settings(max_examples=25, deadline=None)
+@given(st.integers(0, 10_000))
+def test_tree_crown_and_trunk_culled_apart_give_every_hit(seed):
+    # the sun-up speed path culls a spheroid crown by its exact cap per azimuth sector and the
+    # trunk by its own column; every (step, point) pair and its crown-only flag must be the
+    # same as with no culling at all, for points around, under, above and inside crowns
+    rng = np.random.default_rng(seed)
+    pts = np.column_stack([rng.uniform(-9, 9, 60), rng.uniform(-9, 9, 60),
+                           rng.uniform(-1, 12, 60)])
+    sun = sun_vectors(rng.uniform(0, 360, 300), rng.uniform(0.2, 89.5, 300))
+    for tree in random_trees(rng):
+        got = obstruction_hits(pts, sun, tree)
+        want = obstruction_hits(pts, sun, tree, cull=False)
+        assert len(got) == len(want) and hit_set(got) == hit_set(want)
+
+
+def test_tree_crown_cull_keeps_grazing_rays():
+    # rays tangent to the crown (within a hair) stay candidates: the cap bounds go through
+    # arcsin/arccos near 1, where rounding grows; the margin must cover it
+    tree = Tree((0.0, 10.0), 12.0, 3.0, 4.0, 0.3)
+    pts = np.array([[0.0, 0.0, 5.0], [1.0, 0.5, 6.0]])
+    azimuths, elevations = [], []
+    for x, y, z in pts:
+        # directions to points on the crown's horizontal equator circle, tangent in plan
+        dist = math.hypot(0.0 - x, 10.0 - y)
+        half = math.degrees(math.asin(3.0 / dist))
+        centre = math.degrees(math.atan2(0.0 - x, 10.0 - y))
+        elevation = math.degrees(math.atan2(8.0 - z, math.sqrt(dist ** 2 - 9.0)))
+        for sign in (-1, 1):
+            for nudge in (-1e-7, 0.0, 1e-7):
+                azimuths.append(centre + sign * (half + nudge))
+                elevations.append(elevation)
+    sun = sun_vectors(np.array(azimuths) % 360, np.array(elevations))
+    got = obstruction_hits(pts, sun, tree)
+    want = obstruction_hits(pts, sun, tree, cull=False)
+    assert len(want) > 0 and hit_set(got) == hit_set(want)
+
+
 # ------------------------------------------------------------------ transmittance
 def test_crown_transmittance_by_month():
     # Heisler (1986) deciduous values through the preset: 0.6 leafless (January), 0.2 in leaf
@@ -568,6 +622,19 @@ def test_module_shade_cache_and_trees():
     with pytest.raises(InputError) as info:
         module_shade(mods[:1], spec, sun, scene, month=month, cache=cache)
     assert info.value.field == "cache"
+    # the cached result holds only the steps with shade; every other step has none
+    assert len(cached.steps) < len(sun)
+    unlisted = np.setdiff1d(np.arange(len(sun)), cached.steps)
+    assert not direct.cell[unlisted].any()
+    assert np.array_equal(cached.substring, direct.substring)
+    assert np.array_equal(cached.module, direct.module)
+    samples = module_samples(mods, spec)
+    given_samples = module_shade(mods, spec, sun, moved, month=month, cache=cache,
+                                 samples=samples)
+    assert np.array_equal(given_samples.cell, again.cell)
+    with pytest.raises(InputError) as info:
+        module_shade(mods[1:], spec, sun, scene, month=month, samples=samples)
+    assert info.value.field == "samples"
 
 
 @settings(max_examples=10, deadline=None)
