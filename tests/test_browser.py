@@ -172,16 +172,20 @@ def test_dragging_the_tree_updates_the_annual_shade_loss(voila_url, browser_tool
             end = (start[0] + (TARGET_M[0] - tree[0]) * per_m_x,
                    start[1] + (TARGET_M[1] - tree[1]) * per_m_y)
 
+            moved = page.locator(".eaveline-last-move")
+            last_move = moved.inner_text()
             page.mouse.move(*start)
             page.mouse.down()
             page.mouse.move(*end, steps=8)
             released = time.perf_counter()
             page.mouse.up()
+            # the totals may already show a live preview while the mouse holds the tree; the
+            # drop's figures are on screen when the line naming the move changes (the planner
+            # writes it after the totals)
             page.wait_for_function(
-                "before => document.querySelector('.eaveline-totals').innerText !== before",
-                arg=before, polling="raf", timeout=15_000)
+                "before => document.querySelector('.eaveline-last-move').innerText !== before",
+                arg=last_move, polling="raf", timeout=15_000)
             elapsed_ms = (time.perf_counter() - released) * 1000
-            moved = page.locator(".eaveline-last-move")
             expect(moved).to_contain_text(f"{tree_name} moved to", timeout=15_000)
             found = re.search(r"x = (.+), y = (.+)$", moved.inner_text().strip())
             x_m = read_length(found.group(1), "imperial", field="x")

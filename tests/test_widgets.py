@@ -491,6 +491,72 @@ def test_dragging_the_tree_updates_every_module_and_the_totals(planner, demo):
     assert f"shade loss {core.table.loc[worst, 'shade_loss_pct']:.1f} %" in hover
 
 
+def drag_message(planner, index, x_display, y_display, event="drag"):
+    """What the front end sends on each mouse move of a dragged marker (and at mouse-up)."""
+    planner.plan.obstruction_markers._handle_custom_msgs(
+        None, {"event": event, "origin": {"x": 0, "y": 0},
+               "point": {"x": x_display, "y": y_display}, "index": index})
+
+
+def test_dragging_shows_a_live_preview_and_the_drop_keeps_it(planner, demo):
+    planner.preview_interval_s = 0.0  # every move previews (the app waits 0.25 s between)
+    try:
+        crowns_before = list(planner.plan.tree_marks.x)
+        markers_before = list(planner.plan.obstruction_markers.x)
+        spot = (-1.0, -6.0)
+        drag_message(planner, TREE, spot[0] / FOOT_M, spot[1] / FOOT_M)
+        x, y = (snap_length(v, "imperial") for v in spot)
+        core = evaluate(moved_project(demo, TREE, x, y))
+        # the figures are exact for the marker's place, the project has not changed yet
+        assert shown_loss(planner) == pytest.approx(core.totals["shade_loss_pct"], abs=0.005)
+        assert planner.plan.module_values.to_numpy() == pytest.approx(
+            core.table["shade_loss_pct"].to_numpy(), rel=1e-9)
+        assert planner.project is demo
+        assert "Preview" in planner.status.value
+        # the crown follows the marker; the markers, which the mouse holds, are not redrawn
+        assert list(planner.plan.tree_marks.x) != crowns_before
+        assert list(planner.plan.obstruction_markers.x) == markers_before
+        # a drag that ends where it began puts the project's own figures back
+        drag_message(planner, TREE, markers_before[TREE], planner.plan.obstruction_markers
+                     .y[TREE], event="drag_end")
+        assert planner.analysis.project is planner.project is demo
+        assert shown_loss(planner) == pytest.approx(evaluate(demo).totals["shade_loss_pct"],
+                                                    abs=0.005)
+        assert list(planner.plan.tree_marks.x) == crowns_before
+        # a preview, then a drop somewhere else: the drop is what stays
+        drag_message(planner, TREE, spot[0] / FOOT_M, spot[1] / FOOT_M)
+        drop_marker(planner, TREE, -2.0 / FOOT_M, -7.0 / FOOT_M)
+        drag_message(planner, TREE, -2.0 / FOOT_M, -7.0 / FOOT_M, event="drag_end")
+        x, y = (snap_length(v, "imperial") for v in (-2.0, -7.0))
+        dropped = moved_project(demo, TREE, x, y)
+        assert planner.project == dropped and planner.analysis.project is planner.project
+        assert shown_loss(planner) == pytest.approx(
+            evaluate(dropped).totals["shade_loss_pct"], abs=0.005)
+    finally:
+        planner.preview_interval_s = planner.PREVIEW_INTERVAL_S
+
+
+def test_previews_during_a_drag_are_spaced_out(planner, demo):
+    # with the app's interval, a quick drag (a burst of moves just after the mouse took hold)
+    # runs no preview; later in a drag, a burst of moves runs one
+    calls = []
+    original = planner.analysis.update
+    planner.analysis.update = lambda project: calls.append(project) or original(project)
+    try:
+        drag_message(planner, TREE, -1.0 / FOOT_M, -6.0 / FOOT_M, event="drag_start")
+        for k in range(5):
+            drag_message(planner, TREE, (-1.0 - 0.1 * k) / FOOT_M, -6.0 / FOOT_M)
+        assert calls == []
+        planner._preview_done -= planner.preview_interval_s  # the drag has lasted a while
+        for k in range(5):
+            drag_message(planner, TREE, (-1.0 - 0.1 * k) / FOOT_M, -6.0 / FOOT_M)
+        assert len(calls) == 1
+    finally:
+        del planner.analysis.update
+        drag_message(planner, TREE, 0, 0, event="drag_end")
+    assert planner.analysis.project is planner.project is demo
+
+
 def test_modules_coloured_by_the_chosen_figure_share_one_scale(planner):
     table = planner.result.table
     for key in ("shade_loss_pct", "tsrf_pct", "energy_kwh"):

@@ -259,6 +259,10 @@ class PlanView(w.VBox):
 
     - :meth:`on_obstruction_moved` ``(index, x_m, y_m)``: obstruction ``index`` of the project
       was dropped with its marker at plan point (x, y) [m];
+    - :meth:`on_obstruction_dragging` ``(index, x_m, y_m)``: its marker is at (x, y) [m]
+      while the mouse still holds it (every move); :meth:`on_obstruction_drag_start` and
+      :meth:`on_obstruction_drag_end` ``()``: the mouse took hold of a marker, or let go
+      (after the drop, if there was one);
     - :meth:`on_module_clicked` ``(module_id)``: the user clicked a module;
     - :meth:`on_surveyed_clicked` ``(index)``: the user clicked surveyed obstruction
       ``index`` of ``project.survey`` (surveyed obstructions are not dragged).
@@ -275,6 +279,9 @@ class PlanView(w.VBox):
         self._module_ids: list[str] = []
         self._quiet = False
         self._moved: list[Callable] = []
+        self._drag_started: list[Callable] = []
+        self._dragging: list[Callable] = []
+        self._drag_ended: list[Callable] = []
         self._clicked: list[Callable] = []
         self._survey_clicked: list[Callable] = []
         self._surveyed_index: list[int] = []
@@ -391,6 +398,9 @@ class PlanView(w.VBox):
             "obstruction; click a module to take it out or put it back. A hollow ring is "
             "surveyed: click it to edit its readings in Survey.</span>")
         self.obstruction_markers.observe(self._marker_moved, names=["x", "y"])
+        self.obstruction_markers.on_drag_start(self._marker_drag_started)
+        self.obstruction_markers.on_drag(self._marker_dragging)
+        self.obstruction_markers.on_drag_end(self._marker_drag_ended)
         self.module_targets.observe(self._module_selected, names=["selected"])
         self.surveyed_markers.observe(self._surveyed_selected, names=["selected"])
         super().__init__([w.HBox([self.zoom_toggle, self.fit_button, self.hint],
@@ -401,6 +411,18 @@ class PlanView(w.VBox):
     def on_obstruction_moved(self, callback: Callable) -> None:
         """Call ``callback(index, x_m, y_m)`` when an obstruction marker is dropped."""
         self._moved.append(callback)
+
+    def on_obstruction_drag_start(self, callback: Callable) -> None:
+        """Call ``callback()`` when the mouse takes hold of an obstruction marker."""
+        self._drag_started.append(callback)
+
+    def on_obstruction_dragging(self, callback: Callable) -> None:
+        """Call ``callback(index, x_m, y_m)`` on every move of a dragged obstruction marker."""
+        self._dragging.append(callback)
+
+    def on_obstruction_drag_end(self, callback: Callable) -> None:
+        """Call ``callback()`` when the mouse lets go of an obstruction marker."""
+        self._drag_ended.append(callback)
 
     def on_module_clicked(self, callback: Callable) -> None:
         """Call ``callback(module_id)`` when a module is clicked."""
@@ -467,6 +489,26 @@ class PlanView(w.VBox):
         for callback in self._moved:
             callback(self._obstruction_index[i], x[i] / self._k, y[i] / self._k)
 
+    def _marker_dragging(self, _mark, content) -> None:
+        if self._quiet:
+            return
+        try:
+            i = int(content["index"])
+            x, y = float(content["point"]["x"]), float(content["point"]["y"])
+        except (KeyError, TypeError, ValueError):
+            return
+        if 0 <= i < len(self._obstruction_index) and np.isfinite([x, y]).all():
+            for callback in self._dragging:
+                callback(self._obstruction_index[i], x / self._k, y / self._k)
+
+    def _marker_drag_started(self, _mark, _content) -> None:
+        for callback in self._drag_started:
+            callback()
+
+    def _marker_drag_ended(self, _mark, _content) -> None:
+        for callback in self._drag_ended:
+            callback()
+
     def _module_selected(self, change) -> None:
         if self._quiet:
             return
@@ -515,7 +557,8 @@ class PlanView(w.VBox):
                 cy + 0.5 * ph * per_px) * k
 
     # ----------------------------------------------------------------- drawing
-    def draw(self, scene: PlanScene, *, units: str = "metric", keep_static: bool = False) -> None:
+    def draw(self, scene: PlanScene, *, units: str = "metric", keep_static: bool = False,
+             preview: bool = False) -> None:
         """Redraw the plan from a scene, in the project's units.
 
         Parameters
@@ -528,7 +571,13 @@ class PlanView(w.VBox):
             True when only obstructions (and the figures on the modules) changed since the
             last draw: faces, zones and modules are left as drawn and the view is not refitted,
             which keeps a drag quick and the plan still under the mouse.
+        preview : bool, keyword-only
+            True while a marker is being dragged: the footprints and the module figures follow
+            the scene, the markers (which the mouse holds) and what a drop compares with stay.
         """
+        if preview and self._scene is not None and units == self.units:
+            self._draw_obstructions(scene, markers=False)
+            return
         if keep_static and self._scene is not None and units == self.units:
             self._draw_obstructions(scene)
             return
@@ -621,13 +670,14 @@ class PlanView(w.VBox):
         if refit:
             self.fit()
 
-    def _draw_obstructions(self, scene: PlanScene) -> None:
+    def _draw_obstructions(self, scene: PlanScene, *, markers: bool = True) -> None:
         k = self._k
-        self._scene = scene
         solids, crowns = _footprint_rings(scene)
-        self._obstruction_index = [i for i, *_ in scene.obstructions]
-        self._anchors = np.array([a for *_, a in scene.obstructions], dtype=float).reshape(
-            -1, 2) * k
+        if markers:
+            self._scene = scene
+            self._obstruction_index = [i for i, *_ in scene.obstructions]
+            self._anchors = np.array([a for *_, a in scene.obstructions],
+                                     dtype=float).reshape(-1, 2) * k
         marks = [self.obstruction_marks, self.tree_marks, self.obstruction_markers,
                  self.module_fill_marks, self.module_targets, self.flag_marks,
                  self.selected_mark, self.surveyed_markers, self.station_marks,
@@ -639,12 +689,13 @@ class PlanView(w.VBox):
                 mark.x, mark.y = _padded(rings, k)
                 mark.fill_colors = [self._fills[mark][0]] * max(len(rings), 1)
                 mark.fill_opacities = [self._fills[mark][1]] * max(len(rings), 1)
-            self.obstruction_markers.x = self._anchors[:, 0].tolist()
-            self.obstruction_markers.y = self._anchors[:, 1].tolist()
-            self.obstruction_markers.names = [label for _, label, *_ in scene.obstructions]
-            self._draw_surveyed(scene)
+            if markers:
+                self.obstruction_markers.x = self._anchors[:, 0].tolist()
+                self.obstruction_markers.y = self._anchors[:, 1].tolist()
+                self.obstruction_markers.names = [label for _, label, *_ in scene.obstructions]
+                self._draw_surveyed(scene)
             self._paint_modules(scene)
-        if not self._surveyed_in_view(scene):
+        if markers and not self._surveyed_in_view(scene):
             self.fit()  # a surveyed obstruction outside the view: show the whole site
 
     # ----------------------------------------------------------------- module figures

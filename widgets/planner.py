@@ -213,7 +213,22 @@ class Planner(w.VBox):
         The module shown in the Sky and Hours tabs.
     last_recompute_s : float
         Seconds the last accepted edit took on the Python side (analysis and redraw).
+    preview_interval_s : float
+        Least time between two live previews while an obstruction is dragged [s]
+        (:attr:`PREVIEW_INTERVAL_S` by default).
+
+    Notes
+    -----
+    While an obstruction marker is dragged, the plan shows a live preview: from
+    :attr:`preview_interval_s` into the drag and at most that often, the analysis is brought
+    up to date for the marker's place and the module colours, footprints and totals follow
+    (exact figures, marked as a preview in the status line). The project itself changes only
+    at the drop; a drag that ends where it began puts the figures back.
     """
+
+    #: Least time between two previews during a drag [s]: the kernel stays free most of
+    #: the time, so the drop is handled at once.
+    PREVIEW_INTERVAL_S = 0.25
 
     def __init__(self, project, *, path=None):
         self.project = None
@@ -223,6 +238,9 @@ class Planner(w.VBox):
         self.selected_id: str | None = None
         self.last_recompute_s = 0.0
         self.last_timings: dict = {}
+        self.preview_interval_s = self.PREVIEW_INTERVAL_S
+        self._preview_done = 0.0
+        self._previewing = False
         self.compare_result = None
         self._compare_for = None
         self._base_dir = Path(path).expanduser().resolve().parent if path else None
@@ -231,6 +249,9 @@ class Planner(w.VBox):
 
         self.plan = PlanView()
         self.plan.on_obstruction_moved(self._obstruction_moved)
+        self.plan.on_obstruction_drag_start(self._drag_started)
+        self.plan.on_obstruction_dragging(self._obstruction_dragging)
+        self.plan.on_obstruction_drag_end(self._drag_ended)
         self.plan.on_module_clicked(self._module_clicked)
         self.colour_by = w.Dropdown(
             options=[(menu, key) for key, (menu, _, _) in FIGURES.items()] + [("plain", "")],
@@ -472,18 +493,58 @@ class Planner(w.VBox):
         self.tabs.selected_index = TAB_NAMES.index(name)
 
     # ----------------------------------------------------------------- gestures
-    def _obstruction_moved(self, index: int, x_m: float, y_m: float) -> None:
+    def _moved_project(self, index: int, x_m: float, y_m: float):
+        """Return the project with obstruction ``index`` moved to put its marker at (x, y) [m]."""
         units = self.project.units
         x, y = snap_length(x_m, units), snap_length(y_m, units)
         old = self.project.obstructions[index]
         ax, ay = obstruction_anchor(old)
-        moved = old.translated(x - ax, y - ay)
         obstructions = list(self.project.obstructions)
-        obstructions[index] = moved
-        label = obstruction_label(old, index)
-        text = (f"{label} moved to x = {length_text(x, units)}, "
-                f"y = {length_text(y, units)}")
-        if self.set_project(self.project.with_changes(obstructions=tuple(obstructions))):
+        obstructions[index] = old.translated(x - ax, y - ay)
+        place = f"x = {length_text(x, units)}, y = {length_text(y, units)}"
+        return (self.project.with_changes(obstructions=tuple(obstructions)),
+                obstruction_label(old, index), place)
+
+    def _obstruction_dragging(self, index: int, x_m: float, y_m: float) -> None:
+        if time.perf_counter() - self._preview_done < self.preview_interval_s \
+                or not 0 <= index < len(self.project.obstructions):
+            return
+        try:
+            preview, label, place = self._moved_project(index, x_m, y_m)
+            self.analysis.update(preview)
+        except (InputError, ProjectFileError, OSError, ValueError):
+            self._progress_done()
+            return  # the analysis keeps its last result; the drop will say what is wrong
+        self._progress_done()
+        result = self.analysis.result
+        self._previewing = True
+        try:
+            if "fill" not in self.analysis.recomputed:  # same modules: recolour them
+                self._set_module_figures(redraw=False)
+                self.plan.draw(plan_scene(preview, result.layout, result.areas),
+                               units=preview.units, preview=True)
+            self.totals_label.value = totals_text(result.totals)
+            self._show_selected()
+        finally:
+            self._previewing = False
+        self._status(f"Preview with {label} at {place}: drop it to keep it there.",
+                     busy=True)
+        self._preview_done = time.perf_counter()
+
+    def _drag_started(self) -> None:
+        # the first preview comes one interval into the drag: a quick drag goes straight to
+        # its drop, with the kernel free
+        self._preview_done = time.perf_counter()
+
+    def _drag_ended(self) -> None:
+        if self.analysis is not None and self.analysis.project is not self.project:
+            # a preview was shown and no drop moved the obstruction: show the project again
+            self.set_project(self.project, message="The obstruction stays where it was.")
+
+    def _obstruction_moved(self, index: int, x_m: float, y_m: float) -> None:
+        project, label, place = self._moved_project(index, x_m, y_m)
+        text = f"{label} moved to {place}"
+        if self.set_project(project):
             self.last_move.value = (f"<span style='font-size:12px;color:#5d6b6a'>"
                                     f"{html.escape(text)}</span>")
         else:  # put the marker back where the project still has it
@@ -542,7 +603,7 @@ class Planner(w.VBox):
 
     def _module_bands(self) -> dict:
         """Shade loss range [%] (low, high) per module id, when the loss range is current."""
-        if not self._range_current():
+        if self._previewing or not self._range_current():
             return {}
         low, high = _band_columns(self.loss_range)
         modules = self.loss_range.modules
