@@ -10,9 +10,9 @@ what changed                            what is recomputed
 site, weather file, time step           everything
 roofs, module, rules, fill, removals,   the fill; when the active modules changed, their
 an obstruction standing on the roof     sample points and all their ray tests
-an obstruction (moved, resized, added)  the ray tests of that obstruction only (the others'
-                                        hits are kept per obstruction), then sky view,
-                                        irradiance, power and tables
+an obstruction (moved, resized, added)  the ray tests of that obstruction only, for the sun
+                                        and for the sky view (the others' hits are kept per
+                                        obstruction), then irradiance, power and tables
 energy settings (models, strings)       irradiance or power, and tables
 ======================================  ==================================================
 
@@ -46,6 +46,7 @@ from .metrics import (
 from .obstructions import Plate
 from .placement import Layout, PlacedModule
 from .shading import ModuleShade, ShadeCache, module_samples, module_shade
+from .skyview import SkyViewCache
 from .weather import Weather
 
 __all__ = ["Analysis", "Evaluation", "evaluate"]
@@ -174,6 +175,7 @@ class Analysis:
         self._geometry = None
         self._cache: ShadeCache | None = None
         self._samples = None
+        self._sky_cache: SkyViewCache | None = None
         self._casters = None
         self._shade: ModuleShade | None = None
         self._sky: np.ndarray | None = None
@@ -247,7 +249,7 @@ class Analysis:
         geometry = (_geometry_key(modules), project.module, energy.samples_per_cell)
         if geometry != self._geometry:
             self._say("placing sample points on the cells", 2)
-            self._cache = self._samples = None
+            self._cache = self._samples = self._sky_cache = None
             if modules:
                 samples = module_samples(modules, project.module,
                                          samples_per_cell=energy.samples_per_cell)
@@ -273,8 +275,12 @@ class Analysis:
                 ran.append("rays")
                 clock = self._stage("rays", clock)
                 self._say("measuring how much sky each module sees", 4)
+                if self._sky_cache is None \
+                        or self._sky_cache.n_directions != energy.sky_directions:
+                    self._sky_cache = SkyViewCache(modules, n_directions=energy.sky_directions)
                 self._sky = sky_view_ratio(modules, casters, n_directions=energy.sky_directions,
-                                           include_modules=_needs_module_casters(modules))
+                                           include_modules=_needs_module_casters(modules),
+                                           cache=self._sky_cache)
                 ran.append("sky")
                 clock = self._stage("sky", clock)
             else:

@@ -31,7 +31,7 @@ from .irradiance import IAM_MODELS, MOUNTS, SKY_MODELS
 from .metrics import DEFAULT_TSRF_THRESHOLD_PCT
 from .obstructions import Plate
 from .site import Site
-from .skyview import module_sky_view
+from .skyview import SkyViewCache
 from .sun import sun_vectors
 from .weather import Weather, clear_sky, read_weather_file
 
@@ -263,7 +263,7 @@ def parapet_walls(project) -> tuple:
 
 
 def sky_view_ratio(modules, casters, *, n_directions: int = 1024,
-                   include_modules: bool = True) -> np.ndarray:
+                   include_modules: bool = True, cache: SkyViewCache | None = None) -> np.ndarray:
     """Sky-view ratio of each module: its isotropic sky with the scene over without.
 
     Both factors are integrated on the same fixed set of directions
@@ -280,6 +280,9 @@ def sky_view_ratio(modules, casters, *, n_directions: int = 1024,
     include_modules : bool, keyword-only, default True
         Let the modules hide each other's sky (tilted racks); flush modules lie in their
         face's plane and cannot, so the caller may skip them.
+    cache : layout.skyview.SkyViewCache, keyword-only, optional
+        A cache on the same ``modules`` and ``n_directions``, kept between calls so that only
+        new or moved casters are ray-tested again.
 
     Returns
     -------
@@ -289,9 +292,13 @@ def sky_view_ratio(modules, casters, *, n_directions: int = 1024,
     modules = tuple(modules)
     if not modules:
         return np.zeros(0)
-    scene = module_sky_view(modules, casters, n_directions=n_directions,
-                            include_modules=include_modules)
-    open_sky = module_sky_view(modules, (), include_modules=False, n_directions=n_directions)
+    if cache is None:
+        cache = SkyViewCache(modules, n_directions=n_directions)
+    elif cache.modules != modules or cache.n_directions != n_directions:
+        raise InputError("cache", "was built for other modules or another direction count",
+                         allowed="SkyViewCache(modules, n_directions=n_directions)")
+    scene = cache.factors(casters, include_modules=include_modules)
+    open_sky = cache.open_factors()
     with np.errstate(invalid="ignore", divide="ignore"):
         ratio = np.where(open_sky > 0, scene / open_sky, 0.0)
     return np.clip(ratio, 0.0, 1.0)

@@ -53,6 +53,7 @@ from .obstructions import HorizonProfile, Plate
 from .shading import (
     DEFAULT_MAX_PAIRS,
     RAY_START_M,
+    ShadeCache,
     _check_points,
     _obstruction_hits,
     _sun_order,
@@ -60,6 +61,7 @@ from .shading import (
 
 __all__ = [
     "DEFAULT_SKY_DIRECTIONS",
+    "SkyViewCache",
     "hemisphere_directions",
     "module_sky_view",
     "sky_directions",
@@ -211,21 +213,101 @@ def module_sky_view(modules, obstructions, *, grid: int = 3, include_modules: bo
     numpy.ndarray, shape (M,)
         Sky-view factor of each module [fraction, 0 to 1].
     """
-    modules = tuple(modules)
-    if isinstance(grid, bool) or not isinstance(grid, (int, np.integer)) or not 1 <= grid <= 10:
-        raise InputError("grid", "must be a whole number of points per side", value=grid,
-                         allowed="1 to 10")
-    scene = list(obstructions)
-    if include_modules:
-        scene += [Plate.from_module(m) for m in modules]
-    out = np.empty(len(modules))
-    # modules facing the same way share one direction set
-    keys: dict[tuple[float, float], list[int]] = {}
-    for k, m in enumerate(modules):
-        keys.setdefault((round(m.tilt_deg, 6), round(m.azimuth_deg % 360.0, 6)), []).append(k)
-    for index in keys.values():
-        pts = np.vstack([_module_grid_points(modules[k], grid) for k in index])
-        f = sky_view_factor(pts, modules[index[0]].normal, scene, n_directions=n_directions,
-                            ray_start=ray_start, max_pairs=max_pairs)
-        out[index] = f.reshape(len(index), grid * grid).mean(axis=1)
-    return out
+    cache = SkyViewCache(modules, grid=grid, n_directions=n_directions, ray_start=ray_start,
+                         max_pairs=max_pairs)
+    return cache.factors(obstructions, include_modules=include_modules)
+
+
+class SkyViewCache:
+    """Sky-view factors of a fixed set of placed modules, kept obstruction by obstruction.
+
+    The same computation as :func:`module_sky_view`, but the ray tests of each obstruction
+    against the modules' points and directions are kept (:class:`layout.shading.ShadeCache`),
+    so when one obstruction moves only it is tested again.
+
+    Parameters
+    ----------
+    modules : sequence of layout.placement.PlacedModule
+    grid : int, keyword-only, default 3
+    n_directions, ray_start, max_pairs
+        As in :func:`module_sky_view`.
+
+    Attributes
+    ----------
+    n_directions : int
+        Size of the direction set.
+    tested : int
+        Obstructions the last :meth:`factors` call had to ray-test (over all orientations).
+    """
+
+    def __init__(self, modules, *, grid: int = 3, n_directions: int = DEFAULT_SKY_DIRECTIONS,
+                 ray_start: float = RAY_START_M, max_pairs: int = DEFAULT_MAX_PAIRS):
+        modules = tuple(modules)
+        if isinstance(grid, bool) or not isinstance(grid, (int, np.integer)) \
+                or not 1 <= grid <= 10:
+            raise InputError("grid", "must be a whole number of points per side", value=grid,
+                             allowed="1 to 10")
+        self.modules = modules
+        self.grid = int(grid)
+        self.n_directions = int(n_directions)
+        self.ray_start = check_positive("ray_start", ray_start, unit="m")
+        self.max_pairs = int(max_pairs)
+        # modules facing the same way share one direction set
+        keys: dict[tuple[float, float], list[int]] = {}
+        for k, m in enumerate(modules):
+            keys.setdefault((round(m.tilt_deg, 6), round(m.azimuth_deg % 360.0, 6)),
+                            []).append(k)
+        self._groups = []
+        for index in keys.values():
+            pts = np.vstack([_module_grid_points(modules[k], self.grid) for k in index])
+            dirs = hemisphere_directions(modules[index[0]].normal, n_directions)
+            self._groups.append((np.array(index), _check_points(pts), dirs))
+        self._caches: dict = {}
+        self.tested = 0
+
+    def factors(self, obstructions, *, include_modules: bool = True) -> np.ndarray:
+        """Return the sky-view factor of each module with ``obstructions`` around it.
+
+        Parameters
+        ----------
+        obstructions : sequence of Block, Cylinder, Tree, Plate or HorizonProfile
+            The scene, as in :func:`module_sky_view`.
+        include_modules : bool, keyword-only, default True
+            Add every module as a plate.
+
+        Returns
+        -------
+        numpy.ndarray, shape (M,)
+            Sky-view factor of each module [fraction, 0 to 1].
+        """
+        scene = tuple(obstructions)
+        if include_modules:
+            scene += tuple(Plate.from_module(m) for m in self.modules)
+        horizons = tuple(ob for ob in scene if isinstance(ob, HorizonProfile))
+        solids = tuple(ob for ob in scene if not isinstance(ob, HorizonProfile))
+        out = np.empty(len(self.modules))
+        kept = {}
+        self.tested = 0
+        for g, (index, pts, dirs) in enumerate(self._groups):
+            key = (g, horizons)  # the skyline decides which directions are tested at all
+            cache = self._caches.get(key)
+            if cache is None:
+                open_ = dirs[_above_skyline(dirs, horizons)]
+                cache = ShadeCache(pts, open_, ray_start=self.ray_start,
+                                   max_pairs=self.max_pairs) if len(open_) else None
+            kept[key] = cache
+            if cache is None:
+                f = np.zeros(len(pts))
+            else:
+                self.tested += cache.update(solids)
+                f = (len(cache.sun) - cache.shaded().sum(axis=0)) / len(dirs)
+            out[index] = f.reshape(len(index), self.grid ** 2).mean(axis=1)
+        self._caches = kept
+        return out
+
+    def open_factors(self) -> np.ndarray:
+        """Return the sky-view factor of each module with nothing around it (ground only)."""
+        out = np.empty(len(self.modules))
+        for index, _, dirs in self._groups:
+            out[index] = np.count_nonzero(dirs[:, 2] > 0.0) / len(dirs)
+        return out

@@ -4,11 +4,13 @@ import numpy as np
 import pytest
 import trimesh
 
+from layout.energy import sky_view_ratio
 from layout.errors import InputError
 from layout.obstructions import Block, Cylinder, HorizonProfile, Plate, Tree
 from layout.placement import PlacedModule
 from layout.shading import RAY_START_M
 from layout.skyview import (
+    SkyViewCache,
     hemisphere_directions,
     module_sky_view,
     sky_directions,
@@ -142,3 +144,25 @@ def test_module_sky_view_rows_hide_sky():
     with pytest.raises(InputError) as info:
         module_sky_view(rows, [], grid=0)
     assert info.value.field == "grid"
+
+
+def test_sky_view_cache_re_tests_only_what_moved():
+    # the cache gives module_sky_view's factors for every scene it is shown, and a moved
+    # obstruction is the only one ray-tested again (its new place matches a fresh computation)
+    rows = [_module(f"r{r}", 0.0, 2.0 * r, 3.0, 30.0, width=6.0) for r in range(3)]
+    tree = Tree((1.0, -6.0), 9.0, 2.5, 2.0)
+    block = Block([(-4.0, 7.0), (-2.0, 7.0), (-2.0, 9.0), (-4.0, 9.0)], 6.0)
+    far = HorizonProfile([0.0, 90.0, 180.0, 270.0], [4.0, 8.0, 12.0, 2.0])
+    cache = SkyViewCache(rows)
+    for scene in ([tree, block], [tree.translated(2.0, 1.0), block],
+                  [tree.translated(2.0, 1.0), block, far], [block]):
+        assert np.array_equal(cache.factors(scene), module_sky_view(rows, scene))
+    moved = tree.translated(-1.0, 0.5)
+    assert np.array_equal(cache.factors([moved, block]), module_sky_view(rows, [moved, block]))
+    assert cache.tested == 1  # one orientation, one obstruction moved
+    assert np.array_equal(cache.open_factors(), module_sky_view(rows, [], include_modules=False))
+    ratio = sky_view_ratio(rows, [moved, block], cache=cache)
+    assert np.array_equal(ratio, sky_view_ratio(rows, [moved, block]))
+    with pytest.raises(InputError) as info:
+        sky_view_ratio(rows[:2], [block], cache=cache)
+    assert info.value.field == "cache"
