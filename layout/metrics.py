@@ -267,6 +267,24 @@ def layout_totals(table: pd.DataFrame, *, power_w: float,
     }
 
 
+_CALENDAR: list = []  # one entry: (times, month from 0, hour), the last index asked about
+
+
+def _calendar(times) -> tuple[np.ndarray, np.ndarray]:
+    """Month (0-11) and hour (0-23) of each step on the site's clock, kept for the last index.
+
+    Every edit of a project tables the same weather steps; reading the calendar fields of a
+    time-zone-aware index takes about a millisecond each, so the last answer is kept.
+    """
+    if _CALENDAR and _CALENDAR[0][0] is times:
+        return _CALENDAR[0][1], _CALENDAR[0][2]
+    month = np.asarray(times.month) - 1
+    hour = np.asarray(times.hour)
+    month.flags.writeable = hour.flags.writeable = False
+    _CALENDAR[:] = [(times, month, hour)]
+    return month, hour
+
+
 def _sums_by(index: np.ndarray, size: int, shaded_w, unshaded_w) -> tuple[np.ndarray, ...]:
     """Sum module power over steps that share ``index`` (0 … size-1) [W·steps]."""
     shaded = np.bincount(index, weights=np.nansum(shaded_w, axis=1), minlength=size)
@@ -294,7 +312,7 @@ def monthly_table(power, *, step_minutes: float, columns=None) -> pd.DataFrame:
     shaded_w, unshaded_w, basis = _energy_arrays(power)
     if columns is not None:
         shaded_w, unshaded_w = shaded_w[:, columns], unshaded_w[:, columns]
-    month = np.asarray(power.times.month) - 1
+    month, _ = _calendar(power.times)
     shaded, unshaded = _sums_by(month, 12, shaded_w, unshaded_w)
     scale = check_range("step_minutes", step_minutes, 0, 1440, low_open=True) / 60.0 / 1000.0
     monthly = pd.DataFrame({"energy_kwh": shaded * scale, "energy_unshaded_kwh": unshaded * scale},
@@ -325,7 +343,8 @@ def month_hour_loss(power, *, columns=None) -> pd.DataFrame:
     if columns is not None:
         shaded_w, unshaded_w = shaded_w[:, columns], unshaded_w[:, columns]
     times = power.times
-    cell = (np.asarray(times.month) - 1) * 24 + np.asarray(times.hour)
+    month, hour = _calendar(times)
+    cell = month * 24 + hour
     shaded, unshaded = _sums_by(cell, 12 * 24, shaded_w, unshaded_w)
     loss = 100.0 - _percent(shaded, unshaded)
     table = pd.DataFrame(loss.reshape(12, 24), index=pd.RangeIndex(1, 13),
