@@ -870,7 +870,8 @@ class _HitList:
     def test(self, pt, st):
         if self.facing is not None:  # rays of back-lit points carry no beam: not tested
             keep = self.facing.lit_at(st, pt)
-            pt, st = pt[keep], st[keep]
+            if not keep.all():
+                pt, st = pt[keep], st[keep]
         for i in range(0, len(pt), self.sub):
             p, s = pt[i:i + self.sub], st[i:i + self.sub]
             opaque, crown = self.effect(p, s)
