@@ -590,13 +590,31 @@ def test_progress_is_shown_while_a_full_recompute_runs(planner, demo):
     planner.status.observe(lambda change: said.append(change["new"]), names="value")
     shown = []
     planner.progress.observe(lambda change: shown.append(change["new"]), names="value")
-    planner.orientation.value = "landscape"  # refill: every stage after the weather runs
+    planner.progress_after_s = 0.0  # as if the machine were slow: every stage is shown
+    try:
+        planner.orientation.value = "landscape"  # refill: every stage after the weather runs
+    finally:
+        planner.progress_after_s = planner.PROGRESS_AFTER_S
     stages = [re.sub("<[^>]+>", "", text) for text in said]
     assert any("filling the roof faces" in text for text in stages)
     assert any("tracing the sun past every obstruction" in text for text in stages)
     assert shown == sorted(shown) and len(shown) >= 5
     assert planner.progress.layout.visibility == "hidden"  # and gone when done
     assert stages[-1].startswith("Ready") or "Refilled" in stages[-1]
+
+
+def test_a_quick_recompute_does_not_flicker_through_its_stages(planner, demo):
+    said = []
+    planner.status.observe(lambda change: said.append(change["new"]), names="value")
+    planner.progress_after_s = 60.0  # any recompute is quicker than this
+    try:
+        drop_marker(planner, TREE, -1.0 / FOOT_M, -6.0 / FOOT_M)
+    finally:
+        planner.progress_after_s = planner.PROGRESS_AFTER_S
+    stages = [re.sub("<[^>]+>", "", text) for text in said]
+    assert stages[0] == "Recomputing…" and stages[-1].startswith("Ready")
+    assert not any(text.startswith("Recomputing:") for text in stages)
+    assert planner.progress.layout.visibility == "hidden"
 
 
 def test_a_refused_edit_keeps_the_figures(planner):

@@ -229,6 +229,9 @@ class Planner(w.VBox):
     #: Least time between two previews during a drag [s]: the kernel stays free most of
     #: the time, so the drop is handled at once.
     PREVIEW_INTERVAL_S = 0.25
+    #: A recompute shows its stages once it has run this long [s]; a quicker one (a drag of
+    #: a tree) only says "Recomputing…" and then "Ready", without a flicker of stages.
+    PROGRESS_AFTER_S = 0.15
 
     def __init__(self, project, *, path=None):
         self.project = None
@@ -239,6 +242,8 @@ class Planner(w.VBox):
         self.last_recompute_s = 0.0
         self.last_timings: dict = {}
         self.preview_interval_s = self.PREVIEW_INTERVAL_S
+        self.progress_after_s = self.PROGRESS_AFTER_S
+        self._busy_since = 0.0
         self._preview_done = 0.0
         self._previewing = False
         self.compare_result = None
@@ -356,7 +361,7 @@ class Planner(w.VBox):
             the status line says why.
         """
         self._status("Recomputing…", busy=True)
-        start = time.perf_counter()
+        start = self._busy_since = time.perf_counter()
         try:
             if self.analysis is None:
                 self.analysis = Analysis(project, base_dir=self._base_dir,
@@ -402,6 +407,8 @@ class Planner(w.VBox):
         return self.analysis.result
 
     def _progress(self, stage: str, done: int, total: int) -> None:
+        if time.perf_counter() - self._busy_since < self.progress_after_s:
+            return  # quick so far: no stages to flicker past
         with self.progress.hold_sync():
             self.progress.max = total
             self.progress.value = done + 1
@@ -511,6 +518,7 @@ class Planner(w.VBox):
             return
         try:
             preview, label, place = self._moved_project(index, x_m, y_m)
+            self._busy_since = time.perf_counter()
             self.analysis.update(preview)
         except (InputError, ProjectFileError, OSError, ValueError):
             self._progress_done()
