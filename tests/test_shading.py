@@ -642,7 +642,14 @@ def test_module_shade_cache_and_trees():
 def test_tabulated_kernels_equal_the_direct_ones(seed):
     # the per-edge tabulated block kernel and the tabulated tree kernel (speed paths) give
     # exactly the direct kernels' answers on random rays with the sun up
-    from layout.shading import _block_kernel, _hit_block, _ray_effect, _tree_kernel
+    from layout.shading import (
+        _block_kernel,
+        _hit_block,
+        _hit_plate,
+        _plate_kernel,
+        _ray_effect,
+        _tree_kernel,
+    )
 
     rng = np.random.default_rng(seed)
     scene = random_scene(rng)
@@ -659,6 +666,11 @@ def test_tabulated_kernels_equal_the_direct_ones(seed):
             fast = _tree_kernel(ob, pts, sun, RAY_START_M)
             got, want = fast(p, s), _ray_effect(ob, pts[p], sun[s], RAY_START_M)
             assert np.array_equal(got[0], want[0]) and np.array_equal(got[1], want[1])
+    for plate in random_plates(rng):  # quads either way round, a wall, a concave L
+        fast = _plate_kernel(plate, pts, sun, RAY_START_M)
+        got = fast(p, s)
+        assert np.array_equal(got[0], _hit_plate(plate, pts[p], sun[s], RAY_START_M))
+        assert not got[1].any()
 
 
 def random_plates(rng):
