@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import argparse
 import math
+import os
 import resource
 import statistics
 import time
@@ -35,6 +36,7 @@ from layout.electrical import ElectricalOptions
 from layout.energy import EnergyOptions, load_weather, sun_steps
 from layout.metrics import best_orientation
 from layout.project import load_demo_project
+from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
 
 SITE = Site(40.0, -105.0, "America/Denver", altitude_m=1600.0, name="benchmark site")
 
@@ -148,6 +150,9 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--skip-big", action="store_true", help="skip the 500-module roof")
     args = parser.parse_args()
+    quiet_hugepages()  # as python -m layout and python -m widgets run (layout/runtime.py)
+    print(f"numpy huge-page advice: {'on' if hugepage_advice() else 'off'} "
+          f"({HUGEPAGE_VARIABLE}={os.environ.get(HUGEPAGE_VARIABLE)})")
 
     demo = load_demo_project()
     stage_report(demo)

@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import shutil
 import socket
 import statistics
@@ -238,6 +239,11 @@ def main(argv=None) -> int:
     parser.add_argument("--drags", type=int, default=7, help="timed drags per measurement")
     parser.add_argument("--python-only", action="store_true", help="skip the browser")
     args = parser.parse_args(argv)
+    from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
+
+    quiet_hugepages()  # as python -m layout and python -m widgets run (layout/runtime.py)
+    print(f"numpy huge-page advice: {'on' if hugepage_advice() else 'off'} "
+          f"({HUGEPAGE_VARIABLE}={os.environ.get(HUGEPAGE_VARIABLE)})")
     py = python_side(max(args.drags, 3))
     stages = ", ".join(f"{k} {v * 1000:.0f}" for k, v in py["stages"].items())
     print(f"Python side of a tree drop (median of {max(args.drags, 3)}): "

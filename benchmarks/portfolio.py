@@ -21,6 +21,7 @@ import time
 from pathlib import Path
 
 from layout.portfolio import run_portfolio, write_synthetic_portfolio
+from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
 
 
 def _cpu_seconds() -> float:
@@ -62,6 +63,9 @@ def main() -> None:
     parser.add_argument("--workers", type=int, default=None,
                         help="worker processes (default one per core)")
     args = parser.parse_args()
+    quiet_hugepages()  # as python -m layout batch runs, workers included (layout/runtime.py)
+    print(f"numpy huge-page advice: {'on' if hugepage_advice() else 'off'} "
+          f"({HUGEPAGE_VARIABLE}={os.environ.get(HUGEPAGE_VARIABLE)})")
     cores = os.cpu_count()
     print(f"cores: {cores}; workers: {args.workers or cores}; load average at start: "
           f"{os.getloadavg()[0]:.2f}")

@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import resource
 import statistics
 import subprocess
@@ -36,6 +37,7 @@ from layout.modules import generic_60_cell
 from layout.obstructions import Block, Cylinder, Plate, Tree
 from layout.placement import PlacedModule
 from layout.roof import RoofFace
+from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
 from layout.shading import ShadeCache, _ray_effect, module_shade, shaded
 from layout.site import Site
 from layout.sun import sun_above_horizon, typical_year_index
@@ -337,6 +339,10 @@ if __name__ == "__main__":
     parser.add_argument("--big", action="store_true", help="also run the 500-module cases")
     parser.add_argument("--big-child", choices=["points", "racks"], help=argparse.SUPPRESS)
     args = parser.parse_args()
+    if args.big_child is None:
+        quiet_hugepages()  # as python -m layout and python -m widgets run (layout/runtime.py)
+        print(f"numpy huge-page advice: {'on' if hugepage_advice() else 'off'} "
+              f"({HUGEPAGE_VARIABLE}={os.environ.get(HUGEPAGE_VARIABLE)})")
     if args.big_child == "points":
         main_big()
         sys.exit(0)

@@ -625,4 +625,7 @@ def main(argv: Sequence[str] | None = None) -> int:
 
 
 if __name__ == "__main__":
+    from .runtime import quiet_hugepages
+
+    quiet_hugepages()  # this command and its Dask workers (see layout.runtime)
     sys.exit(main())

@@ -278,3 +278,27 @@ def test_evaluate_matches_a_fresh_evaluation_with_another_shade_model(demo, anal
         analysis.update(demo)
     assert report["settings"]["shade_model"] == "irradiance"
     assert report["totals"]["energy_kwh"] == pytest.approx(expected["energy_kwh"], rel=1e-12)
+
+
+def test_commands_turn_numpy_hugepage_advice_off_unless_the_user_chose():
+    # layout.runtime: python -m layout and python -m widgets set numpy's own switch
+    # (NUMPY_MADVISE_HUGEPAGE, read by numpy at import) for their child processes and turn
+    # the advice off in their own process; a choice already in the environment is kept
+    import numpy as np
+
+    from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
+    from widgets.__main__ import voila_environment
+
+    before = hugepage_advice()
+    try:
+        environ = {}
+        assert quiet_hugepages(environ)
+        assert environ == {HUGEPAGE_VARIABLE: "0"}
+        assert hugepage_advice() is False
+        chosen = {HUGEPAGE_VARIABLE: "1"}
+        assert not quiet_hugepages(chosen) and chosen == {HUGEPAGE_VARIABLE: "1"}
+    finally:
+        np._core.multiarray._set_madvise_hugepage(before)
+    assert voila_environment({})[HUGEPAGE_VARIABLE] == "0"
+    assert voila_environment({HUGEPAGE_VARIABLE: "1", "A": "b"}) == {HUGEPAGE_VARIABLE: "1",
+                                                                   "A": "b"}

@@ -27,6 +27,17 @@ def voila_command(notebook: Path, *, port: int, open_browser: bool = False) -> l
     return command
 
 
+def voila_environment(environ=None) -> dict:
+    """Return the environment the Voila server and its kernels run with.
+
+    The caller's environment, with numpy's huge-page advice off unless the user chose
+    (``NUMPY_MADVISE_HUGEPAGE``; see :mod:`layout.runtime` for why and what it measured).
+    """
+    env = dict(os.environ if environ is None else environ)
+    env.setdefault("NUMPY_MADVISE_HUGEPAGE", "0")
+    return env
+
+
 def main(argv=None) -> int:
     """Parse the command line and replace this process with the Voila server."""
     parser = argparse.ArgumentParser(prog="python -m widgets",
@@ -44,7 +55,7 @@ def main(argv=None) -> int:
         print(f"python -m widgets: the planner notebook is missing ({NOTEBOOK}); run from a "
               "checkout of eaveline.", file=sys.stderr)
         return 2
-    env = dict(os.environ)
+    env = voila_environment()
     if args.project:
         project = Path(args.project).expanduser().resolve()
         if not project.is_file():
