@@ -404,13 +404,15 @@ class Tree:
     def deciduous(cls, center, height: float, crown_radius: float, crown_base: float,
                   trunk_radius: float = 0.2, *, hemisphere: str = "north",
                   leaf_on_months=DECIDUOUS_LEAF_ON_MONTHS, name: str = "",
-                  growth_m_per_yr: float = 0.0, ground_m: float = 0.0) -> Tree:
+                  growth_m_per_yr: float = 0.0, ground_m: float = 0.0,
+                  crown_shape: str = "spheroid") -> Tree:
         """Build a deciduous tree: crown transmittance 0.2 in leaf, 0.6 leafless.
 
         Values from Heisler (1986) for sugar maple; see :func:`deciduous_transmittance` for the
         months and the hemisphere.
         """
         return cls(center, height, crown_radius, crown_base, trunk_radius,
+                   crown_shape=crown_shape,
                    transmittance=deciduous_transmittance(hemisphere=hemisphere,
                                                          leaf_on_months=leaf_on_months),
                    name=name, growth_m_per_yr=growth_m_per_yr, ground_m=ground_m)

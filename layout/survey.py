@@ -95,7 +95,7 @@ import numpy as np
 import pandas as pd
 
 from .errors import InputError, check_fields, check_finite, check_range
-from .obstructions import Block, Cylinder, Tree
+from .obstructions import CROWN_SHAPES, Block, Cylinder, Tree
 from .units import FOOT_M, INCH_M, parse_length
 
 __all__ = [
@@ -490,7 +490,7 @@ _READINGS: dict[str, _ReadingSpec] = {
 }
 
 _TREE_ONLY = ("crown_radius_m", "crown_base_angle_deg", "crown_base_m", "trunk_radius_m",
-              "deciduous", "growth_m_per_yr")
+              "crown_shape", "deciduous", "growth_m_per_yr")
 _BLOCK_ONLY = ("width_m", "depth_m", "axis_deg")
 _CYLINDER_ONLY = ("radius_m",)
 
@@ -666,6 +666,9 @@ class SurveyEntry:
         [degrees], or its height above the tree's foot [m].
     trunk_radius_m : float or None, keyword-only
         Tree only: trunk radius [m]; None uses the Tree default (0.2 m).
+    crown_shape : {"spheroid", "cone"}, keyword-only, default "spheroid"
+        Tree only: a rounded broadleaf crown, or a conifer's cone from the crown base to the
+        top (:class:`~layout.obstructions.Tree`).
     deciduous : bool, keyword-only
         Tree only: build with :meth:`Tree.deciduous` (leaf-on and leafless transmittance).
     growth_m_per_yr : str, float or None, keyword-only
@@ -712,6 +715,7 @@ class SurveyEntry:
     crown_base_angle_deg: Reading | None = None
     crown_base_m: Reading | None = None
     trunk_radius_m: float | None = None
+    crown_shape: str = "spheroid"
     deciduous: bool = False
     growth_m_per_yr: str | float | None = None
     width_m: Reading | None = None
@@ -742,6 +746,9 @@ class SurveyEntry:
         if self.axis_deg is not None:
             set_(self, "axis_deg", check_range("axis_deg", self.axis_deg, 0.0, 360.0,
                                                unit="degrees", high_open=True))
+        if self.crown_shape not in CROWN_SHAPES:
+            raise InputError("crown_shape", "is not a known crown shape",
+                             value=self.crown_shape, allowed=", ".join(CROWN_SHAPES))
         if not isinstance(self.deciduous, (bool, np.bool_)):
             raise InputError("deciduous", "must be true or false", value=self.deciduous)
         set_(self, "deciduous", bool(self.deciduous))
@@ -768,7 +775,7 @@ class SurveyEntry:
                 raise InputError(name, f"is needed for a {self.kind}")
         unused = {Tree: _BLOCK_ONLY + _CYLINDER_ONLY, Block: _TREE_ONLY + _CYLINDER_ONLY,
                   Cylinder: _TREE_ONLY + _BLOCK_ONLY}[cls]
-        defaults = {"deciduous": False}
+        defaults = {"deciduous": False, "crown_shape": "spheroid"}
         for name in unused:
             value = getattr(self, name)
             if value != defaults.get(name):
@@ -866,8 +873,10 @@ class SurveyEntry:
             ground = at("base_z")  # the foot, on a bank or slope when a base angle was read
             if self.deciduous:
                 return Tree.deciduous(*args, hemisphere=hemisphere, name=self.name,
-                                      growth_m_per_yr=growth, ground_m=ground)
-            return Tree(*args, name=self.name, growth_m_per_yr=growth, ground_m=ground)
+                                      growth_m_per_yr=growth, ground_m=ground,
+                                      crown_shape=self.crown_shape)
+            return Tree(*args, name=self.name, growth_m_per_yr=growth, ground_m=ground,
+                        crown_shape=self.crown_shape)
         if self.kind in CYLINDER_KINDS:
             return Cylinder((x, y), at("radius_m"), at("top_z"), at("base_z"), kind=self.kind,
                             name=self.name)
@@ -994,10 +1003,16 @@ class SurveyEntry:
 
     # ----------------------------------------------------------------- plain data
     def to_dict(self) -> dict:
-        """Plain-data form: readings as ``{"value", "tolerance"}`` objects, absent ones None."""
+        """Plain-data form: readings as ``{"value", "tolerance"}`` objects, absent ones None.
+
+        ``crown_shape`` is written only for a cone, so files of rounded crowns stay as they
+        were.
+        """
         out = {}
         for f in fields(self):
             value = getattr(self, f.name)
+            if f.name == "crown_shape" and value == "spheroid":
+                continue
             out[f.name] = value.to_dict() if isinstance(value, Reading) else value
         return out
 
@@ -1316,6 +1331,8 @@ def _column_docs() -> dict[str, str]:
         "eye_height_m": f"eye height above the ground [m]; blank = {DEFAULT_EYE_HEIGHT_M}",
         "declination_deg": "magnetic declination, east positive [degrees]; blank = 0 (true)",
         "trunk_radius_m": "tree trunk radius [m]; blank = 0.2",
+        "crown_shape": "tree crown: spheroid (rounded, broadleaf) or cone (conifer); "
+                       "blank = spheroid",
         "axis_deg": "compass bearing of a block's width side [degrees]; blank = across the "
                     "line of sight",
         "deciduous": "tree loses its leaves: true/false; blank = false",
@@ -1339,8 +1356,8 @@ SURVEY_COLUMNS: dict[str, str] = {
         "distance_tol_m", "top_angle_deg", "top_angle_tol_deg", "base_angle_deg",
         "base_angle_tol_deg", "crown_radius_m", "crown_radius_tol_m", "crown_base_angle_deg",
         "crown_base_angle_tol_deg", "crown_base_m", "crown_base_tol_m", "trunk_radius_m",
-        "deciduous", "growth_m_per_yr", "width_m", "width_tol_m", "depth_m", "depth_tol_m",
-        "axis_deg", "radius_m", "radius_tol_m",
+        "crown_shape", "deciduous", "growth_m_per_yr", "width_m", "width_tol_m", "depth_m",
+        "depth_tol_m", "axis_deg", "radius_m", "radius_tol_m",
     )
 }
 
@@ -1480,7 +1497,7 @@ def _parse_row(cells: Mapping[str, Any]) -> dict:
         if column == "length_unit" or column in COMPUTED_COLUMNS or _blank(cell):
             continue
         try:
-            if column in ("kind", "method"):
+            if column in ("kind", "method", "crown_shape"):
                 values[column] = str(cell).strip().lower()
             elif column == "name":
                 values[column] = str(cell)

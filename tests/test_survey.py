@@ -547,7 +547,8 @@ def test_survey_table_columns_and_values():
     table = survey_table(es)
     assert list(table.columns) == [*SURVEY_COLUMNS, *COMPUTED_COLUMNS]
     assert all(c.endswith(("_m", "_deg", "_per_yr")) for c in table.columns
-               if c not in ("name", "kind", "method", "length_unit", "deciduous"))
+               if c not in ("name", "kind", "method", "length_unit", "crown_shape",
+                            "deciduous"))
     assert table.loc[0, "height_m"] == pytest.approx(height_tangent(15.0, 40.0))
     assert table.loc[1, "height_m"] == pytest.approx(height_tangent(8.0, 30.0,
                                                                     base_angle_deg=20.0))
@@ -601,3 +602,41 @@ def test_a_tree_on_a_bank_keeps_its_foot():
     assert tree.height == pytest.approx(20.0 * (math.tan(math.radians(30.0))
                                                 - math.tan(math.radians(5.0))), abs=1e-9)
     assert tree.bounds[5] == pytest.approx(20.0 * math.tan(math.radians(30.0)) + 1.6, abs=1e-9)
+
+
+# ------------------------------------------------------------------ conifers
+def test_conifer_entry_builds_a_cone_crown_from_its_readings():
+    # a conifer: the same tangent height as a broadleaf (REFERENCES.md "Survey": height from
+    # distance and top angle), its crown a cone from the crown base to that top
+    spruce = tree_entry(name="spruce", crown_shape="cone", crown_radius_m=2.0)
+    tree = spruce.obstruction()
+    assert tree.crown_shape == "cone"
+    assert tree.height == pytest.approx(height_tangent(15.0, 40.0))
+    assert tree.crown_base == pytest.approx(2.0) and tree.crown_radius == pytest.approx(2.0)
+    assert all(t.crown_shape == "cone" for t in spruce.sample(5, seed=3))
+    assert spruce.to_dict()["crown_shape"] == "cone"
+    assert SurveyEntry.from_dict(spruce.to_dict()) == spruce
+    assert "crown_shape" not in tree_entry().to_dict()  # rounded crowns: files as before
+    deciduous = tree_entry(crown_shape="cone", deciduous=True).obstruction()
+    assert deciduous.crown_shape == "cone" and deciduous.transmittance is not None
+    # grown over the years, it stays a cone
+    assert grown_tree(tree, 10, growth="slow").crown_shape == "cone"
+    with pytest.raises(InputError) as info:
+        tree_entry(crown_shape="pyramid")
+    assert info.value.field == "crown_shape" and "cone" in info.value.allowed
+    with pytest.raises(InputError) as info:
+        SurveyEntry("chimney", 90.0, 8.0, 30.0, width_m=0.8, depth_m=0.6, crown_shape="cone")
+    assert info.value.field == "crown_shape"
+
+
+def test_conifer_in_a_survey_csv():
+    text = ("kind,bearing_deg,distance_m,top_angle_deg,crown_radius_m,crown_base_m,crown_shape\n"
+            "tree,200,15,40,2.0,1.5,Cone\n"
+            "tree,210,15,40,2.0,1.5,\n"
+            "tree,220,15,40,2.0,1.5,pyramid\n")
+    entries_, problems = read_survey_csv(io.StringIO(text))
+    assert [e.crown_shape for e in entries_] == ["cone", "spheroid"]
+    assert [(p.row, p.column) for p in problems] == [(4, "crown_shape")]
+    # the table written back reads back the same
+    again, problems = read_survey_csv(io.StringIO(survey_table(entries_).to_csv(index=False)))
+    assert problems == [] and again == entries_

@@ -878,6 +878,23 @@ def test_a_surveyed_tree_stands_on_the_plan_and_in_the_figures(planner, demo, re
     assert planner.project.scene_obstructions[-1] == worked_entry().obstruction()
 
 
+def test_a_surveyed_conifer_is_entered_with_a_cone_crown(planner, demo, reference):
+    planner.show_tab("Survey")
+    type_readings(planner.survey, WORKED_EXAMPLE)
+    planner.survey.rows["crown_shape"].input.value = "cone"  # the Crown choice in the form
+    entry = planner.project.survey[0]
+    assert entry.crown_shape == "cone"
+    assert planner.project.scene_obstructions[-1] == replace(worked_entry(),
+                                                             crown_shape="cone").obstruction()
+    totals = core_result(reference, planner.project).totals
+    assert shown_loss(planner) == pytest.approx(totals["shade_loss_pct"], abs=0.005)
+    # opening the entry again shows its crown
+    planner.survey.new_entry()
+    assert planner.survey.rows["crown_shape"].input.value == "spheroid"
+    planner.survey.select(0)
+    assert planner.survey.rows["crown_shape"].input.value == "cone"
+
+
 def test_a_bad_reading_stays_beside_its_field_and_the_survey_is_kept(planner):
     panel = planner.survey
     type_readings(panel, WORKED_EXAMPLE)

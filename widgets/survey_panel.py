@@ -78,17 +78,21 @@ _PLAIN_FIELDS = {
     "eye_height_m": ("Eye height", "length"),
     "declination_deg": ("Declination, east +", "angle"),
     "trunk_radius_m": ("Trunk radius", "length"),
+    "crown_shape": ("Crown", "crown"),
     "growth_m_per_yr": ("Growth a year", "growth"),
     "deciduous": ("Loses its leaves", "bool"),
     "axis_deg": ("Width side bearing", "angle"),
 }
+
+#: Field types shown as a choice (dropdown or checkbox) rather than typed text.
+_CHOICE_TYPES = ("kind", "method", "crown", "bool")
 
 _COMMON = ("name", "kind", "method", "station_x_m", "station_y_m", "station_z_m",
            "eye_height_m", "declination_deg", "bearing_deg", "distance_m", "top_angle_deg",
            "base_angle_deg")
 _BY_CLASS = {
     "tree": ("crown_radius_m", "crown_base_m", "crown_base_angle_deg", "trunk_radius_m",
-             "growth_m_per_yr", "deciduous"),
+             "crown_shape", "growth_m_per_yr", "deciduous"),
     "block": ("width_m", "depth_m", "axis_deg"),
     "cylinder": ("radius_m",),
 }
@@ -238,6 +242,9 @@ class SurveyPanel(w.VBox):
                 widget = w.Dropdown(options=[("tape (horizontal)", "tangent"),
                                              ("laser (slope to top)", "laser")],
                                     value="tangent")
+            elif kind == "crown":
+                widget = w.Dropdown(options=[("rounded (broadleaf)", "spheroid"),
+                                             ("cone (conifer)", "cone")], value="spheroid")
             elif kind == "bool":
                 widget = w.Checkbox(value=False, indent=False)
             else:
@@ -532,7 +539,7 @@ class SurveyPanel(w.VBox):
     def _put(self, key: str, value) -> None:
         """Show a value in its box and remember the exact value behind the text."""
         widget = self._widget(key)
-        if self._type(key) in ("kind", "method", "bool"):
+        if self._type(key) in _CHOICE_TYPES:
             widget.value = value
             return
         text = self._format(key, value)
@@ -542,7 +549,7 @@ class SurveyPanel(w.VBox):
     def _parse(self, key: str):
         widget = self._widget(key)
         kind = self._type(key)
-        if kind in ("kind", "method", "bool"):
+        if kind in _CHOICE_TYPES:
             return widget.value
         text = widget.value
         stored = self._stored.get(key)
@@ -675,6 +682,7 @@ class SurveyPanel(w.VBox):
                 self.rows["kind"].input.value = "tree"
                 self.rows["method"].input.value = method
                 self.rows["deciduous"].input.value = False
+                self.rows["crown_shape"].input.value = "spheroid"
                 self.rows["name"].input.value = ""
                 for key in ("station_x_m", "station_y_m", "station_z_m"):
                     self._put(key, getattr(template, key) if template is not None else 0.0)
@@ -695,6 +703,7 @@ class SurveyPanel(w.VBox):
                 self.rows["kind"].input.value = entry.kind
                 self.rows["method"].input.value = entry.method
                 self.rows["deciduous"].input.value = entry.deciduous
+                self.rows["crown_shape"].input.value = entry.crown_shape
                 for key in ("station_x_m", "station_y_m", "station_z_m", "eye_height_m",
                             "declination_deg", "trunk_radius_m", "growth_m_per_yr",
                             "axis_deg"):
@@ -716,7 +725,7 @@ class SurveyPanel(w.VBox):
     def _adopt(self, entry: SurveyEntry) -> None:
         """Keep the text as typed, remembering the exact values behind it."""
         for key in self._visible(entry.kind):
-            if self._type(key) in ("kind", "method", "bool", "text"):
+            if self._type(key) in (*_CHOICE_TYPES, "text"):
                 continue
             widget = self._widget(key)
             if key in READING_FIELDS:
