@@ -363,6 +363,10 @@ class Tree:
         How fast the tree grows taller [m/yr], 0 to 3; used to project its shade over the
         system's life (:func:`layout.survey.grown_tree`). State forestry extension tables
         class 0.30 m/yr or less as slow and 0.61 m/yr or more as fast (common practice).
+    mature_height_m : float or None, default None
+        Height the tree does not grow past [m], above 0 and up to 200 (what the surveyor
+        knows of the species on that site); None: no cap. A tree already taller keeps its
+        height.
     """
 
     center: tuple[float, float]
@@ -376,6 +380,7 @@ class Tree:
     name: str = ""
     growth_m_per_yr: float = 0.0
     ground_m: float = 0.0
+    mature_height_m: float | None = None
 
     def __post_init__(self):
         set_ = object.__setattr__
@@ -399,13 +404,16 @@ class Tree:
         set_(self, "growth_m_per_yr", check_range("growth_m_per_yr", self.growth_m_per_yr,
                                                   0, 3, unit="m/yr"))
         set_(self, "ground_m", check_range("ground_m", self.ground_m, -100, 1000, unit="m"))
+        if self.mature_height_m is not None:
+            set_(self, "mature_height_m", check_range("mature_height_m", self.mature_height_m,
+                                                      0, 200, unit="m", low_open=True))
 
     @classmethod
     def deciduous(cls, center, height: float, crown_radius: float, crown_base: float,
                   trunk_radius: float = 0.2, *, hemisphere: str = "north",
                   leaf_on_months=DECIDUOUS_LEAF_ON_MONTHS, name: str = "",
                   growth_m_per_yr: float = 0.0, ground_m: float = 0.0,
-                  crown_shape: str = "spheroid") -> Tree:
+                  crown_shape: str = "spheroid", mature_height_m: float | None = None) -> Tree:
         """Build a deciduous tree: crown transmittance 0.2 in leaf, 0.6 leafless.
 
         Values from Heisler (1986) for sugar maple; see :func:`deciduous_transmittance` for the
@@ -415,7 +423,8 @@ class Tree:
                    crown_shape=crown_shape,
                    transmittance=deciduous_transmittance(hemisphere=hemisphere,
                                                          leaf_on_months=leaf_on_months),
-                   name=name, growth_m_per_yr=growth_m_per_yr, ground_m=ground_m)
+                   name=name, growth_m_per_yr=growth_m_per_yr, ground_m=ground_m,
+                   mature_height_m=mature_height_m)
 
     @property
     def monthly_transmittance(self) -> np.ndarray:
@@ -450,25 +459,30 @@ class Tree:
         return replace(self, center=(self.center[0] + dx, self.center[1] + dy))
 
     def to_dict(self) -> dict:
-        """Plain-data form used by the project file."""
-        return {"type": "tree", "center": list(self.center), "height": self.height,
-                "crown_radius": self.crown_radius, "crown_base": self.crown_base,
-                "trunk_radius": self.trunk_radius, "crown_shape": self.crown_shape,
-                "transmittance": None if self.transmittance is None else list(self.transmittance),
-                "name": self.name, "growth_m_per_yr": self.growth_m_per_yr,
-                "ground_m": self.ground_m}
+        """Plain-data form used by the project file (``mature_height_m`` only when set)."""
+        out = {"type": "tree", "center": list(self.center), "height": self.height,
+               "crown_radius": self.crown_radius, "crown_base": self.crown_base,
+               "trunk_radius": self.trunk_radius, "crown_shape": self.crown_shape,
+               "transmittance": None if self.transmittance is None else list(self.transmittance),
+               "name": self.name, "growth_m_per_yr": self.growth_m_per_yr,
+               "ground_m": self.ground_m}
+        if self.mature_height_m is not None:
+            out["mature_height_m"] = self.mature_height_m
+        return out
 
     @classmethod
     def from_dict(cls, data: dict) -> Tree:
         """Inverse of :meth:`to_dict`; raises :class:`InputError` naming the bad field."""
         known = {"center", "height", "crown_radius", "crown_base", "trunk_radius",
-                 "crown_shape", "transmittance", "name", "growth_m_per_yr", "ground_m"}
+                 "crown_shape", "transmittance", "name", "growth_m_per_yr", "ground_m",
+                 "mature_height_m"}
         _read("tree", data, known, ("center", "height", "crown_radius", "crown_base"), "tree")
         return cls(data["center"], data["height"], data["crown_radius"], data["crown_base"],
                    data.get("trunk_radius", 0.2), crown_shape=data.get("crown_shape", "spheroid"),
                    transmittance=data.get("transmittance"), name=data.get("name", ""),
                    growth_m_per_yr=data.get("growth_m_per_yr", 0.0),
-                   ground_m=data.get("ground_m", 0.0))
+                   ground_m=data.get("ground_m", 0.0),
+                   mature_height_m=data.get("mature_height_m"))
 
 
 # --------------------------------------------------------------------------- thin plates

@@ -490,7 +490,7 @@ _READINGS: dict[str, _ReadingSpec] = {
 }
 
 _TREE_ONLY = ("crown_radius_m", "crown_base_angle_deg", "crown_base_m", "trunk_radius_m",
-              "crown_shape", "deciduous", "growth_m_per_yr")
+              "crown_shape", "deciduous", "growth_m_per_yr", "mature_height_m")
 _BLOCK_ONLY = ("width_m", "depth_m", "axis_deg")
 _CYLINDER_ONLY = ("radius_m",)
 
@@ -669,6 +669,8 @@ class SurveyEntry:
     crown_shape : {"spheroid", "cone"}, keyword-only, default "spheroid"
         Tree only: a rounded broadleaf crown, or a conifer's cone from the crown base to the
         top (:class:`~layout.obstructions.Tree`).
+    mature_height_m : float or None, keyword-only
+        Tree only: height it does not grow past [m] (``Tree.mature_height_m``); None: no cap.
     deciduous : bool, keyword-only
         Tree only: build with :meth:`Tree.deciduous` (leaf-on and leafless transmittance).
     growth_m_per_yr : str, float or None, keyword-only
@@ -718,6 +720,7 @@ class SurveyEntry:
     crown_shape: str = "spheroid"
     deciduous: bool = False
     growth_m_per_yr: str | float | None = None
+    mature_height_m: float | None = None
     width_m: Reading | None = None
     depth_m: Reading | None = None
     axis_deg: float | None = None
@@ -753,6 +756,9 @@ class SurveyEntry:
             raise InputError("deciduous", "must be true or false", value=self.deciduous)
         set_(self, "deciduous", bool(self.deciduous))
         set_(self, "growth_m_per_yr", _check_growth(self.growth_m_per_yr))
+        if self.mature_height_m is not None:
+            set_(self, "mature_height_m", check_range("mature_height_m", self.mature_height_m,
+                                                      0.0, 200.0, unit="m", low_open=True))
         if not isinstance(self.name, str):
             raise InputError("name", "must be text", value=self.name)
         self._check_kind_fields()
@@ -874,9 +880,10 @@ class SurveyEntry:
             if self.deciduous:
                 return Tree.deciduous(*args, hemisphere=hemisphere, name=self.name,
                                       growth_m_per_yr=growth, ground_m=ground,
-                                      crown_shape=self.crown_shape)
+                                      crown_shape=self.crown_shape,
+                                      mature_height_m=self.mature_height_m)
             return Tree(*args, name=self.name, growth_m_per_yr=growth, ground_m=ground,
-                        crown_shape=self.crown_shape)
+                        crown_shape=self.crown_shape, mature_height_m=self.mature_height_m)
         if self.kind in CYLINDER_KINDS:
             return Cylinder((x, y), at("radius_m"), at("top_z"), at("base_z"), kind=self.kind,
                             name=self.name)
@@ -1005,13 +1012,13 @@ class SurveyEntry:
     def to_dict(self) -> dict:
         """Plain-data form: readings as ``{"value", "tolerance"}`` objects, absent ones None.
 
-        ``crown_shape`` is written only for a cone, so files of rounded crowns stay as they
-        were.
+        ``crown_shape`` is written only for a cone and ``mature_height_m`` only when set, so
+        files without them stay as they were.
         """
         out = {}
         for f in fields(self):
             value = getattr(self, f.name)
-            if f.name == "crown_shape" and value == "spheroid":
+            if (f.name, value) in (("crown_shape", "spheroid"), ("mature_height_m", None)):
                 continue
             out[f.name] = value.to_dict() if isinstance(value, Reading) else value
         return out
@@ -1238,6 +1245,7 @@ def grown_tree(tree: Tree, years, *, growth=None, widen_crown: bool = True,
         Scale the crown radius with the height.
     max_height_m : float or None, keyword-only
         Mature height the tree does not outgrow [m]; a tree already taller keeps its height.
+        None takes the tree's own ``mature_height_m`` (no cap when that is None too).
 
     Returns
     -------
@@ -1248,6 +1256,8 @@ def grown_tree(tree: Tree, years, *, growth=None, widen_crown: bool = True,
     years = check_range("years", years, 0.0, 100.0, unit="years")
     rate = tree.growth_m_per_yr if growth is None else growth_rate(growth)
     height = tree.height + rate * years
+    if max_height_m is None:
+        max_height_m = tree.mature_height_m
     if max_height_m is not None:
         cap = check_range("max_height_m", max_height_m, 0.0, 200.0, unit="m", low_open=True)
         height = min(height, max(cap, tree.height))
@@ -1337,6 +1347,7 @@ def _column_docs() -> dict[str, str]:
                     "line of sight",
         "deciduous": "tree loses its leaves: true/false; blank = false",
         "growth_m_per_yr": "tree growth: slow, medium, fast, or a rate [m/yr]; blank = none",
+        "mature_height_m": "height the tree does not grow past [m]; blank = no cap",
     }
     for name, spec in _READINGS.items():
         docs[name] = f"reading [{spec.unit}]"
@@ -1356,8 +1367,8 @@ SURVEY_COLUMNS: dict[str, str] = {
         "distance_tol_m", "top_angle_deg", "top_angle_tol_deg", "base_angle_deg",
         "base_angle_tol_deg", "crown_radius_m", "crown_radius_tol_m", "crown_base_angle_deg",
         "crown_base_angle_tol_deg", "crown_base_m", "crown_base_tol_m", "trunk_radius_m",
-        "crown_shape", "deciduous", "growth_m_per_yr", "width_m", "width_tol_m", "depth_m",
-        "depth_tol_m", "axis_deg", "radius_m", "radius_tol_m",
+        "crown_shape", "deciduous", "growth_m_per_yr", "mature_height_m", "width_m",
+        "width_tol_m", "depth_m", "depth_tol_m", "axis_deg", "radius_m", "radius_tol_m",
     )
 }
 

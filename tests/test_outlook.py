@@ -271,6 +271,24 @@ def test_lifetime_energy_lost_is_the_sum_of_every_year(outlook):
         outlook.yearly.loc[0, "energy_unshaded_kwh"] - yearly.loc[0, "energy_lost_kwh"])
 
 
+def test_a_mature_height_caps_the_growth(project, analysis):
+    # the oak grows 0.4572 m/yr (medium class, as above) until it reaches the mature height
+    # the surveyor gave; past it the years shade alike
+    height = project.survey[0].geometry()["height_m"]
+    capped = small_project(survey=(oak(mature_height_m=height + 2.0),))
+    result = growth_outlook(capped, years=(1, 4, 10, 25), life_years=25, analysis=analysis)
+    row = result.tree_heights_m.loc["oak"]
+    rate = GROWTH_CLASS_RATES_M_PER_YR["medium"]
+    assert row[1] == pytest.approx(height + rate, rel=1e-12)
+    assert row[4] == pytest.approx(height + 4 * rate, rel=1e-12)  # 1.83 m: still below
+    assert row[10] == pytest.approx(height + 2.0, rel=1e-12)
+    assert row[25] == pytest.approx(height + 2.0, rel=1e-12)
+    energy = result.yearly["energy_unshaded_kwh"] - result.yearly["energy_lost_kwh"]
+    shade = result.yearly["energy_lost_kwh"] / result.yearly["degradation_factor"]
+    assert shade[10] == pytest.approx(shade[25], rel=1e-12)
+    assert (energy > 0).all()
+
+
 def test_a_tree_without_growth_gives_identical_years(analysis):
     still = small_project(survey=(oak(growth_m_per_yr=None),))
     result = growth_outlook(still, years=(1, 10), life_years=10, analysis=analysis)

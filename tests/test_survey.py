@@ -1,6 +1,7 @@
 import io
 import json
 import math
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -640,3 +641,32 @@ def test_conifer_in_a_survey_csv():
     # the table written back reads back the same
     again, problems = read_survey_csv(io.StringIO(survey_table(entries_).to_csv(index=False)))
     assert problems == [] and again == entries_
+
+
+def test_mature_height_caps_growth_and_travels_with_the_tree():
+    # the rule: height = min(surveyed + rate * years, mature height); a tree already taller
+    # keeps its height; the cap is kept in the entry, the tree, the file and the CSV
+    entry = tree_entry(growth_m_per_yr=0.5, mature_height_m=14.0)
+    tree = entry.obstruction()
+    h0 = height_tangent(15.0, 40.0)  # 14.19 m with the default eye height
+    assert tree.mature_height_m == 14.0 and tree.height == pytest.approx(h0)
+    assert grown_tree(tree, 10).height == pytest.approx(h0)  # already past the cap
+    young = replace(tree, height=10.0, crown_base=2.0)
+    assert grown_tree(young, 4).height == pytest.approx(12.0)
+    assert grown_tree(young, 20).height == pytest.approx(14.0)
+    assert grown_tree(young, 20, max_height_m=30.0).height == pytest.approx(20.0)
+    assert Tree.from_dict(young.to_dict()) == young
+    assert "mature_height_m" not in replace(young, mature_height_m=None).to_dict()
+    assert SurveyEntry.from_dict(entry.to_dict()) == entry
+    assert "mature_height_m" not in tree_entry().to_dict()
+    with pytest.raises(InputError) as info:
+        tree_entry(mature_height_m=-3.0)
+    assert info.value.field == "mature_height_m"
+    with pytest.raises(InputError) as info:
+        replace(young, mature_height_m=500.0)
+    assert info.value.field == "mature_height_m"
+    text = ("kind,bearing_deg,distance_m,top_angle_deg,crown_radius_m,crown_base_m,"
+            "mature_height_m,length_unit\n"
+            "tree,200,50,17,10,6,60,ft\n")
+    entries_, problems = read_survey_csv(io.StringIO(text))
+    assert problems == [] and entries_[0].mature_height_m == pytest.approx(60 * FOOT_M)

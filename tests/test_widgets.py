@@ -878,7 +878,7 @@ def test_a_surveyed_tree_stands_on_the_plan_and_in_the_figures(planner, demo, re
     assert planner.project.scene_obstructions[-1] == worked_entry().obstruction()
 
 
-def test_a_surveyed_conifer_is_entered_with_a_cone_crown(planner, demo, reference):
+def test_a_surveyed_conifer_with_a_cone_crown_and_a_mature_height(planner, demo, reference):
     planner.show_tab("Survey")
     type_readings(planner.survey, WORKED_EXAMPLE)
     planner.survey.rows["crown_shape"].input.value = "cone"  # the Crown choice in the form
@@ -888,11 +888,17 @@ def test_a_surveyed_conifer_is_entered_with_a_cone_crown(planner, demo, referenc
                                                              crown_shape="cone").obstruction()
     totals = core_result(reference, planner.project).totals
     assert shown_loss(planner) == pytest.approx(totals["shade_loss_pct"], abs=0.005)
-    # opening the entry again shows its crown
+    # a mature height typed in feet caps its growth
+    planner.survey.rows["mature_height_m"].input.value = "40 ft"
+    assert planner.project.survey[0].mature_height_m == pytest.approx(40 * FOOT_M)
+    assert planner.project.scene_obstructions[-1].mature_height_m == pytest.approx(40 * FOOT_M)
+    # opening the entry again shows its crown and cap
     planner.survey.new_entry()
     assert planner.survey.rows["crown_shape"].input.value == "spheroid"
+    assert planner.survey.rows["mature_height_m"].input.value == ""
     planner.survey.select(0)
     assert planner.survey.rows["crown_shape"].input.value == "cone"
+    assert planner.survey.rows["mature_height_m"].input.value == "40 ft 0 in"
 
 
 def test_a_bad_reading_stays_beside_its_field_and_the_survey_is_kept(planner):

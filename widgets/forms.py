@@ -394,12 +394,13 @@ class ObstructionForm(w.VBox):
         if isinstance(old, Cylinder):
             return Cylinder((x, y), values["radius"], values["top"], values["base"],
                             kind=values["kind"], name=values["name"])
-        # the form does not show the foot's ground height or the growth rate: keep them
+        # the form does not show the foot's ground height or the growth: keep them
         return Tree((x, y), values["height"], values["crown_radius"], values["crown_base"],
                     values["trunk_radius"], crown_shape=values["crown_shape"],
                     transmittance=values["transmittance"], name=values["name"],
                     growth_m_per_yr=getattr(old, "growth_m_per_yr", 0.0),
-                    ground_m=getattr(old, "ground_m", 0.0))
+                    ground_m=getattr(old, "ground_m", 0.0),
+                    mature_height_m=getattr(old, "mature_height_m", None))
 
     def _show_error(self, err: InputError) -> None:
         key = _root(err.field)

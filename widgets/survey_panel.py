@@ -80,6 +80,7 @@ _PLAIN_FIELDS = {
     "trunk_radius_m": ("Trunk radius", "length"),
     "crown_shape": ("Crown", "crown"),
     "growth_m_per_yr": ("Growth a year", "growth"),
+    "mature_height_m": ("Mature height", "length"),
     "deciduous": ("Loses its leaves", "bool"),
     "axis_deg": ("Width side bearing", "angle"),
 }
@@ -92,19 +93,20 @@ _COMMON = ("name", "kind", "method", "station_x_m", "station_y_m", "station_z_m"
            "base_angle_deg")
 _BY_CLASS = {
     "tree": ("crown_radius_m", "crown_base_m", "crown_base_angle_deg", "trunk_radius_m",
-             "crown_shape", "growth_m_per_yr", "deciduous"),
+             "crown_shape", "growth_m_per_yr", "mature_height_m", "deciduous"),
     "block": ("width_m", "depth_m", "axis_deg"),
     "cylinder": ("radius_m",),
 }
 _REQUIRED = {"tree": ("crown_radius_m",), "block": ("width_m", "depth_m"),
              "cylinder": ("radius_m",)}
 _OPTIONAL = ("base_angle_deg", "crown_base_m", "crown_base_angle_deg", "trunk_radius_m",
-             "growth_m_per_yr", "axis_deg")
+             "growth_m_per_yr", "mature_height_m", "axis_deg")
 _HINTS = {
     "base_angle_deg": "blank: foot on the station's ground",
     "crown_base_m": "give this or the angle below",
     "trunk_radius_m": "blank: 0.2 m",
     "growth_m_per_yr": "slow, medium, fast or a height a year",
+    "mature_height_m": "blank: no cap on the growth",
     "axis_deg": "blank: face on to you",
     "declination_deg": "0 when bearings are true",
 }
@@ -690,7 +692,7 @@ class SurveyPanel(w.VBox):
                           else DEFAULT_EYE_HEIGHT_M)
                 self._put("declination_deg", template.declination_deg if template is not None
                           else 0.0)
-                for key in ("trunk_radius_m", "growth_m_per_yr", "axis_deg"):
+                for key in ("trunk_radius_m", "growth_m_per_yr", "mature_height_m", "axis_deg"):
                     self.rows[key].input.value = ""
                 for key in READING_FIELDS:
                     self.rows[key].input.value = ""
@@ -706,7 +708,7 @@ class SurveyPanel(w.VBox):
                 self.rows["crown_shape"].input.value = entry.crown_shape
                 for key in ("station_x_m", "station_y_m", "station_z_m", "eye_height_m",
                             "declination_deg", "trunk_radius_m", "growth_m_per_yr",
-                            "axis_deg"):
+                            "mature_height_m", "axis_deg"):
                     self._put(key, getattr(entry, key))
                 for key in READING_FIELDS:
                     reading = getattr(entry, key)
