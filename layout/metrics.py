@@ -29,10 +29,9 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
-from scipy import optimize
 
 from .errors import InputError, check_nonnegative, check_range
-from .irradiance import plane_of_array
+from .irradiance import plane_insolation, plane_of_array
 from .weather import Weather
 
 __all__ = [
@@ -77,11 +76,18 @@ def _insolation(weather: Weather, tilt: float, azimuth: float, model: str) -> fl
     return float(frame["poa_global"].clip(lower=0).sum()) * weather.step_minutes / 60.0 / 1000.0
 
 
+#: Grid spacings (tilt, azimuth) [degrees] of the refinement steps of the best-plane search,
+#: each a 5 × 5 grid around the best plane so far.
+_SEARCH_STEPS = ((5.0, 12.0), (2.0, 5.0), (0.8, 2.0), (0.3, 0.8), (0.12, 0.3), (0.05, 0.12))
+
+
 def best_orientation(weather: Weather, *, model: str = "perez") -> BestOrientation:
     """Find the tilt and azimuth that collect the most unshaded plane-of-array insolation.
 
     A coarse scan (tilt every 10°, azimuth every 30° over the equator-facing half) picks the
-    start, and a bounded Nelder–Mead search refines it to about 0.1°.
+    start; then 5 × 5 grids of ever finer spacing, each centred on the best plane so far,
+    refine it to about 0.05° in tilt and 0.1° in azimuth. Every grid is one vectorised call
+    of pvlib's transposition (:func:`layout.irradiance.plane_insolation`).
 
     Parameters
     ----------
@@ -98,27 +104,22 @@ def best_orientation(weather: Weather, *, model: str = "perez") -> BestOrientati
         raise InputError("weather", "must be a layout.weather.Weather",
                          value=type(weather).__name__)
     equator = 180.0 if weather.site.latitude >= 0 else 0.0
-    cache: dict[tuple[float, float], float] = {}
-
-    def value(tilt: float, azimuth: float) -> float:
-        key = (round(tilt, 4), round(azimuth % 360.0, 4))
-        if key not in cache:
-            cache[key] = _insolation(weather, key[0], key[1], model)
-        return cache[key]
-
-    starts = [(t, (equator + a) % 360.0) for t in range(0, 81, 10) for a in (-60, -30, 0, 30, 60)]
-    tilt0, az0 = max(starts, key=lambda p: value(*p))
-
-    def negative(x):
-        tilt = float(np.clip(x[0], 0.0, 90.0))
-        return -value(tilt, float(x[1]))
-
-    result = optimize.minimize(negative, x0=[tilt0, az0], method="Nelder-Mead",
-                               options={"xatol": 0.05, "fatol": 1e-6, "initial_simplex":
-                                        [[tilt0, az0], [tilt0 + 6, az0], [tilt0, az0 + 12]]})
-    tilt = float(np.clip(result.x[0], 0.0, 90.0))
-    azimuth = float(result.x[1]) % 360.0
-    return BestOrientation(tilt, azimuth, value(tilt, azimuth))
+    tilts, azimuths = np.meshgrid(np.arange(0.0, 81.0, 10.0),
+                                  (equator + np.arange(-60.0, 61.0, 30.0)) % 360.0)
+    tilts, azimuths = tilts.ravel(), azimuths.ravel()
+    values = plane_insolation(weather, tilts, azimuths, model=model)
+    best = int(np.argmax(values))
+    tilt, azimuth, insolation = tilts[best], azimuths[best], values[best]
+    offsets = np.arange(-2.0, 3.0)
+    for d_tilt, d_azimuth in _SEARCH_STEPS:
+        grid_t, grid_a = np.meshgrid(np.clip(tilt + d_tilt * offsets, 0.0, 90.0),
+                                     (azimuth + d_azimuth * offsets) % 360.0)
+        grid_t, grid_a = grid_t.ravel(), grid_a.ravel()
+        values = plane_insolation(weather, grid_t, grid_a, model=model)
+        best = int(np.argmax(values))
+        if values[best] > insolation:
+            tilt, azimuth, insolation = grid_t[best], grid_a[best], values[best]
+    return BestOrientation(float(tilt), float(azimuth), float(insolation))
 
 
 def energy_kwh(power_w, step_minutes: float, *, axis: int = 0) -> np.ndarray:

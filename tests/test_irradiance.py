@@ -14,6 +14,7 @@ from layout.irradiance import (
     iam_factors,
     module_irradiance,
     orientation_groups,
+    plane_insolation,
     plane_of_array,
     substring_shade,
 )
@@ -241,3 +242,21 @@ def test_bad_input_names_the_field(clear, kwargs, field):
     assert info.value.field == field
     with pytest.raises(InputError, match="surface_tilt"):
         plane_of_array(clear, 95.0, 180.0)
+
+
+@pytest.mark.parametrize("model", ["perez", "haydavies", "isotropic"])
+def test_many_planes_at_once_equal_pvlib_plane_by_plane(tmy3, model):
+    # pvlib's get_total_irradiance on one plane at a time (plane_of_array), summed over the
+    # Greensboro TMY3 year, against the one vectorised call the best-plane search makes
+    tilts = np.array([0.0, 15.0, 36.1, 60.0, 90.0, 30.0])
+    azimuths = np.array([180.0, 135.0, 180.0, 225.0, 90.0, 0.0])
+    got = plane_insolation(tmy3, tilts, azimuths, model=model)
+    for k, (tilt, azimuth) in enumerate(zip(tilts, azimuths, strict=True)):
+        poa = plane_of_array(tmy3, tilt, azimuth, model=model)["poa_global"].clip(lower=0)
+        assert got[k] == pytest.approx(poa.sum() * tmy3.step_minutes / 60 / 1000, rel=1e-12)
+    with pytest.raises(InputError) as info:
+        plane_insolation(tmy3, [95.0], [180.0])
+    assert info.value.field == "surface_tilt"
+    with pytest.raises(InputError) as info:
+        plane_insolation(tmy3, [30.0, 20.0], [180.0])
+    assert info.value.field == "surface_azimuth"

@@ -598,7 +598,10 @@ def test_progress_is_shown_while_a_full_recompute_runs(planner, demo):
     stages = [re.sub("<[^>]+>", "", text) for text in said]
     assert any("filling the roof faces" in text for text in stages)
     assert any("tracing the sun past every obstruction" in text for text in stages)
-    assert shown == sorted(shown) and len(shown) >= 5
+    # the refill's stages, from the fill (value 2) on, move the bar forward only; what the
+    # bar held before (an earlier, quicker recompute leaves it where it was) comes first
+    refill = shown[shown.index(2):]
+    assert refill == sorted(refill) and len(refill) >= 5
     assert planner.progress.layout.visibility == "hidden"  # and gone when done
     assert stages[-1].startswith("Ready") or "Refilled" in stages[-1]
 
