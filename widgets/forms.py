@@ -32,6 +32,7 @@ from layout.obstructions import (
 from layout.units import format_length, parse_length
 
 from .plan_view import obstruction_anchor, obstruction_label
+from .quiet import Quiet
 
 __all__ = [
     "FieldRow",
@@ -136,7 +137,7 @@ def _rectangle_axes(footprint) -> tuple[np.ndarray, np.ndarray, float, float] | 
     return units[0], units[1], float(lengths[0]), float(lengths[1])
 
 
-class ObstructionForm(w.VBox):
+class ObstructionForm(Quiet, w.VBox):
     """Edit, add and delete the obstructions of a project.
 
     Show a project with :meth:`show`; every accepted edit calls the callbacks registered with
@@ -147,7 +148,6 @@ class ObstructionForm(w.VBox):
         self.units = "metric"
         self.obstructions: tuple = ()
         self.index: int | None = None
-        self._quiet = False
         self._callbacks: list[Callable] = []
         self._shown: dict[str, str] = {}  # text shown per field for the stored value
         self._cache: dict[str, FieldRow] = {}
@@ -192,14 +192,11 @@ class ObstructionForm(w.VBox):
         if index is None:
             index = self.index if self.index in editable else (editable[0] if editable else None)
         self.index = index
-        self._quiet = True
-        try:
+        with self._silently():
             self.choice.options = [(f"{obstruction_label(self.obstructions[i], i)} "
                                     f"({type(self.obstructions[i]).__name__.lower()})", i)
                                    for i in editable]
             self.choice.value = index
-        finally:
-            self._quiet = False
         self._build_rows()
 
     def apply(self) -> bool:
@@ -287,12 +284,9 @@ class ObstructionForm(w.VBox):
     def _build_rows(self) -> None:
         self._shown = {}
         rows: list[FieldRow] = []
-        quiet, self._quiet = self._quiet, True
-        try:
+        with self._silently():
             if self.index is not None:
                 rows = self._rows_for(self.obstructions[self.index])
-        finally:
-            self._quiet = quiet
         self.rows = {row.key: row for row in rows}
         if list(self.fields_box.children) != rows:
             self.fields_box.children = rows

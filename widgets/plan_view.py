@@ -29,6 +29,7 @@ import shapely
 from layout.units import FOOT_M, format_length
 
 from . import style
+from .quiet import Quiet
 
 __all__ = [
     "PlanScene",
@@ -245,7 +246,7 @@ def _edge_label_rotation(start: np.ndarray, end: np.ndarray) -> float:
 
 
 # --------------------------------------------------------------------------- the widget
-class PlanView(w.VBox):
+class PlanView(Quiet, w.VBox):
     """The plan figure with drag markers on obstructions and click targets on modules.
 
     Parameters
@@ -277,7 +278,6 @@ class PlanView(w.VBox):
         self._anchors = np.zeros((0, 2))  # marker positions drawn [display units]
         self._obstruction_index: list[int] = []
         self._module_ids: list[str] = []
-        self._quiet = False
         self._moved: list[Callable] = []
         self._drag_started: list[Callable] = []
         self._dragging: list[Callable] = []
@@ -521,14 +521,6 @@ class PlanView(w.VBox):
         if 0 <= index < len(self._module_ids):
             for callback in self._clicked:
                 callback(self._module_ids[index])
-
-    @contextlib.contextmanager
-    def _silently(self):
-        quiet, self._quiet = self._quiet, True
-        try:
-            yield
-        finally:
-            self._quiet = quiet
 
     # ----------------------------------------------------------------- scale
     def _toggle_zoom(self, change) -> None:

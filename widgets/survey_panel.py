@@ -20,7 +20,6 @@ used as typed.
 
 from __future__ import annotations
 
-import contextlib
 import html
 import math
 from collections.abc import Callable
@@ -43,6 +42,7 @@ from layout.survey import (
 from layout.units import FOOT_M, format_length
 
 from .forms import LABEL_WIDTH, FieldRow, error_text, length_text, read_length
+from .quiet import Quiet
 
 __all__ = [
     "READING_FIELDS",
@@ -191,7 +191,7 @@ class ReadingRow(w.HBox):
         return self.message.value
 
 
-class SurveyPanel(w.VBox):
+class SurveyPanel(Quiet, w.VBox):
     """Type, list, edit, delete and import the survey readings of a project.
 
     Show a survey with :meth:`show`. Every accepted edit calls the callbacks registered with
@@ -221,7 +221,6 @@ class SurveyPanel(w.VBox):
         self.base_dir: Path | None = None
         self.imported_problems: list = []
         self._callbacks: list[Callable] = []
-        self._quiet = False
         self._stored: dict[str, tuple[str, object]] = {}  # key → (text shown, exact value)
         self._auto: dict[str, str] = {}  # reading → default tolerance text still untouched
 
@@ -495,14 +494,6 @@ class SurveyPanel(w.VBox):
         self._auto["distance_m"] = text
         with self._silently():
             row.tolerance.value = text
-
-    @contextlib.contextmanager
-    def _silently(self):
-        quiet, self._quiet = self._quiet, True
-        try:
-            yield
-        finally:
-            self._quiet = quiet
 
     def _visible(self, kind: str | None = None) -> tuple[str, ...]:
         kind = kind or self.rows["kind"].input.value
