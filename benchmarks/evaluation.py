@@ -1,6 +1,6 @@
 """Time a full annual evaluation stage by stage, and the electrical models, and print ratios.
 
-Three cases, each a full evaluation (:class:`layout.analysis.Analysis`) with hourly clear sky
+Three cases, each a full evaluation (:class:`layout.study.analysis.Analysis`) with hourly clear sky
 for a typical year:
 
 * the bundled demo project (13 modules);
@@ -11,7 +11,7 @@ for a typical year:
   beside it) with the string model, to show that the electrical string model does not dominate
   the evaluation; then the power stage alone under each shade model on the same irradiance.
 
-The stages are those of :attr:`layout.analysis.Analysis.timings`, grouped as the issue names
+The stages are those of :attr:`layout.study.analysis.Analysis.timings`, grouped as the issue names
 them: sun (weather, sun path and the best-orientation search for TOF), shading (sample points,
 ray tests, sky view), irradiance, electrical (power); fill and tables are shown apart. Every
 figure is a ratio measured in this run, on this machine; nothing here is asserted.
@@ -30,13 +30,13 @@ import time
 from dataclasses import replace
 
 from layout import Block, Project, Site, Tree, gable_roof, generic_60_cell, no_setbacks
-from layout.analysis import Analysis
-from layout.building import shed_roof
-from layout.electrical import ElectricalOptions
-from layout.energy import EnergyOptions, load_weather, sun_steps
-from layout.metrics import best_orientation
+from layout.power.electrical import ElectricalOptions
+from layout.power.energy import EnergyOptions, load_weather, sun_steps
+from layout.power.metrics import best_orientation
 from layout.project import load_demo_project
 from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
+from layout.scene.building import shed_roof
+from layout.study.analysis import Analysis
 
 SITE = Site(40.0, -105.0, "America/Denver", altitude_m=1600.0, name="benchmark site")
 

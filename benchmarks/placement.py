@@ -21,17 +21,17 @@ from __future__ import annotations
 import math
 import time
 
-from layout.building import flat_roof
-from layout.clearance import (
+from layout.fill.clearance import (
     ifc_2021_commercial,
     ifc_2021_residential,
     no_setbacks,
     usable_area,
 )
-from layout.modules import generic_60_cell
-from layout.placement import FillOptions, fill_face
-from layout.racking import fill_racks, row_pitch_no_shade_window
-from layout.roof import RoofFace
+from layout.fill.placement import FillOptions, fill_face
+from layout.fill.racking import fill_racks, row_pitch_no_shade_window
+from layout.scene.building import flat_roof
+from layout.scene.modules import generic_60_cell
+from layout.scene.roof import RoofFace
 from layout.units import pitch_from_rise
 
 MODULE = generic_60_cell(330)

@@ -4,7 +4,7 @@
     .venv/bin/python benchmarks/portfolio.py --with-800    # also 800 (several minutes)
     .venv/bin/python benchmarks/portfolio.py --growth-only --with-800   # 50, 200, 800 only
 
-Synthetic projects (``layout.portfolio.synthetic_portfolio``, seed 0, about one site per ten
+Synthetic projects (``layout.study.portfolio.synthetic_portfolio``, seed 0, about one site per ten
 projects, hourly clear sky, default module and rules). Every run writes into a fresh folder, so
 nothing is skipped. The Dask timings include starting and stopping the local cluster (one
 single-threaded worker process per core, 127.0.0.1 only). On a shared machine the load average
@@ -20,8 +20,8 @@ import tempfile
 import time
 from pathlib import Path
 
-from layout.portfolio import run_portfolio, write_synthetic_portfolio
 from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
+from layout.study.portfolio import run_portfolio, write_synthetic_portfolio
 
 
 def _cpu_seconds() -> float:

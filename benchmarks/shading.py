@@ -33,14 +33,14 @@ import time
 import numpy as np
 import shapely
 
-from layout.modules import generic_60_cell
-from layout.obstructions import Block, Cylinder, Plate, Tree
-from layout.placement import PlacedModule
-from layout.roof import RoofFace
+from layout.fill.placement import PlacedModule
 from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
+from layout.scene.modules import generic_60_cell
+from layout.scene.obstructions import Block, Cylinder, Plate, Tree
+from layout.scene.roof import RoofFace
+from layout.scene.site import Site
 from layout.shading import ShadeCache, _ray_effect, module_shade, shaded
-from layout.site import Site
-from layout.sun import sun_above_horizon, typical_year_index
+from layout.sky.sun import sun_above_horizon, typical_year_index
 
 SITE = Site(40.0, -105.0, "America/Denver", 1600.0, name="bench")
 

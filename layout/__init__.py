@@ -1,20 +1,12 @@
 """eaveline's computational core: roof geometry, setbacks, module placement and shading.
 
 The names a notebook uses most are available here; everything else lives in its module
-(``layout.roof``, ``layout.clearance``, ``layout.placement``, ``layout.shading``, ...).
-Nothing in this package imports a widget or plotting library.
+(``layout.scene.roof``, ``layout.fill.clearance``, ``layout.fill.placement``, ``layout.shading``,
+...). Nothing in this package imports a widget or plotting library.
 """
 
-from .building import (
-    Building,
-    flat_roof,
-    gable_roof,
-    hip_roof,
-    l_shaped_gable_roof,
-    l_shaped_hip_roof,
-    shed_roof,
-)
-from .clearance import (
+from .errors import InputError
+from .fill.clearance import (
     CAUTION,
     ClearanceRules,
     ifc_2015_residential,
@@ -23,13 +15,21 @@ from .clearance import (
     no_setbacks,
     usable_area,
 )
-from .errors import InputError
-from .modules import ModuleSpec, generic_60_cell, generic_72_cell, generic_108_half_cell
-from .obstructions import Block, Cylinder, HorizonProfile, Tree
-from .placement import FillOptions, Layout, PlacedModule, compare_orientations, fill_building
+from .fill.placement import FillOptions, Layout, PlacedModule, compare_orientations, fill_building
 from .project import Project, ProjectFileError, load_demo_project, load_project, save_project
-from .roof import RoofFace
-from .site import Site
+from .scene.building import (
+    Building,
+    flat_roof,
+    gable_roof,
+    hip_roof,
+    l_shaped_gable_roof,
+    l_shaped_hip_roof,
+    shed_roof,
+)
+from .scene.modules import ModuleSpec, generic_60_cell, generic_72_cell, generic_108_half_cell
+from .scene.obstructions import Block, Cylinder, HorizonProfile, Tree
+from .scene.roof import RoofFace
+from .scene.site import Site
 from .units import feet_to_m, inches_to_m, parse_length, pitch_from_rise
 
 __version__ = "0.1.0.dev0"

@@ -15,10 +15,10 @@ evaluate [PROJECT | --demo] [--json] [--weather FILE] [--csv DIR] [--shade-model
 compare [PROJECT | --demo] [--orientations O,O] [--min-tsrf PCT] [--min-energy KWH]
         [--max-shade-loss PCT] [--keep-worst] [--json] [--weather FILE] [--shade-model MODEL]
     Portrait, landscape and mixed fills side by side, each also without its worst modules
-    (TSRF below the project's threshold unless limits are given): :mod:`layout.compare`.
+    (TSRF below the project's threshold unless limits are given): :mod:`layout.study.compare`.
 batch SOURCE -o OUT [--format parquet|csv] [--module-tables] [--scheduler ADDRESS | --serial]
     Evaluate every project of a folder (or listed in a CSV) on Dask, one row per project, with
-    failures in their rows; a rerun skips what is already written (:mod:`layout.portfolio`;
+    failures in their rows; a rerun skips what is already written (:mod:`layout.study.portfolio`;
     ``python -m layout batch --help`` lists the options).
 
 Exit status 0 on success, 1 for bad input (one line on standard error: the file, the field and
@@ -35,7 +35,7 @@ plain JSON numbers; a figure that is undefined (no modules, no light) is ``null`
 ``project``
     ``{"name": str, "file": str or null}``.
 ``site``
-    The project's site (:meth:`layout.site.Site.to_dict`).
+    The project's site (:meth:`layout.scene.site.Site.to_dict`).
 ``weather``
     ``{"source": str, "clear_sky": bool, "step_minutes": int, "ghi_kwh_m2": float,
     "caveat": str, "notes": [str]}``; the caveat says what clear sky means for shade loss.
@@ -46,13 +46,13 @@ plain JSON numbers; a figure that is undefined (no modules, no light) is ``null`
     The best unshaded plane at the site, for TOF: ``{"surface_tilt", "surface_azimuth",
     "insolation_kwh_m2"}``.
 ``totals``
-    :func:`layout.metrics.layout_totals`: ``modules``, ``power_kwp``, ``energy_kwh``,
+    :func:`layout.power.metrics.layout_totals`: ``modules``, ``power_kwp``, ``energy_kwh``,
     ``energy_unshaded_kwh``, ``shade_loss_pct``, ``specific_yield_kwh_per_kwp``,
     ``solar_access_pct`` (mean), ``tsrf_pct`` (mean), ``modules_below_tsrf``,
     ``tsrf_threshold_pct``, ``energy_basis``.
 ``faces``
     One object per face with modules: ``face`` and the columns of
-    :func:`layout.metrics.face_table`.
+    :func:`layout.power.metrics.face_table`.
 ``modules``
     One object per active module, in table order: ``id``, ``face``, ``row``, ``column``,
     ``orientation``, ``surface_tilt``, ``surface_azimuth`` [degrees], ``energy_kwh``,
@@ -78,14 +78,14 @@ from pathlib import Path
 
 import numpy as np
 
-from .analysis import Analysis, Evaluation
-from .clearance import CAUTION
-from .compare import Comparison, compare_layouts
-from .electrical import SHADE_MODELS
 from .errors import InputError
-from .metrics import face_table
-from .placement import FILL_ORIENTATIONS, compare_orientations
+from .fill.clearance import CAUTION
+from .fill.placement import FILL_ORIENTATIONS, compare_orientations
+from .power.electrical import SHADE_MODELS
+from .power.metrics import face_table
 from .project import Project, ProjectFileError, demo_project_path, load_project
+from .study.analysis import Analysis, Evaluation
+from .study.compare import Comparison, compare_layouts
 from .units import format_length
 
 #: Version of the JSON report of ``evaluate --json``; raised only when a key changes meaning.
@@ -221,7 +221,7 @@ def evaluation_report(evaluation: Evaluation, *, source: str | None = None) -> d
 
     Parameters
     ----------
-    evaluation : layout.analysis.Evaluation
+    evaluation : layout.study.analysis.Evaluation
     source : str, keyword-only, optional
         The project file, for the report.
 
@@ -346,7 +346,7 @@ def write_tables(evaluation: Evaluation, folder) -> list[Path]:
 
     Parameters
     ----------
-    evaluation : layout.analysis.Evaluation
+    evaluation : layout.study.analysis.Evaluation
     folder : str or os.PathLike
         Created when missing; files :data:`CSV_FILES` are written (replaced) in it.
 
@@ -583,7 +583,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     """
     argv = list(sys.argv[1:] if argv is None else argv)
     if argv and argv[0] == "batch":  # many projects on Dask: its own options
-        from .portfolio import portfolio_main
+        from .study.portfolio import portfolio_main
 
         return portfolio_main(argv[1:])
     args = _parser().parse_args(argv)

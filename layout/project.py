@@ -19,16 +19,16 @@ from dataclasses import dataclass, field, replace
 from functools import cached_property
 from pathlib import Path
 
-from .building import Building
-from .clearance import ClearanceRules, UsableArea
-from .energy import EnergyOptions
 from .errors import InputError
-from .modules import ModuleSpec
-from .obstructions import obstruction_from_dict
-from .placement import FillOptions, Layout, fill_building_with_areas
-from .roof import RoofFace
-from .site import Site
-from .survey import SurveyEntry
+from .fill.clearance import ClearanceRules, UsableArea
+from .fill.placement import FillOptions, Layout, fill_building_with_areas
+from .power.energy import EnergyOptions
+from .scene.building import Building
+from .scene.modules import ModuleSpec
+from .scene.obstructions import obstruction_from_dict
+from .scene.roof import RoofFace
+from .scene.site import Site
+from .scene.survey import SurveyEntry
 
 __all__ = [
     "FILE_SUFFIX",
@@ -93,19 +93,19 @@ class Project:
         Orientation, gaps and row mode of the fill.
     array_faces : tuple of str or None
         Names of the faces that take modules; None fills every face. Faces left free count
-        as access pathways (see :func:`layout.placement.fill_building`).
+        as access pathways (see :func:`layout.fill.placement.fill_building`).
     obstructions : tuple
-        Blocks, cylinders and trees around and on the roof (:mod:`layout.obstructions`).
-    survey : tuple of layout.survey.SurveyEntry
+        Blocks, cylinders and trees around and on the roof (:mod:`layout.scene.obstructions`).
+    survey : tuple of layout.scene.survey.SurveyEntry
         Field readings (distances, angles, bearings with their tolerances). Each one stands
         in the scene as the obstruction its nominal readings give
         (:attr:`scene_obstructions`); the readings are kept so that their tolerances can be
         carried to the shade loss.
     removed : tuple
-        Modules the user took out, as plain data understood by :class:`layout.placement.Layout`.
-    pathways : dict or None
+        Modules the user took out, as plain data understood by
+    :class:`layout.fill.placement.Layout`. pathways : dict or None
         Face name → edge index of each access pathway chosen by the user; None lets eaveline
-        choose (:func:`layout.clearance.choose_pathway_faces`).
+        choose (:func:`layout.fill.clearance.choose_pathway_faces`).
     energy : EnergyOptions
         Weather, models and electrical settings of the energy evaluation.
     units : {"metric", "imperial"}
@@ -178,7 +178,7 @@ class Project:
         -------
         layout : Layout
             Modules of every building, the removals still in force and the fill's notes.
-        areas : dict of str to layout.clearance.UsableArea
+        areas : dict of str to layout.fill.clearance.UsableArea
             Usable area, zones and notes of each array face, keyed by face name.
         """
         modules, removed, notes, areas = [], [], [], {}

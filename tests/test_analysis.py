@@ -8,10 +8,10 @@ import pandas as pd
 import pytest
 
 from layout import Block, FillOptions, Project, Site, gable_roof, generic_60_cell, no_setbacks
-from layout.analysis import Analysis, evaluate
-from layout.electrical import ElectricalOptions
-from layout.energy import EnergyOptions
+from layout.power.electrical import ElectricalOptions
+from layout.power.energy import EnergyOptions
 from layout.project import load_demo_project
+from layout.study.analysis import Analysis, evaluate
 
 
 @pytest.fixture(scope="module")
@@ -72,7 +72,7 @@ def test_changing_the_electrical_model_recomputes_power_only(demo, analysis):
     assert ran == ("power", "tables")
     assert_same(analysis.result, evaluate(edited))
     # irradiance-only is the optimistic model: never more loss than bypass diodes
-    # (module-level model; see layout.electrical)
+    # (module-level model; see layout.power.electrical)
     assert analysis.result.totals["shade_loss_pct"] <= evaluate(demo).totals["shade_loss_pct"]
     analysis.update(demo)
 
@@ -124,8 +124,8 @@ def test_best_fixed_tilt_is_near_the_latitude_facing_the_equator(open_roof):
     assert abs(best.surface_tilt - open_roof.site.latitude) < 8.0
     assert abs(best.surface_azimuth - 180.0) < 5.0
     # and the search really is a maximum: pvlib's own transposition on neighbouring planes
-    from layout.energy import load_weather
-    from layout.metrics import _insolation
+    from layout.power.energy import load_weather
+    from layout.power.metrics import _insolation
 
     weather = load_weather(open_roof.site, open_roof.energy)
     for dt, da in ((5, 0), (-5, 0), (0, 10), (0, -10)):
@@ -152,8 +152,8 @@ def test_a_fully_enclosed_module_keeps_only_the_ground_reflected_share(open_roof
     enclosed = open_roof.with_changes(obstructions=(lid, *walls))
     result = evaluate(enclosed)
     # the ground-reflected share of the unshaded plane-of-array insolation, from pvlib directly
-    from layout.energy import load_weather
-    from layout.irradiance import plane_of_array
+    from layout.power.energy import load_weather
+    from layout.power.irradiance import plane_of_array
 
     weather = load_weather(enclosed.site, enclosed.energy)
     frame = plane_of_array(weather, face.pitch_deg, face.azimuth_deg)
@@ -177,9 +177,9 @@ def test_a_parapet_casts_a_shadow_as_long_as_geometry_says():
     # stands square to it (plane geometry; REFERENCES.md gives the pole case, 2.00 × height
     # at 40° N solstice noon, elevation 26.56°).
     from layout import flat_roof
-    from layout.energy import parapet_walls, scene_casters
+    from layout.power.energy import parapet_walls, scene_casters
     from layout.shading import shaded
-    from layout.sun import sun_vectors
+    from layout.sky.sun import sun_vectors
 
     roof = flat_roof(20.0, 12.0, eave_height_m=6.0, parapet_height_m=1.0, name="store")
     project = Project(site=Site(40.0, -105.0, "America/Denver"), buildings=(roof,),

@@ -3,7 +3,7 @@
 Starts Voila on 127.0.0.1 with ``example_notebooks/planner.ipynb``, opens it in Debian's
 Chromium through Playwright, drags the tree's marker toward the house, and checks that the
 annual shade loss the page shows is the one a fresh evaluation by the core
-(:func:`layout.analysis.evaluate`) gives for the tree where the app says it now stands. A
+(:func:`layout.study.analysis.evaluate`) gives for the tree where the app says it now stands. A
 screenshot of the app after the drag is saved as a test artefact.
 
 Without Chromium, Playwright or Voila the test is skipped with the reason; under CI
@@ -23,7 +23,7 @@ from pathlib import Path
 import pytest
 
 from layout import load_demo_project
-from layout.analysis import evaluate
+from layout.study.analysis import evaluate
 from widgets.forms import read_length
 from widgets.plan_view import obstruction_anchor
 

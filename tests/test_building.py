@@ -1,4 +1,4 @@
-"""Tests for layout.building: the Building container and the roof builders.
+"""Tests for layout.scene.building: the Building container and the roof builders.
 
 Outside references used here:
 - closed-form geometry of roofs of one pitch rising from level eaves: ridge height
@@ -21,7 +21,8 @@ import numpy as np
 import pytest
 import shapely
 
-from layout.building import (
+from layout.errors import InputError
+from layout.scene.building import (
     OVERLAP_TOLERANCE_M2,
     Building,
     compass_name,
@@ -32,8 +33,7 @@ from layout.building import (
     l_shaped_hip_roof,
     shed_roof,
 )
-from layout.errors import InputError
-from layout.roof import RoofFace, building_to_site
+from layout.scene.roof import RoofFace, building_to_site
 
 ROTATIONS = [0.0, -20.0, 37.5, 90.0, 200.0]
 ORIGINS = [(0.0, 0.0), (12.5, -4.0)]

@@ -1,4 +1,4 @@
-"""Tests for layout.clearance: presets against the code text, exact per-edge setbacks, rings,
+"""Tests for layout.fill.clearance: presets against the code text, exact per-edge setbacks, rings,
 pathways, the 33 % rule and the exemption.
 
 Outside sources: the 'Fire access setbacks' table of /work/shared/REFERENCES.md (IFC editions),
@@ -16,7 +16,8 @@ import shapely
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from layout.clearance import (
+from layout.errors import InputError
+from layout.fill.clearance import (
     ARC_SIDES,
     CAUTION,
     ClearanceRules,
@@ -32,8 +33,7 @@ from layout.clearance import (
     usable_area,
     usable_areas,
 )
-from layout.errors import InputError
-from layout.roof import EDGE_KINDS, RoofFace
+from layout.scene.roof import EDGE_KINDS, RoofFace
 from layout.units import pitch_from_rise
 
 # Largest relative overshoot of a circumscribed ARC_SIDES-gon over its circle.
@@ -42,7 +42,7 @@ ARC_SLACK = 1.0 / math.cos(math.pi / ARC_SIDES) - 1.0
 
 @dataclasses.dataclass(frozen=True)
 class Thing:
-    """Stand-in obstruction with the attributes layout.clearance reads (duck typing)."""
+    """Stand-in obstruction with the attributes layout.fill.clearance reads (duck typing)."""
 
     footprint: tuple
     top: float
@@ -398,7 +398,7 @@ def test_which_obstructions_stand_on_the_face():
 
 
 def test_obstructions_from_the_obstruction_module():
-    obstructions = pytest.importorskip("layout.obstructions")
+    obstructions = pytest.importorskip("layout.scene.obstructions")
     face = south_face(pitch=30.0)
     chimney = obstructions.Block([(2, 2), (3, 2), (3, 3), (2, 3)], top=7.0, kind="chimney")
     tree = obstructions.Tree((5, 3), 12.0, 3.0, 4.0)

@@ -1,8 +1,9 @@
 """The command line: ``evaluate`` (text, --json, --weather, --csv), ``compare``, and its errors.
 
-The outside reference of the JSON report is the evaluation itself (``layout.analysis.evaluate``,
-tested against pvlib and closed forms in tests/test_analysis.py): the command line must print
-exactly its figures, once through a real subprocess as outside checks call it.
+The outside reference of the JSON report is the evaluation itself
+(``layout.study.analysis.evaluate``, tested against pvlib and closed forms in
+tests/test_analysis.py): the command line must print exactly its figures, once through a real
+subprocess as outside checks call it.
 """
 
 from __future__ import annotations
@@ -20,10 +21,10 @@ import pvlib
 import pytest
 
 from layout.__main__ import CSV_FILES, REPORT_VERSION, evaluation_report, main
-from layout.analysis import Analysis
-from layout.metrics import face_table
+from layout.power.metrics import face_table
 from layout.project import demo_project_path, load_demo_project, load_project, save_project
-from layout.site import Site
+from layout.scene.site import Site
+from layout.study.analysis import Analysis
 
 GREENSBORO = os.path.join(os.path.dirname(pvlib.__file__), "data", "723170TYA.CSV")  # NREL TMY3
 

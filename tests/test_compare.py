@@ -1,4 +1,4 @@
-"""Layouts side by side and "drop the worst" (layout.compare)."""
+"""Layouts side by side and "drop the worst" (layout.study.compare)."""
 
 from __future__ import annotations
 
@@ -10,13 +10,13 @@ import pandas as pd
 import pytest
 
 from layout import Block, Project, Site, compare_orientations, generic_60_cell, no_setbacks
-from layout.analysis import Analysis, evaluate
-from layout.building import shed_roof
-from layout.compare import compare_layouts, drop_worst
-from layout.electrical import ElectricalOptions
 from layout.errors import InputError
-from layout.metrics import comparison_table, worst_modules
+from layout.power.electrical import ElectricalOptions
+from layout.power.metrics import comparison_table, worst_modules
 from layout.project import load_demo_project
+from layout.scene.building import shed_roof
+from layout.study.analysis import Analysis, evaluate
+from layout.study.compare import compare_layouts, drop_worst
 
 #: A TSRF limit that some demo modules fail (their TSRF spans about 93.7-96.5 %), so that the
 #: "without the worst" rows really drop modules; the project's own 75 % drops none.
@@ -72,7 +72,7 @@ def test_rows_are_portrait_and_landscape_with_and_without_the_worst(comparison):
 
 
 def test_module_counts_agree_with_the_fill_comparison(demo, comparison):
-    # layout.placement.compare_orientations fills both ways independently of any evaluation
+    # layout.fill.placement.compare_orientations fills both ways independently of any evaluation
     building = demo.buildings[0]
     counts = compare_orientations(building, demo.module, rules=demo.clearance,
                                   options=demo.fill, obstructions=demo.obstructions,

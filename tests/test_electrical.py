@@ -1,4 +1,4 @@
-"""Tests of layout.electrical against pvlib: PVWatts, Martínez-Moreno shading, bishop88 I-V."""
+"""layout.power.electrical against pvlib: PVWatts, Martínez-Moreno shading, bishop88 I-V."""
 
 from __future__ import annotations
 
@@ -11,8 +11,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from layout.building import gable_roof
-from layout.electrical import (
+from layout.errors import InputError
+from layout.fill.placement import FillOptions, fill_face
+from layout.power.electrical import (
     DEFAULT_GAMMA_PDC,
     ElectricalOptions,
     assign_strings,
@@ -21,12 +22,11 @@ from layout.electrical import (
     dc_power,
     dc_strings,
 )
-from layout.errors import InputError
-from layout.irradiance import module_irradiance
-from layout.modules import generic_60_cell
-from layout.placement import FillOptions, fill_face
-from layout.site import Site
-from layout.weather import clear_sky
+from layout.power.irradiance import module_irradiance
+from layout.scene.building import gable_roof
+from layout.scene.modules import generic_60_cell
+from layout.scene.site import Site
+from layout.sky.weather import clear_sky
 
 SETTINGS = settings(max_examples=40, deadline=None)
 SPEC = generic_60_cell(300.0)
@@ -198,7 +198,7 @@ def _south_face_modules(orientation):
 @pytest.mark.parametrize("orientation, lit_substrings", [("portrait", 0), ("landscape", 2)])
 def test_shadow_along_the_bottom_edge_portrait_against_landscape(orientation, lit_substrings):
     # A shadow over the cells along the module's lower edge (the lowest cells in z): in
-    # portrait it crosses every substring, in landscape only substring 0 (layout.placement).
+    # portrait it crosses every substring, in landscape only substring 0 (layout.fill.placement).
     module = _south_face_modules(orientation)
     points, cell, substring = module.cell_points(SPEC)
     low = points[:, 2] < points[:, 2].min() + 1e-6

@@ -1,4 +1,4 @@
-"""Tests of layout.irradiance against pvlib called directly and a textbook angle of incidence."""
+"""layout.power.irradiance against pvlib called directly and a textbook angle of incidence."""
 
 from __future__ import annotations
 
@@ -10,7 +10,8 @@ import pvlib
 import pytest
 
 from layout.errors import InputError
-from layout.irradiance import (
+from layout.fill.racking import sun_from_hour_angle
+from layout.power.irradiance import (
     iam_factors,
     module_irradiance,
     orientation_groups,
@@ -18,9 +19,8 @@ from layout.irradiance import (
     plane_of_array,
     substring_shade,
 )
-from layout.racking import sun_from_hour_angle
-from layout.site import Site
-from layout.weather import Weather, clear_sky, read_weather_file
+from layout.scene.site import Site
+from layout.sky.weather import Weather, clear_sky, read_weather_file
 
 GREENSBORO = os.path.join(os.path.dirname(pvlib.__file__), "data", "723170TYA.CSV")
 

@@ -6,7 +6,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from layout.errors import InputError
-from layout.modules import (
+from layout.scene.modules import (
     MAX_EFFICIENCY,
     ModuleSpec,
     generic_60_cell,

@@ -8,7 +8,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from layout.errors import InputError
-from layout.obstructions import (
+from layout.scene.obstructions import (
     CIRCLE_SEGMENTS,
     LEAF_OFF_TRANSMITTANCE,
     LEAF_ON_TRANSMITTANCE,
@@ -210,8 +210,8 @@ def test_translated_moves_geometry():
 
 # ------------------------------------------------------------------ plates
 def test_plate_geometry_and_round_trip():
-    from layout.obstructions import PLANE_TOLERANCE_M, Plate
-    from layout.roof import RoofFace
+    from layout.scene.obstructions import PLANE_TOLERANCE_M, Plate
+    from layout.scene.roof import RoofFace
 
     # closed form: a 2 m × 1.5 m rectangle tilted 30° has true area 3 m² and the unit normal
     # (0, -sin 30°, cos 30°) up to sign
@@ -246,7 +246,7 @@ def test_plate_geometry_and_round_trip():
     ([(0, 0, 0), (1, 0, math.nan), (1, 1, 0)], "corners[1]"),
 ])
 def test_plate_rejects_bad_corners(corners, field):
-    from layout.obstructions import Plate
+    from layout.scene.obstructions import Plate
 
     with pytest.raises(InputError) as info:
         Plate(corners)
@@ -254,7 +254,7 @@ def test_plate_rejects_bad_corners(corners, field):
 
 
 def test_plate_rejects_bad_fields():
-    from layout.obstructions import Plate
+    from layout.scene.obstructions import Plate
 
     square = [(0, 0, 0), (1, 0, 0), (1, 1, 0), (0, 1, 0)]
     with pytest.raises(InputError) as info:

@@ -16,12 +16,19 @@ import pytest
 from scipy import stats
 
 from layout import FillOptions, Project, Site, Tree, gable_roof, generic_60_cell, no_setbacks
-from layout.analysis import Analysis, evaluate
-from layout.electrical import ElectricalOptions
-from layout.energy import EnergyOptions
 from layout.errors import InputError
-from layout.obstructions import LEAF_OFF_TRANSMITTANCE, LEAF_ON_TRANSMITTANCE
-from layout.outlook import (
+from layout.power.electrical import ElectricalOptions
+from layout.power.energy import EnergyOptions
+from layout.scene.obstructions import LEAF_OFF_TRANSMITTANCE, LEAF_ON_TRANSMITTANCE
+from layout.scene.survey import (
+    GROWTH_CLASS_LIMITS_M_PER_YR,
+    GROWTH_CLASS_RATES_M_PER_YR,
+    Reading,
+    SurveyEntry,
+    loss_range,
+)
+from layout.study.analysis import Analysis, evaluate
+from layout.study.outlook import (
     DEFAULT_SAMPLES,
     GrowthOutlook,
     LeafEffect,
@@ -33,13 +40,6 @@ from layout.outlook import (
     sampled_projects,
     shade_loss_range,
     with_surveyed,
-)
-from layout.survey import (
-    GROWTH_CLASS_LIMITS_M_PER_YR,
-    GROWTH_CLASS_RATES_M_PER_YR,
-    Reading,
-    SurveyEntry,
-    loss_range,
 )
 
 SAMPLES = 24  # modest: the range tests check structure and consistency, not precision
@@ -117,7 +117,7 @@ def test_the_analysis_is_left_holding_the_nominal_project(project, analysis, spr
 
 def test_draws_equal_a_fresh_evaluation_of_the_sampled_project(project, spread):
     # Consistency with the core: the incremental analysis must give what evaluate() gives
-    # from scratch for the same sampled project (layout.analysis contract).
+    # from scratch for the same sampled project (layout.study.analysis contract).
     drawn = sampled_projects(project, SAMPLES, seed=7)
     for k in (0, SAMPLES - 1):
         fresh = evaluate(drawn[k])
@@ -130,7 +130,7 @@ def test_draws_equal_a_fresh_evaluation_of_the_sampled_project(project, spread):
 
 
 def test_percentiles_equal_the_survey_loss_range_with_the_same_seed(project, analysis):
-    # layout.survey.loss_range draws the same sets from the same seed; evaluating each set
+    # layout.scene.survey.loss_range draws the same sets from the same seed; evaluating each set
     # through the plain project route (with_surveyed, Analysis.update) must give the same
     # percentiles of the total loss.
     result = shade_loss_range(project, samples=8, seed=11, analysis=analysis)

@@ -1,7 +1,7 @@
 """Portfolio batch runs: serial and on a real dask.distributed cluster, failures, restarts.
 
 The reference for every batch figure is the single-project evaluation
-(:func:`layout.analysis.evaluate` on the loaded file), run fresh for each project.
+(:func:`layout.study.analysis.evaluate` on the loaded file), run fresh for each project.
 """
 
 from __future__ import annotations
@@ -20,11 +20,12 @@ import pytest
 import shapely
 
 from layout import load_project
-from layout.analysis import evaluate
-from layout.clearance import roof_mounted
 from layout.errors import InputError
-from layout.obstructions import Block, Tree
-from layout.portfolio import (
+from layout.fill.clearance import roof_mounted
+from layout.project import project_to_dict
+from layout.scene.obstructions import Block, Tree
+from layout.study.analysis import evaluate
+from layout.study.portfolio import (
     SUMMARY_COLUMNS,
     PortfolioEntry,
     PortfolioRun,
@@ -37,7 +38,6 @@ from layout.portfolio import (
     synthetic_portfolio,
     write_synthetic_portfolio,
 )
-from layout.project import project_to_dict
 
 N_PROJECTS = 4
 SMALL = {"n_sites": 2, "size_m": (6.0, 8.5), "sky_directions": 128}

@@ -194,7 +194,7 @@ def test_only_array_faces_take_modules(demo):
 def test_survey_readings_round_trip_and_stand_in_the_scene(demo, tmp_path):
     # A surveyed tree: 50 ft away at 17° to the top with a 5.5 ft eye height is 20.8 ft tall
     # (REFERENCES.md, tangent method worked example).
-    from layout.survey import SurveyEntry
+    from layout.scene.survey import SurveyEntry
     from layout.units import feet_to_m
 
     entry = SurveyEntry("tree", 200.0, feet_to_m(50.0), 17.0, eye_height_m=feet_to_m(5.5),

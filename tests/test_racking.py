@@ -8,18 +8,18 @@ from hypothesis import strategies as st
 from pvlib.shading import shaded_fraction1d
 from pvlib.solarposition import solar_azimuth_analytical, solar_zenith_analytical
 
-from layout.building import flat_roof
-from layout.clearance import ifc_2021_commercial, usable_area
 from layout.errors import InputError
-from layout.modules import generic_60_cell
-from layout.racking import (
+from layout.fill.clearance import ifc_2021_commercial, usable_area
+from layout.fill.racking import (
     fill_racks,
     gcr_from_row_pitch,
     row_pitch_from_gcr,
     row_pitch_no_shade_window,
     sun_from_hour_angle,
 )
-from layout.roof import RoofFace
+from layout.scene.building import flat_roof
+from layout.scene.modules import generic_60_cell
+from layout.scene.roof import RoofFace
 
 MODULE = generic_60_cell(330)  # 1.650 m × 0.991 m, REFERENCES.md typical sizes
 

@@ -46,10 +46,10 @@ def test_one_distribution_with_two_packages():
 
 def test_importing_the_core_does_not_import_the_front_end():
     code = (
-        "import sys, layout, layout.roof, layout.site, layout.units, layout.errors\n"
+        "import sys, layout, layout.scene.roof, layout.scene.site, layout.units, layout.errors\n"
         "import pkgutil, importlib\n"
-        "for m in pkgutil.iter_modules(layout.__path__):\n"
-        "    if m.name != '__main__': importlib.import_module('layout.' + m.name)\n"
+        "for m in pkgutil.walk_packages(layout.__path__, 'layout.'):\n"
+        "    if not m.name.endswith('__main__'): importlib.import_module(m.name)\n"
         "bad = [m for m in ('ipywidgets', 'bqplot', 'widgets', 'matplotlib') if m in sys.modules]\n"
         "print(','.join(bad))\n"
     )

@@ -1,4 +1,4 @@
-"""Tests for layout.roof: pitch, the plan / roof-plane / 3D maps, edge kinds, validation.
+"""Tests for layout.scene.roof: pitch, the plan / roof-plane / 3D maps, edge kinds, validation.
 
 Outside references used here:
 - REFERENCES.md "roof pitch": atan(r/12): 4:12 → 18.435°, 6:12 → 26.565°, 12:12 → 45°; slope
@@ -21,7 +21,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from layout.errors import InputError
-from layout.roof import EDGE_KINDS, RoofFace, building_to_site, classify_edges
+from layout.scene.roof import EDGE_KINDS, RoofFace, building_to_site, classify_edges
 from layout.units import pitch_from_rise, rise_from_pitch, slope_length_factor
 
 RECT = [(0.0, 0.0), (10.0, 0.0), (10.0, 4.0), (0.0, 4.0)]

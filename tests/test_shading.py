@@ -11,8 +11,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from layout.errors import InputError
-from layout.obstructions import Block, Cylinder, HorizonProfile, Plate, Tree
-from layout.roof import RoofFace
+from layout.scene.obstructions import Block, Cylinder, HorizonProfile, Plate, Tree
+from layout.scene.roof import RoofFace
+from layout.scene.site import Site
 from layout.shading import (
     RAY_START_M,
     ShadeCache,
@@ -26,8 +27,7 @@ from layout.shading import (
     shaded,
     transmitted,
 )
-from layout.site import Site
-from layout.sun import solar_position, sun_vectors
+from layout.sky.sun import solar_position, sun_vectors
 
 
 def direction(azimuth_deg, elevation_deg):
@@ -399,7 +399,7 @@ YEAR_SITE = Site(40.0, -105.0, "America/Denver", 1600.0)
 
 @pytest.fixture(scope="module")
 def year_sun():
-    from layout.sun import sun_above_horizon, typical_year_index
+    from layout.sky.sun import sun_above_horizon, typical_year_index
 
     return sun_above_horizon(YEAR_SITE, typical_year_index(YEAR_SITE))
 
@@ -435,7 +435,7 @@ def test_rows_match_pvlib_shaded_fraction1d(year_sun, tilt, pitch):
 
 
 def test_module_never_shades_itself_and_face_never_shades_points_on_it():
-    # self-shading rule (layout.obstructions): points in a plate's own plane are never
+    # self-shading rule (layout.scene.obstructions): points in a plate's own plane are never
     # shaded by it, whatever the sun (also from behind); points off the plane are.
     face = RoofFace([(0, 0), (10, 0), (10, 6), (0, 6)], 30.0, 180.0, 3.0, name="south")
     plate = Plate.from_face(face)
@@ -534,7 +534,7 @@ def shapely_free_points(plate, n):
 
 # ------------------------------------------------------------------ per-module beam shade
 def _rack_modules(spec, orientation, tilt, pitch, n_rows=3, n_cols=9):
-    from layout.placement import PlacedModule
+    from layout.fill.placement import PlacedModule
 
     slant, along = ((spec.length_m, spec.width_m) if orientation == "portrait"
                     else (spec.width_m, spec.length_m))
@@ -561,7 +561,7 @@ def test_module_shade_by_substring_matches_pvlib_rows():
     # substrings run along the length, so a shadow along the lower edge hits all three alike;
     # landscape: it reaches substring 0 only while it covers under a third of the slant
     # (PlacedModule.cell_points; common practice: 3 bypass diodes, one per third).
-    from layout.modules import generic_60_cell
+    from layout.scene.modules import generic_60_cell
 
     spec = generic_60_cell(330.0)
     tilt, pitch = 20.0, 2.4
@@ -592,7 +592,7 @@ def test_module_shade_by_substring_matches_pvlib_rows():
 def test_module_shade_cache_and_trees():
     # the cached path equals the direct one; moving one obstruction recomputes only it; a
     # deciduous crown (Heisler 1986 via the preset) counts by its transmittance.
-    from layout.modules import generic_60_cell
+    from layout.scene.modules import generic_60_cell
 
     spec = generic_60_cell(330.0)
     mods = _rack_modules(spec, "portrait", 20.0, 2.4, n_rows=2, n_cols=3)

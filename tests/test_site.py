@@ -1,4 +1,4 @@
-"""Tests for layout.site: the Site and its time zone.
+"""Tests for layout.scene.site: the Site and its time zone.
 
 Outside references used here:
 - the IANA time zone database (through the standard library's zoneinfo): America/Denver keeps
@@ -14,7 +14,7 @@ import zoneinfo
 import pytest
 
 from layout.errors import InputError
-from layout.site import Site, parse_timezone
+from layout.scene.site import Site, parse_timezone
 
 SPA_SITE = dict(latitude=39.742476, longitude=-105.1786, timezone="UTC-07:00",
                 altitude_m=1830.14, name="NREL SPA example")

@@ -4,12 +4,12 @@ import numpy as np
 import pytest
 import trimesh
 
-from layout.energy import sky_view_ratio
 from layout.errors import InputError
-from layout.obstructions import Block, Cylinder, HorizonProfile, Plate, Tree
-from layout.placement import PlacedModule
+from layout.fill.placement import PlacedModule
+from layout.power.energy import sky_view_ratio
+from layout.scene.obstructions import Block, Cylinder, HorizonProfile, Plate, Tree
 from layout.shading import RAY_START_M
-from layout.skyview import (
+from layout.shading.skyview import (
     SkyViewCache,
     hemisphere_directions,
     module_sky_view,

@@ -6,8 +6,8 @@ import pvlib
 import pytest
 
 from layout.errors import InputError
-from layout.site import Site
-from layout.sun import (
+from layout.scene.site import Site
+from layout.sky.sun import (
     solar_position,
     sun_above_horizon,
     sun_vectors,

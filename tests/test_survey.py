@@ -12,9 +12,8 @@ from hypothesis import strategies as st
 from scipy import stats
 
 from layout.errors import InputError
-from layout.obstructions import OBSTRUCTION_KINDS, Block, Cylinder, Tree
-from layout.shading import shaded
-from layout.survey import (
+from layout.scene.obstructions import OBSTRUCTION_KINDS, Block, Cylinder, Tree
+from layout.scene.survey import (
     ANGLE_TOLERANCE_DEG,
     BEARING_TOLERANCE_DEG,
     BLOCK_KINDS,
@@ -50,6 +49,7 @@ from layout.survey import (
     survey_table,
     true_bearing,
 )
+from layout.shading import shaded
 from layout.units import FOOT_M, feet_to_m, m_to_feet
 
 DATA = Path(__file__).parent / "data"
@@ -593,7 +593,7 @@ def test_entries_from_typed_frame():
 def test_a_tree_on_a_bank_keeps_its_foot():
     # Tangent method with a base angle (REFERENCES.md, forestry mensuration): the tree's foot
     # stands d·tan(θ_base) + eye height above the station's ground.
-    from layout.survey import SurveyEntry
+    from layout.scene.survey import SurveyEntry
 
     entry = SurveyEntry("tree", 180.0, 20.0, 30.0, base_angle_deg=5.0, eye_height_m=1.6,
                         crown_radius_m=3.0, crown_base_m=3.0)

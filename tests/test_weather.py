@@ -1,4 +1,4 @@
-"""Tests of layout.weather against pvlib's shipped weather files and pvlib's own functions."""
+"""Tests of layout.sky.weather against pvlib's shipped weather files and pvlib's own functions."""
 
 from __future__ import annotations
 
@@ -11,8 +11,8 @@ import pvlib
 import pytest
 
 from layout.errors import InputError
-from layout.site import Site
-from layout.weather import (
+from layout.scene.site import Site
+from layout.sky.weather import (
     CLEAR_SKY_CAVEAT,
     LABEL_SHIFT,
     Weather,

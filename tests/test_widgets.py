@@ -16,9 +16,9 @@ import shapely
 from shapely.geometry import shape
 
 from layout import load_demo_project
-from layout.analysis import Analysis, evaluate
-from layout.compare import compare_layouts
 from layout.project import project_to_dict
+from layout.study.analysis import Analysis, evaluate
+from layout.study.compare import compare_layouts
 from layout.units import FOOT_M, INCH_M
 from widgets import Planner
 from widgets.__main__ import voila_command
@@ -787,7 +787,7 @@ WORKED_EXAMPLE = {
 
 
 def worked_entry():
-    from layout.survey import SurveyEntry
+    from layout.scene.survey import SurveyEntry
 
     return SurveyEntry("tree", 0.0, 50 * FOOT_M, 17.0, eye_height_m=5.5 * FOOT_M,
                        station_x_m=5.0, station_y_m=-21.24, crown_radius_m=10 * FOOT_M,
@@ -805,7 +805,7 @@ def shown_height_ft(panel) -> float:
 
 
 def test_survey_form_shows_the_worked_example_height():
-    from layout.survey import height_tangent
+    from layout.scene.survey import height_tangent
     from widgets.survey_panel import SurveyPanel
 
     panel = SurveyPanel()
@@ -827,10 +827,10 @@ def test_survey_form_shows_the_worked_example_height():
 
 
 def test_survey_tolerances_are_prefilled_with_the_cores_defaults():
-    from layout.survey import SurveyEntry
+    from layout.scene.survey import SurveyEntry
     from widgets.survey_panel import SurveyPanel, default_tolerance, read_angle
 
-    # bare readings get the core's documented defaults (layout.survey module notes); values
+    # bare readings get the core's documented defaults (layout.scene.survey module notes); values
     # large enough that no default is cut to half of its size
     tree = SurveyEntry("tree", 10.0, 20.0, 30.0, base_angle_deg=-3.0, crown_radius_m=4.0,
                        crown_base_m=3.0)
@@ -946,7 +946,7 @@ def test_survey_csv_import_keeps_good_rows_and_lists_bad_ones(planner):
     import html as html_module
     from pathlib import Path
 
-    from layout.survey import read_survey_csv
+    from layout.scene.survey import read_survey_csv
 
     path = Path(__file__).parent / "data" / "survey_yard.csv"
     entries, problems = read_survey_csv(path)  # the core's own reading of the file
@@ -966,7 +966,7 @@ def test_survey_csv_import_keeps_good_rows_and_lists_bad_ones(planner):
 
 
 def test_loss_band_is_the_cores_for_the_same_seed(planner, reference):
-    from layout.outlook import shade_loss_range
+    from layout.study.outlook import shade_loss_range
 
     assert planner.range_button.disabled  # the demo has no survey
     type_readings(planner.survey, WORKED_EXAMPLE)

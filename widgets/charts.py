@@ -1,7 +1,7 @@
 """Charts of the side panel: the month × hour heat map of shade loss.
 
-The heat map draws :meth:`layout.analysis.Evaluation.module_month_hour` (one module) or
-:attr:`layout.analysis.Evaluation.month_hour` (the whole layout) on the same single-hue scale
+The heat map draws :meth:`layout.study.analysis.Evaluation.module_month_hour` (one module) or
+:attr:`layout.study.analysis.Evaluation.month_hour` (the whole layout) on the same single-hue scale
 as the plan (:data:`widgets.style.FIGURE_SCALE`), with a labelled colour bar. Hours in which the
 sun is never up in any month are left out; the remaining cells without a figure (the sun below
 the horizon in that month) are drawn in a neutral grey that is not on the scale.
@@ -67,7 +67,7 @@ class HoursHeatMap(w.VBox):
         Parameters
         ----------
         table : pandas.DataFrame
-            As :func:`layout.metrics.month_hour_loss` returns it.
+            As :func:`layout.power.metrics.month_hour_loss` returns it.
         what : str
             What the table is of ("module south/r0c3", "the whole layout"), for the title.
         """

@@ -21,7 +21,7 @@ import ipywidgets as w
 import numpy as np
 
 from layout.errors import InputError
-from layout.obstructions import (
+from layout.scene.obstructions import (
     CROWN_SHAPES,
     OBSTRUCTION_KINDS,
     Block,

@@ -1,11 +1,11 @@
 """The planner: one project, one analysis, the plan beside a side panel, files and cautions.
 
-:class:`Planner` owns a :class:`layout.project.Project` and one :class:`layout.analysis.
+:class:`Planner` owns a :class:`layout.project.Project` and one :class:`layout.study.analysis.
 Analysis` of it. Every gesture becomes a new project (projects never change in place): a
 dropped obstruction marker, a click on a module, an accepted form. The planner hands it to
-:meth:`layout.analysis.Analysis.update`, which recomputes only what the edit touched, and
-redraws from :attr:`layout.analysis.Analysis.result`. Nothing here computes geometry or physics
-of its own.
+:meth:`layout.study.analysis.Analysis.update`, which recomputes only what the edit touched, and
+redraws from :attr:`layout.study.analysis.Analysis.result`. Nothing here computes geometry or
+physics of its own.
 
 Side panel tabs
 ---------------
@@ -25,14 +25,14 @@ Hours
     Shade loss by month and hour for the selected module or the whole layout.
 Compare
     Portrait, landscape and mixed fills, each with and without its worst modules
-    (:func:`layout.compare.compare_layouts`), as a table and a bar chart.
+    (:func:`layout.study.compare.compare_layouts`), as a table and a bar chart.
 File
     Save and load the project; export the module table (CSV) and outlines (GeoJSON).
 
 Loss range
 ----------
 The **Loss range** button under the totals carries the tolerances of the survey readings to
-the annual shade loss (:func:`layout.outlook.shade_loss_range`, run on the planner's own
+the annual shade loss (:func:`layout.study.outlook.shade_loss_range`, run on the planner's own
 analysis, so each draw ray-tests only the surveyed obstructions): the 5th to 95th percentile
 band is shown beside the totals, and per module in the hover text and the selected module's
 readout, with the number of draws and the seed. It is kept until the project changes (a change
@@ -50,20 +50,20 @@ import bqplot as bq
 import ipywidgets as w
 import numpy as np
 
-from layout.analysis import Analysis
-from layout.clearance import (
+from layout.errors import InputError
+from layout.fill.clearance import (
     ClearanceRules,
     ifc_2015_residential,
     ifc_2021_residential,
     no_setbacks,
 )
-from layout.compare import compare_layouts
-from layout.energy import scene_casters
-from layout.errors import InputError
-from layout.outlook import DEFAULT_SAMPLES, percentile_label, shade_loss_range
-from layout.placement import FILL_ORIENTATIONS
+from layout.fill.placement import FILL_ORIENTATIONS
+from layout.power.energy import scene_casters
 from layout.project import FILE_SUFFIX, ProjectFileError, load_project, save_project
-from layout.sun import TYPICAL_YEAR
+from layout.sky.sun import TYPICAL_YEAR
+from layout.study.analysis import Analysis
+from layout.study.compare import compare_layouts
+from layout.study.outlook import DEFAULT_SAMPLES, percentile_label, shade_loss_range
 from layout.units import INCH_M
 
 from . import style
@@ -203,11 +203,11 @@ class Planner(w.VBox):
     ----------
     project : layout.project.Project
         The project shown now.
-    analysis : layout.analysis.Analysis
+    analysis : layout.study.analysis.Analysis
         The one analysis of the project; every edit goes through its ``update``.
-    array_layout : layout.placement.Layout
+    array_layout : layout.fill.placement.Layout
         Its modules as the core placed them (``analysis.result.layout``).
-    areas : dict of str to layout.clearance.UsableArea
+    areas : dict of str to layout.fill.clearance.UsableArea
         Usable area of each array face.
     selected_id : str or None
         The module shown in the Sky and Hours tabs.
@@ -403,7 +403,7 @@ class Planner(w.VBox):
 
     @property
     def result(self):
-        """The analysis's current :class:`layout.analysis.Evaluation`."""
+        """The analysis's current :class:`layout.study.analysis.Evaluation`."""
         return self.analysis.result
 
     def _progress(self, stage: str, done: int, total: int) -> None:
@@ -640,7 +640,7 @@ class Planner(w.VBox):
     def run_loss_range(self, *, samples: int | None = None, seed: int | None = ...):
         """Carry the survey tolerances to the shade loss and show the band.
 
-        Runs :func:`layout.outlook.shade_loss_range` on the planner's analysis (it is left
+        Runs :func:`layout.study.outlook.shade_loss_range` on the planner's analysis (it is left
         holding the project shown), with the progress line counting the draws.
 
         Parameters
@@ -652,7 +652,7 @@ class Planner(w.VBox):
 
         Returns
         -------
-        layout.outlook.ShadeLossRange or None
+        layout.study.outlook.ShadeLossRange or None
             None when the project has no survey or the core refused.
         """
         p = self.project

@@ -6,7 +6,7 @@ the far horizon hide from the module's centre, each in its own colour with its n
 path runs through a region, the module is shaded at that hour of that part of the year, and the
 region's name says by what.
 
-Both inputs come from the core: the sun's positions from :func:`layout.sun.solar_position` and
+Both inputs come from the core: the sun's positions from :func:`layout.sky.sun.solar_position` and
 the hidden sky from :func:`layout.shading.obstruction_hits`, ray-tested over a grid of
 directions (the same exact ray tests the energy model uses). Nothing here computes geometry or
 physics of its own; the grid cells are only gathered into outlines for drawing.
@@ -24,7 +24,7 @@ import pandas as pd
 import shapely
 
 from layout.shading import obstruction_hits
-from layout.sun import TYPICAL_YEAR, solar_position, sun_vectors
+from layout.sky.sun import TYPICAL_YEAR, solar_position, sun_vectors
 
 from . import style
 from .plan_view import polygon_rings
@@ -72,11 +72,11 @@ class SunPath:
 
 
 def sun_paths(site, *, year: int = TYPICAL_YEAR, step_minutes: int = 10) -> list[SunPath]:
-    """Sun paths of the 21st of every month at a site, from :func:`layout.sun.solar_position`.
+    """Sun paths of the 21st of every month at a site, from :func:`layout.sky.sun.solar_position`.
 
     Parameters
     ----------
-    site : layout.site.Site
+    site : layout.scene.site.Site
         The site.
     year : int, keyword-only
         Calendar year of the dates [year].
@@ -161,7 +161,7 @@ def skyline_regions(point, casters, *, azimuth_step_deg: float = 2.0,
     point : array_like, shape (3,)
         The point seen from (a module's centre), site frame [m].
     casters : sequence
-        Obstructions, roof plates and horizon profiles (:func:`layout.energy.scene_casters`).
+        Obstructions, roof plates and horizon profiles (:func:`layout.power.energy.scene_casters`).
     azimuth_step_deg, elevation_step_deg : float, keyword-only
         Grid spacing [degrees].
 
@@ -210,7 +210,7 @@ def monthly_html(monthly: pd.DataFrame, *, basis: str = "DC") -> str:
     Parameters
     ----------
     monthly : pandas.DataFrame
-        From :meth:`layout.analysis.Evaluation.module_monthly`: ``energy_kwh``,
+        From :meth:`layout.study.analysis.Evaluation.module_monthly`: ``energy_kwh``,
         ``energy_unshaded_kwh``, ``shade_loss_pct`` by month 1-12.
     basis : str, keyword-only
         ``"AC"`` or ``"DC"``, shown in the heading.
@@ -282,16 +282,16 @@ class SkyChart(w.HBox):
 
         Parameters
         ----------
-        site : layout.site.Site
+        site : layout.scene.site.Site
             For the sun's paths.
         casters : sequence
-            Everything that can shade the module (:func:`layout.energy.scene_casters`).
+            Everything that can shade the module (:func:`layout.power.energy.scene_casters`).
         point : array_like, shape (3,)
             The module's centre, site frame [m].
         module_id : str
             Shown in the title.
         monthly : pandas.DataFrame
-            The module's monthly figures (:meth:`layout.analysis.Evaluation.module_monthly`).
+            The module's monthly figures (:meth:`layout.study.analysis.Evaluation.module_monthly`).
         year : int, keyword-only
             Calendar year of the sun paths.
         basis : str, keyword-only

@@ -2,10 +2,10 @@
 
 A surveyor stands at a known point (the *station*), sights an obstruction with a compass,
 measures a distance with a tape or a laser and reads elevation angles with a clinometer
-(:mod:`layout.survey` states every reading's meaning and sign). This panel takes the readings
+(:mod:`layout.scene.survey` states every reading's meaning and sign). This panel takes the readings
 of one obstruction at a time, each with its tolerance pre-filled with the default that
-:mod:`layout.survey` documents, lets :class:`layout.survey.SurveyEntry` check them, and shows
-the height the core computes, with its range over the tolerances. A valid entry is handed to
+:mod:`layout.scene.survey` documents, lets :class:`layout.scene.survey.SurveyEntry` check them, and
+shows the height the core computes, with its range over the tolerances. A valid entry is handed to
 the owner at once (the planner puts it in ``Project.survey``, and the obstruction appears on
 the plan). A bad value gets its message beside its field and nothing is handed on, so the last
 valid survey stays in force; a refused field keeps the text the user typed.
@@ -14,7 +14,7 @@ Lengths are typed in the project's units (:func:`widgets.forms.read_length`: a b
 metres in a metric project and feet in an imperial one, ``"50 ft"`` or ``"15.2 m"`` are read as
 written); angles in degrees, with or without ``°``. A tolerance box left as pre-filled gives
 the reading the core's default tolerance for its value (a default never exceeds half of a
-size, so a 5 cm vent radius gets ±2.5 cm, :mod:`layout.survey`); a tolerance typed over it is
+size, so a 5 cm vent radius gets ±2.5 cm, :mod:`layout.scene.survey`); a tolerance typed over it is
 used as typed.
 """
 
@@ -28,7 +28,7 @@ from pathlib import Path
 import ipywidgets as w
 
 from layout.errors import InputError
-from layout.survey import (
+from layout.scene.survey import (
     BLOCK_KINDS,
     CYLINDER_KINDS,
     DEFAULT_EYE_HEIGHT_M,
@@ -163,7 +163,7 @@ class ReadingRow(w.HBox):
     Parameters
     ----------
     key : str
-        The reading's field name, as :class:`layout.survey.SurveyEntry` names it.
+        The reading's field name, as :class:`layout.scene.survey.SurveyEntry` names it.
     description : str
         Label shown to the user.
     """
@@ -195,7 +195,7 @@ class SurveyPanel(Quiet, w.VBox):
     """Type, list, edit, delete and import the survey readings of a project.
 
     Show a survey with :meth:`show`. Every accepted edit calls the callbacks registered with
-    :meth:`on_change` with the new tuple of :class:`layout.survey.SurveyEntry` and the index
+    :meth:`on_change` with the new tuple of :class:`layout.scene.survey.SurveyEntry` and the index
     of the entry to keep selected (None after a delete); a callback returns False when its
     owner refused the survey (the form then keeps what was typed and says so).
 
@@ -290,7 +290,7 @@ class SurveyPanel(Quiet, w.VBox):
             w.HTML(heading("Surveyed obstructions")), self.list_html,
             w.HTML(heading("Import readings")),
             w.HTML("<div style='font-size:12px;color:#5d6b6a'>One row per obstruction, "
-                   "columns as in <code>layout.survey.SURVEY_COLUMNS</code> (required: kind, "
+                   "columns as in <code>layout.scene.survey.SURVEY_COLUMNS</code> (required: kind, "
                    "bearing_deg, distance_m, top_angle_deg). Good rows are added; each bad "
                    "row is listed with its row number and column.</div>"),
             w.HBox([self.csv_path, self.import_button], layout=w.Layout(align_items="center")),
@@ -421,7 +421,7 @@ class SurveyPanel(Quiet, w.VBox):
         -------
         entries : list of SurveyEntry
             The rows added.
-        problems : list of layout.survey.SurveyProblem
+        problems : list of layout.scene.survey.SurveyProblem
             The rows refused, with row number (header = row 1) and column.
         """
         text = str(path if path is not None else self.csv_path.value).strip()

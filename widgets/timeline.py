@@ -1,10 +1,10 @@
 """One timeline control, and the shadows on the roof faces at the moment it names.
 
 The control has a button for each solstice and equinox, a clock slider and a play button. At
-the chosen moment the sun's position comes from :func:`layout.sun.solar_position`, and the
+the chosen moment the sun's position comes from :func:`layout.sky.sun.solar_position`, and the
 shadows are found with the core's exact ray test, :func:`layout.shading.shaded`, on a fine grid
-of points lying on the roof faces (lifted with :meth:`layout.roof.RoofFace.plan_to_3d`): a grid
-cell is drawn dark when the ray from its centre toward the sun meets an obstruction or another
+of points lying on the roof faces (lifted with :meth:`layout.scene.roof.RoofFace.plan_to_3d`): a
+grid cell is drawn dark when the ray from its centre toward the sun meets an obstruction or another
 roof face. Nothing here computes geometry of its own; the shaded cells are only merged into
 outlines for drawing.
 """
@@ -19,9 +19,9 @@ import numpy as np
 import pandas as pd
 import shapely
 
-from layout.energy import scene_casters
+from layout.power.energy import scene_casters
 from layout.shading import shaded
-from layout.sun import TYPICAL_YEAR, solar_position, sun_vectors
+from layout.sky.sun import TYPICAL_YEAR, solar_position, sun_vectors
 
 __all__ = ["KEY_DAYS", "Shadows", "Timeline", "roof_shadows"]
 

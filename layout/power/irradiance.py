@@ -7,7 +7,7 @@ Steps
    ``diffuse_components=True``) splits the plane-of-array irradiance into beam
    (``poa_direct``), circumsolar, isotropic and horizon-band sky diffuse, and
    ground-reflected (``poa_ground_diffuse``) [W/m²]. The sun, the extraterrestrial DNI and the
-   airmass come from :class:`layout.weather.Weather`, computed there once per site.
+   airmass come from :class:`layout.sky.weather.Weather`, computed there once per site.
 2. **Shade, per component** (``f`` is the beam shaded fraction of a cell, 0 to 1, tree
    transmittance included; ``s`` is the module's sky-view ratio, 0 to 1):
 
@@ -73,8 +73,8 @@ import numpy as np
 import pandas as pd
 import pvlib
 
-from .errors import InputError, check_range
-from .weather import Weather
+from ..errors import InputError, check_range
+from ..sky.weather import Weather
 
 __all__ = [
     "IAM_MODELS",
@@ -121,7 +121,7 @@ def plane_of_array(weather: Weather, surface_tilt: float, surface_azimuth: float
 
     Parameters
     ----------
-    weather : layout.weather.Weather
+    weather : layout.sky.weather.Weather
         Irradiance, albedo and the sun (computed once per site).
     surface_tilt : float
         Tilt of the plane from horizontal [degrees], 0 to 90.
@@ -139,7 +139,7 @@ def plane_of_array(weather: Weather, surface_tilt: float, surface_azimuth: float
         and ``aoi`` [degrees].
     """
     if not isinstance(weather, Weather):
-        raise InputError("weather", "must be a layout.weather.Weather",
+        raise InputError("weather", "must be a layout.sky.weather.Weather",
                          value=type(weather).__name__)
     tilt = _check_angle("surface_tilt", surface_tilt, 0.0, 90.0)
     azimuth = _check_angle("surface_azimuth", surface_azimuth, 0.0, 360.0)
@@ -173,7 +173,7 @@ def plane_insolation(weather: Weather, surface_tilt, surface_azimuth, *,
 
     Parameters
     ----------
-    weather : layout.weather.Weather
+    weather : layout.sky.weather.Weather
     surface_tilt, surface_azimuth : array_like, shape (K,)
         The planes [degrees]: tilt 0 to 90, azimuth 0 to 360.
     model : {"perez", "haydavies", "isotropic"}, keyword-only, default "perez"
@@ -184,7 +184,7 @@ def plane_insolation(weather: Weather, surface_tilt, surface_azimuth, *,
         Insolation of each plane over the weather's period [kWh/m²].
     """
     if not isinstance(weather, Weather):
-        raise InputError("weather", "must be a layout.weather.Weather",
+        raise InputError("weather", "must be a layout.sky.weather.Weather",
                          value=type(weather).__name__)
     tilt = np.atleast_1d(np.asarray(surface_tilt, dtype=float))
     azimuth = np.atleast_1d(np.asarray(surface_azimuth, dtype=float))
@@ -453,7 +453,7 @@ def plane_components(weather: Weather, surface_tilt: float, surface_azimuth: flo
 
     Parameters
     ----------
-    weather : layout.weather.Weather
+    weather : layout.sky.weather.Weather
     surface_tilt, surface_azimuth : float
         The plane [degrees].
     model, iam_model : str
@@ -493,14 +493,14 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
 
     Parameters
     ----------
-    weather : layout.weather.Weather
+    weather : layout.sky.weather.Weather
         Weather and sun of the site.
     surface_tilt, surface_azimuth : array_like, shape (M,)
         Plane of each module [degrees] (e.g. :attr:`PlacedModule.tilt_deg`, ``azimuth_deg``).
     beam_shaded : array_like, shape (T, M, K), keyword-only, optional
         Beam shaded fraction per cell (or per substring) [fraction]; T is every step of the
         weather or only its sun-up steps (``weather.solar_position["sun_up"]``, the same steps
-        as :func:`layout.sun.sun_above_horizon`). Default: no beam shade, one cell per
+        as :func:`layout.sky.sun.sun_above_horizon`). Default: no beam shade, one cell per
         substring.
     shade_rows : tuple, keyword-only, optional
         The same fractions held only at the steps that have shade, instead of
@@ -532,7 +532,7 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
     ModuleIrradiance
     """
     if not isinstance(weather, Weather):
-        raise InputError("weather", "must be a layout.weather.Weather",
+        raise InputError("weather", "must be a layout.sky.weather.Weather",
                          value=type(weather).__name__)
     model = _check_model(model)
     if mount not in MOUNTS:

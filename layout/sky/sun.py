@@ -25,8 +25,8 @@ import numpy as np
 import pandas as pd
 import pvlib
 
-from .errors import InputError, check_range
-from .site import Site
+from ..errors import InputError, check_range
+from ..scene.site import Site
 
 __all__ = [
     "SunSample",
@@ -56,7 +56,7 @@ def solar_position(site: Site, times, *, temperature: float = 12.0, pressure: fl
 
     Parameters
     ----------
-    site : layout.site.Site
+    site : layout.scene.site.Site
         Latitude, longitude and altitude of the site.
     times : pandas.DatetimeIndex
         Tz-aware times at which to take the sun (the middle of each interval for interval data).
@@ -78,7 +78,7 @@ def solar_position(site: Site, times, *, temperature: float = 12.0, pressure: fl
     """
     times = _check_times(times)
     if not isinstance(site, Site):
-        raise InputError("site", "must be a layout.site.Site", value=type(site).__name__)
+        raise InputError("site", "must be a layout.scene.site.Site", value=type(site).__name__)
     temperature = check_range("temperature", temperature, -90, 60, unit="°C")
     if pressure is None:
         pressure = float(pvlib.atmosphere.alt2pres(site.altitude_m))
@@ -106,7 +106,7 @@ def typical_year_index(site: Site, step_minutes: int = 60, *,
 
     Parameters
     ----------
-    site : layout.site.Site
+    site : layout.scene.site.Site
         Gives the time zone.
     step_minutes : int, default 60
         Length of each interval [minutes]; must divide a day (e.g. 60, 30, 15, 10, 5, 1).
@@ -201,7 +201,7 @@ def sun_above_horizon(site: Site, times, **kwargs) -> SunSample:
 
     Parameters
     ----------
-    site : layout.site.Site
+    site : layout.scene.site.Site
         The site.
     times : pandas.DatetimeIndex
         Tz-aware times (mid-interval for interval data), e.g. from :func:`typical_year_index`.

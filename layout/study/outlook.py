@@ -1,12 +1,12 @@
 """Shade loss as a range and over the years: survey tolerances, tree growth, leaves.
 
 Three questions a surveyor's numbers leave open, answered through one
-:class:`layout.analysis.Analysis` that is kept across the evaluations, so that each one only
+:class:`layout.study.analysis.Analysis` that is kept across the evaluations, so that each one only
 ray-tests the obstructions that changed:
 
 :func:`shade_loss_range`
     How much do the tolerances of the field readings move the annual shade loss? The surveyed
-    obstructions are drawn from their tolerances (:func:`layout.survey.sample_obstructions`),
+    obstructions are drawn from their tolerances (:func:`layout.scene.survey.sample_obstructions`),
     every draw is evaluated, and the percentiles per module and in total are reported with the
     sample count, the seed and the sampling error of the percentiles.
 :func:`growth_outlook`
@@ -31,7 +31,7 @@ and its document would lose the readings, so it is never saved in place of the p
 Year convention
 ---------------
 Operating year ``y`` (1 = the first year after the survey) is evaluated with every tree as it
-stands ``y`` years after the survey (:func:`layout.survey.grown_tree`, each tree's own
+stands ``y`` years after the survey (:func:`layout.scene.survey.grown_tree`, each tree's own
 ``growth_m_per_yr``), held for the whole year: a conservative choice by half a year of growth.
 Year 0 is the scene as surveyed. Module degradation is not modelled unless asked for
 (``degradation_pct_per_yr``, off by default).
@@ -46,15 +46,15 @@ from dataclasses import dataclass, replace
 import numpy as np
 import pandas as pd
 
-from .analysis import Analysis
-from .errors import InputError, check_fields, check_range
-from .obstructions import Tree
-from .survey import (
+from ..errors import InputError, check_fields, check_range
+from ..scene.obstructions import Tree
+from ..scene.survey import (
     PROJECTION_YEARS,
     SYSTEM_LIFE_YEARS,
     grown_tree,
     sample_obstructions,
 )
+from .analysis import Analysis
 
 __all__ = [
     "DEFAULT_CONFIDENCE",
@@ -163,7 +163,7 @@ def with_surveyed(project, surveyed=None):
     project : layout.project.Project
     surveyed : sequence or None
         One obstruction per survey entry, in the order of ``project.survey`` (a draw from
-        :func:`layout.survey.sample_obstructions`); None takes the nominal ones.
+        :func:`layout.scene.survey.sample_obstructions`); None takes the nominal ones.
 
     Returns
     -------
@@ -197,8 +197,8 @@ def _check_year(field: str, year) -> int:
 def project_at_year(project, year: int, *, widen_crown: bool = True, surveyed=None):
     """Return the project as it stands ``year`` years after the survey.
 
-    Every :class:`~layout.obstructions.Tree` of the scene, surveyed or entered, grows by its
-    own ``growth_m_per_yr`` (:func:`layout.survey.grown_tree`); other obstructions stay.
+    Every :class:`~layout.scene.obstructions.Tree` of the scene, surveyed or entered, grows by its
+    own ``growth_m_per_yr`` (:func:`layout.scene.survey.grown_tree`); other obstructions stay.
 
     Parameters
     ----------
@@ -227,9 +227,9 @@ def sampled_projects(project, samples: int = DEFAULT_SAMPLES, *, seed: int | Non
                      widen_crown: bool = True) -> list:
     """Return the projects of ``samples`` draws of the survey readings.
 
-    The draws are those of :func:`layout.survey.loss_range` with the same seed: one generator
+    The draws are those of :func:`layout.scene.survey.loss_range` with the same seed: one generator
     ``numpy.random.default_rng(seed)`` serves every entry in order
-    (:func:`layout.survey.sample_obstructions`).
+    (:func:`layout.scene.survey.sample_obstructions`).
 
     Parameters
     ----------
@@ -240,7 +240,7 @@ def sampled_projects(project, samples: int = DEFAULT_SAMPLES, *, seed: int | Non
     seed : int or None, keyword-only, default 0
         Seed of the generator.
     distribution : {"normal", "uniform"}, keyword-only
-        As in :meth:`layout.survey.SurveyEntry.sample_readings`.
+        As in :meth:`layout.scene.survey.SurveyEntry.sample_readings`.
     year : int, keyword-only, default 0
         Years of tree growth applied to every draw (:func:`project_at_year`).
     widen_crown : bool, keyword-only, default True
@@ -467,7 +467,7 @@ def shade_loss_range(project, *, samples: int = DEFAULT_SAMPLES, seed: int | Non
 
     Draws ``samples`` sets of surveyed obstructions from the readings' tolerances
     (:func:`sampled_projects`), evaluates each through one
-    :class:`~layout.analysis.Analysis` (only the surveyed obstructions change, so only they
+    :class:`~layout.study.analysis.Analysis` (only the surveyed obstructions change, so only they
     are ray-tested again), and reports percentiles per module and in total.
 
     Parameters
@@ -481,14 +481,14 @@ def shade_loss_range(project, *, samples: int = DEFAULT_SAMPLES, seed: int | Non
     percentiles : sequence of float, keyword-only, default (5, 95)
         Percentiles to report [%], 0 to 100.
     distribution : {"normal", "uniform"}, keyword-only, default "normal"
-        As in :meth:`layout.survey.SurveyEntry.sample_readings`.
+        As in :meth:`layout.scene.survey.SurveyEntry.sample_readings`.
     confidence : float, keyword-only, default 0.9
         Confidence level of each percentile's sampling-error interval [fraction].
     year : int, keyword-only, default 0
         Years of tree growth applied to the nominal scene and to every draw.
     widen_crown : bool, keyword-only, default True
         As in :func:`project_at_year`.
-    analysis : layout.analysis.Analysis or None, keyword-only
+    analysis : layout.study.analysis.Analysis or None, keyword-only
         An analysis to reuse (the planner's); it is left holding ``project`` (at ``year``).
         None builds one.
     base_dir : str or os.PathLike, keyword-only, optional
@@ -654,7 +654,7 @@ def growth_outlook(project, *, years: Sequence[int] = PROJECTION_YEARS,
     """Project the shade loss over the system's life as every tree grows at its own rate.
 
     Every year from 0 (as surveyed) to ``max(life_years, max(years))`` is evaluated through
-    one :class:`~layout.analysis.Analysis` (:func:`project_at_year`; only the growing trees
+    one :class:`~layout.study.analysis.Analysis` (:func:`project_at_year`; only the growing trees
     are ray-tested again each year, so no interpolation between years is needed). Trees
     without a growth rate, and every other obstruction, stay as they are. Year ``y`` uses the
     trees grown ``y`` years (module notes).
@@ -667,7 +667,7 @@ def growth_outlook(project, *, years: Sequence[int] = PROJECTION_YEARS,
     life_years : int, keyword-only, default 25
         Life of the system [years], 1 to 100 (common practice: the power warranty).
     widen_crown : bool, keyword-only, default True
-        Crowns widen in proportion to the height (:func:`layout.survey.grown_tree`).
+        Crowns widen in proportion to the height (:func:`layout.scene.survey.grown_tree`).
         With False the spheroid crown keeps its radius and base, so it grows slimmer near
         its base, and the loss in some hours can fall as the tree grows.
     degradation_pct_per_yr : float, keyword-only, default 0
@@ -675,7 +675,7 @@ def growth_outlook(project, *, years: Sequence[int] = PROJECTION_YEARS,
         ``1 - rate · (y - 1)`` of year 1, as power warranties are written (common practice:
         about 0.5 %/yr). It scales energy and energy lost alike; the shade loss in percent
         does not change. 0 (the default) leaves degradation out.
-    analysis : layout.analysis.Analysis or None, keyword-only
+    analysis : layout.study.analysis.Analysis or None, keyword-only
         An analysis to reuse; it is left holding ``project`` as surveyed. None builds one.
     base_dir : str or os.PathLike, keyword-only, optional
         Folder a relative weather file is read from, when ``analysis`` is None.
@@ -809,10 +809,10 @@ def _loss_pct(energy, unshaded) -> float:
 def leaf_effect(project, *, analysis=None, base_dir=None) -> LeafEffect:
     """Compare the loss month by month with see-through crowns as modelled, opaque and clear.
 
-    A see-through crown is a :class:`~layout.obstructions.Tree` with a ``transmittance``
-    (a deciduous tree: :meth:`~layout.obstructions.Tree.deciduous`, 0.2 in leaf and 0.6
+    A see-through crown is a :class:`~layout.scene.obstructions.Tree` with a ``transmittance``
+    (a deciduous tree: :meth:`~layout.scene.obstructions.Tree.deciduous`, 0.2 in leaf and 0.6
     leafless after Heisler 1986). Three evaluations through one
-    :class:`~layout.analysis.Analysis`: as modelled, with those crowns opaque all year (the
+    :class:`~layout.study.analysis.Analysis`: as modelled, with those crowns opaque all year (the
     counterfactual of treating deciduous trees as evergreen), and with them fully
     transparent (their trunks still cast shade). Every other obstruction is unchanged.
 
@@ -820,7 +820,7 @@ def leaf_effect(project, *, analysis=None, base_dir=None) -> LeafEffect:
     ----------
     project : layout.project.Project
         With at least one see-through crown, entered or surveyed.
-    analysis : layout.analysis.Analysis or None, keyword-only
+    analysis : layout.study.analysis.Analysis or None, keyword-only
         An analysis to reuse; it is left holding ``project``. None builds one.
     base_dir : str or os.PathLike, keyword-only, optional
         Folder a relative weather file is read from, when ``analysis`` is None.

@@ -16,9 +16,9 @@ transposition model, which this one generalises.
 What counts as sky
 ------------------
 A direction reaches the sky when it is above the skyline and meets no solid obstruction
-(:class:`~layout.obstructions.Block`, :class:`~layout.obstructions.Cylinder`,
-:class:`~layout.obstructions.Tree`, :class:`~layout.obstructions.Plate`). The skyline is the
-highest :class:`~layout.obstructions.HorizonProfile` at the direction's azimuth, or the
+(:class:`~layout.scene.obstructions.Block`, :class:`~layout.scene.obstructions.Cylinder`,
+:class:`~layout.scene.obstructions.Tree`, :class:`~layout.scene.obstructions.Plate`). The skyline is
+the highest :class:`~layout.scene.obstructions.HorizonProfile` at the direction's azimuth, or the
 horizontal (elevation 0, the ground) when there is none. A tree crown counts as opaque here
 (its transmittance is a beam quantity; diffuse through crowns is left out, a conservative
 choice).
@@ -48,9 +48,9 @@ import math
 
 import numpy as np
 
-from .errors import InputError, check_points, check_positive
-from .obstructions import HorizonProfile, Plate
-from .shading import (
+from ..errors import InputError, check_points, check_positive
+from ..scene.obstructions import HorizonProfile, Plate
+from . import (
     DEFAULT_MAX_PAIRS,
     RAY_START_M,
     ShadeCache,
@@ -197,7 +197,7 @@ def module_sky_view(modules, obstructions, *, grid: int = 3, include_modules: bo
 
     Parameters
     ----------
-    modules : sequence of layout.placement.PlacedModule
+    modules : sequence of layout.fill.placement.PlacedModule
         The modules; their ``corners_3d`` give the points and their ``normal`` the front.
     obstructions : sequence of Block, Cylinder, Tree, Plate or HorizonProfile
         The scene, roof faces of the building included (as plates).
@@ -227,7 +227,7 @@ class SkyViewCache:
 
     Parameters
     ----------
-    modules : sequence of layout.placement.PlacedModule
+    modules : sequence of layout.fill.placement.PlacedModule
     grid : int, keyword-only, default 3
     n_directions, ray_start, max_pairs
         As in :func:`module_sky_view`.

@@ -3,7 +3,7 @@
 A surveyor does not know how tall a tree is. They stand at a known point (the *station*),
 sight the object with a compass, measure a distance with a tape or a laser rangefinder, and
 read elevation angles with a clinometer. This module turns those readings into the
-obstructions of :mod:`layout.obstructions`, keeps each reading's tolerance, draws obstruction
+obstructions of :mod:`layout.scene.obstructions`, keeps each reading's tolerance, draws obstruction
 sets from the tolerances for uncertainty ranges, and projects tree growth over the years.
 
 Frame and sign conventions
@@ -94,9 +94,9 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from .errors import InputError, check_fields, check_finite, check_range
+from ..errors import InputError, check_fields, check_finite, check_range
+from ..units import FOOT_M, INCH_M, parse_length
 from .obstructions import CROWN_SHAPES, Block, Cylinder, Tree
-from .units import FOOT_M, INCH_M, parse_length
 
 __all__ = [
     "ANGLE_TOLERANCE_DEG",
@@ -185,9 +185,9 @@ GROWTH_CLASS_LIMITS_M_PER_YR = (1.0 * FOOT_M, 2.0 * FOOT_M)
 GROWTH_CLASS_RATES_M_PER_YR = {"slow": 6.0 * INCH_M, "medium": 18.0 * INCH_M,
                                "fast": 30.0 * INCH_M}
 
-#: Survey kinds built as a :class:`layout.obstructions.Block` (a rectangle in plan).
+#: Survey kinds built as a :class:`layout.scene.obstructions.Block` (a rectangle in plan).
 BLOCK_KINDS = ("chimney", "wall", "building", "dormer", "block", "other")
-#: Survey kinds built as a :class:`layout.obstructions.Cylinder`.
+#: Survey kinds built as a :class:`layout.scene.obstructions.Cylinder`.
 CYLINDER_KINDS = ("pole", "vent", "pipe")
 #: Every kind a survey entry may have.
 SURVEY_KINDS = ("tree", *BLOCK_KINDS, *CYLINDER_KINDS)
@@ -636,9 +636,9 @@ class SurveyEntry:
     Parameters
     ----------
     kind : str
-        One of :data:`SURVEY_KINDS`: ``"tree"`` builds a :class:`~layout.obstructions.Tree`,
-        :data:`BLOCK_KINDS` a :class:`~layout.obstructions.Block` (a rectangle in plan),
-        :data:`CYLINDER_KINDS` a :class:`~layout.obstructions.Cylinder`.
+        One of :data:`SURVEY_KINDS`: ``"tree"`` builds a :class:`~layout.scene.obstructions.Tree`,
+        :data:`BLOCK_KINDS` a :class:`~layout.scene.obstructions.Block` (a rectangle in plan),
+        :data:`CYLINDER_KINDS` a :class:`~layout.scene.obstructions.Cylinder`.
     bearing_deg : Reading or float
         Compass bearing from the station to the object's axis [degrees], 0 to below 360.
     distance_m : Reading or float
@@ -668,7 +668,7 @@ class SurveyEntry:
         Tree only: trunk radius [m]; None uses the Tree default (0.2 m).
     crown_shape : {"spheroid", "cone"}, keyword-only, default "spheroid"
         Tree only: a rounded broadleaf crown, or a conifer's cone from the crown base to the
-        top (:class:`~layout.obstructions.Tree`).
+        top (:class:`~layout.scene.obstructions.Tree`).
     mature_height_m : float or None, keyword-only
         Tree only: height it does not grow past [m] (``Tree.mature_height_m``); None: no cap.
     deciduous : bool, keyword-only
@@ -696,7 +696,7 @@ class SurveyEntry:
     Notes
     -----
     Blocks and cylinders keep the site-frame heights of their top and foot. A
-    :class:`~layout.obstructions.Tree` always stands at z = 0, so a tree keeps its own height
+    :class:`~layout.scene.obstructions.Tree` always stands at z = 0, so a tree keeps its own height
     (foot to top) but not the level of its foot: a tree on a bank above the house is placed
     as if it stood at z = 0.
     """
@@ -767,7 +767,7 @@ class SurveyEntry:
     # ----------------------------------------------------------------- validation
     @property
     def obstruction_type(self) -> type:
-        """The :mod:`layout.obstructions` class this entry builds."""
+        """The :mod:`layout.scene.obstructions` class this entry builds."""
         if self.kind == "tree":
             return Tree
         return Cylinder if self.kind in CYLINDER_KINDS else Block

@@ -1,6 +1,6 @@
 """One object that holds a project's computed state and recomputes only what an edit touched.
 
-:class:`Analysis` runs the stages of :mod:`layout.energy` for a project and keeps every
+:class:`Analysis` runs the stages of :mod:`layout.power.energy` for a project and keeps every
 intermediate result. :meth:`Analysis.update` takes the edited project and compares it with the
 one it holds:
 
@@ -29,12 +29,13 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from .clearance import roof_mounted
-from .electrical import DcPower, dc_power
-from .energy import SunSteps, load_weather, scene_casters, sky_view_ratio, sun_steps
-from .errors import InputError
-from .irradiance import ModuleIrradiance, module_irradiance
-from .metrics import (
+from ..errors import InputError
+from ..fill.clearance import roof_mounted
+from ..fill.placement import Layout, PlacedModule
+from ..power.electrical import DcPower, dc_power
+from ..power.energy import SunSteps, load_weather, scene_casters, sky_view_ratio, sun_steps
+from ..power.irradiance import ModuleIrradiance, module_irradiance
+from ..power.metrics import (
     BestOrientation,
     best_orientation,
     empty_module_table,
@@ -43,11 +44,10 @@ from .metrics import (
     month_hour_loss,
     monthly_table,
 )
-from .obstructions import Plate
-from .placement import Layout, PlacedModule
-from .shading import ModuleShade, ShadeCache, module_samples, module_shade
-from .skyview import SkyViewCache
-from .weather import Weather
+from ..scene.obstructions import Plate
+from ..shading import ModuleShade, ShadeCache, module_samples, module_shade
+from ..shading.skyview import SkyViewCache
+from ..sky.weather import Weather
 
 __all__ = ["Analysis", "Evaluation", "evaluate"]
 
@@ -60,27 +60,27 @@ class Evaluation:
     ----------
     project : layout.project.Project
         The project evaluated.
-    layout : layout.placement.Layout
+    layout : layout.fill.placement.Layout
         The fill, removed modules included.
-    areas : dict of str to layout.clearance.UsableArea
+    areas : dict of str to layout.fill.clearance.UsableArea
         Usable area of each array face.
     modules : tuple of PlacedModule
         The active modules, in the row order of :attr:`table` and the column order of the
         arrays below.
-    weather : layout.weather.Weather
+    weather : layout.sky.weather.Weather
         Weather of the evaluation; its ``caveat`` says what clear sky means for shade loss.
-    best : layout.metrics.BestOrientation
+    best : layout.power.metrics.BestOrientation
         Best unshaded plane at the site (for TOF).
     shade : layout.shading.ModuleShade or None
         Beam shaded fraction per sun-up step, module, cell and substring.
     sky_view : numpy.ndarray, shape (M,)
         Sky-view ratio of each module (1 = open sky).
-    irradiance : layout.irradiance.ModuleIrradiance or None
-    power : layout.electrical.DcPower or None
+    irradiance : layout.power.irradiance.ModuleIrradiance or None
+    power : layout.power.electrical.DcPower or None
     table : pandas.DataFrame
-        Per-module figures (:func:`layout.metrics.module_table`).
+        Per-module figures (:func:`layout.power.metrics.module_table`).
     totals : dict
-        Layout totals (:func:`layout.metrics.layout_totals`).
+        Layout totals (:func:`layout.power.metrics.layout_totals`).
     monthly : pandas.DataFrame
         Energy and shade loss by month.
     month_hour : pandas.DataFrame

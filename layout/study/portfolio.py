@@ -2,7 +2,7 @@
 
 A portfolio is a folder of project files (``*.eaveline.json``, searched recursively) or a CSV
 file with a ``path`` column. :func:`run_portfolio` evaluates every project with
-:class:`layout.analysis.Analysis` and writes one summary table, a row per project, and on
+:class:`layout.study.analysis.Analysis` and writes one summary table, a row per project, and on
 request the per-module tables of all projects, as Parquet or CSV.
 
 How the work is split
@@ -10,10 +10,11 @@ How the work is split
 The weather and the sun path of a site (clear sky or a weather file) and the best unshaded
 plane at the site take about a second; the rest of a small roof takes a few tenths. Projects are
 therefore grouped by what decides their weather (site, weather file, time step), each group is
-cut into chunks, and a chunk is one task. A worker keeps one :class:`~layout.analysis.Analysis`
-per weather group it has seen and brings it to each next project of the group with
-:meth:`~layout.analysis.Analysis.update`, which reuses the weather and recomputes the rest; so a
-site's weather is computed at most once per worker, not once per project.
+cut into chunks, and a chunk is one task. A worker keeps one
+:class:`~layout.study.analysis.Analysis` per weather group it has seen and brings it to each next
+project of the group with :meth:`~layout.study.analysis.Analysis.update`, which reuses the weather
+and recomputes the rest; so a site's weather is computed at most once per worker, not once per
+project.
 
 Failures and restarts
 ---------------------
@@ -60,8 +61,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .errors import InputError
-from .project import FILE_SUFFIX, load_project
+from ..errors import InputError
+from ..project import FILE_SUFFIX, load_project
 
 try:  # the cache below is a Dask worker plugin when Dask is there; serial runs need no Dask
     from distributed import WorkerPlugin as _PluginBase
@@ -731,13 +732,13 @@ def synthetic_portfolio(n_projects: int, *, seed: int = 0, n_sites: int | None =
     -------
     list of layout.project.Project
     """
-    from .building import gable_roof, hip_roof
-    from .clearance import ifc_2021_residential
-    from .energy import EnergyOptions
-    from .modules import generic_60_cell
-    from .obstructions import Block, Tree
-    from .project import Project
-    from .site import Site
+    from ..fill.clearance import ifc_2021_residential
+    from ..power.energy import EnergyOptions
+    from ..project import Project
+    from ..scene.building import gable_roof, hip_roof
+    from ..scene.modules import generic_60_cell
+    from ..scene.obstructions import Block, Tree
+    from ..scene.site import Site
 
     if isinstance(n_projects, bool) or not isinstance(n_projects, int) or n_projects < 1:
         raise InputError("n_projects", "must be a whole number of at least 1", value=n_projects)
@@ -837,7 +838,7 @@ def write_synthetic_portfolio(folder, n_projects: int, *, seed: int = 0,
     list of pathlib.Path
         The files written, in project order.
     """
-    from .project import save_project
+    from ..project import save_project
 
     folder = Path(folder)
     return [save_project(project, folder / f"synthetic-{n:05d}{FILE_SUFFIX}")

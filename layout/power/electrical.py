@@ -70,9 +70,9 @@ import numpy as np
 import pandas as pd
 import pvlib
 
-from .errors import InputError, check_range
+from ..errors import InputError, check_range
+from ..scene.modules import ModuleSpec
 from .irradiance import ModuleIrradiance
-from .modules import ModuleSpec
 
 __all__ = [
     "DEFAULT_GAMMA_PDC",
@@ -205,7 +205,7 @@ def assign_strings(modules, *, max_length: int = DEFAULT_MAX_STRING_LENGTH
 
     Parameters
     ----------
-    modules : sequence of layout.placement.PlacedModule
+    modules : sequence of layout.fill.placement.PlacedModule
         The active modules.
     max_length : int, keyword-only, default 12
         Most modules in one string.
@@ -466,14 +466,14 @@ def dc_power(irradiance: ModuleIrradiance, spec: ModuleSpec,
 
     Parameters
     ----------
-    irradiance : layout.irradiance.ModuleIrradiance
+    irradiance : layout.power.irradiance.ModuleIrradiance
         Irradiance and temperatures of M modules.
-    spec : layout.modules.ModuleSpec
+    spec : layout.scene.modules.ModuleSpec
         The module: ``power_w`` is PVWatts' ``pdc0``; ``bypass_diodes`` must match the
         substrings of ``irradiance``.
     options : ElectricalOptions, optional
         Shade model and parameters; default ``ElectricalOptions()`` (module-level).
-    modules : sequence of layout.placement.PlacedModule, keyword-only, optional
+    modules : sequence of layout.fill.placement.PlacedModule, keyword-only, optional
         The M modules in column order: their ids, and rows for automatic strings.
     module_ids : sequence of str, keyword-only, optional
         Ids of the M modules when ``modules`` is not given (user strings only).
@@ -484,10 +484,10 @@ def dc_power(irradiance: ModuleIrradiance, spec: ModuleSpec,
     """
     options = options or ElectricalOptions()
     if not isinstance(irradiance, ModuleIrradiance):
-        raise InputError("irradiance", "must be a layout.irradiance.ModuleIrradiance",
+        raise InputError("irradiance", "must be a layout.power.irradiance.ModuleIrradiance",
                          value=type(irradiance).__name__)
     if not isinstance(spec, ModuleSpec):
-        raise InputError("spec", "must be a layout.modules.ModuleSpec",
+        raise InputError("spec", "must be a layout.scene.modules.ModuleSpec",
                          value=type(spec).__name__)
     n_modules = irradiance.effective.shape[1]
     if modules is not None:

@@ -7,7 +7,7 @@ import re
 import zoneinfo
 from dataclasses import dataclass
 
-from .errors import InputError, check_fields, check_range
+from ..errors import InputError, check_fields, check_range
 
 __all__ = ["Site", "parse_timezone"]
 

@@ -26,8 +26,9 @@ import math
 import numpy as np
 import shapely
 
-from .errors import InputError, check_positive, check_range
-from .modules import ModuleSpec
+from ..errors import InputError, check_positive, check_range
+from ..scene.modules import ModuleSpec
+from ..scene.roof import RoofFace
 from .placement import (
     ORIENTATIONS,
     ROW_MODES,
@@ -36,7 +37,6 @@ from .placement import (
     _number_rows,
     pack_rectangles,
 )
-from .roof import RoofFace
 
 __all__ = [
     "SOLSTICE_DECLINATION_DEG",
@@ -223,7 +223,7 @@ def fill_racks(face: RoofFace, usable, module: ModuleSpec, *, tilt_deg: float,
         Height of each module's lower edge above the highest roof point under its footprint
         [m].
     rows : {"grid", "sliding"}, default "sliding"
-        Row mode, as in :class:`layout.placement.FillOptions`.
+        Row mode, as in :class:`layout.fill.placement.FillOptions`.
     offset_steps : int, default 8
         Offsets tried per pitch on each axis.
 

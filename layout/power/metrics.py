@@ -30,9 +30,9 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from .errors import InputError, check_nonnegative, check_range
+from ..errors import InputError, check_nonnegative, check_range
+from ..sky.weather import Weather
 from .irradiance import plane_insolation, plane_of_array
-from .weather import Weather
 
 __all__ = [
     "COMPARISON_COLUMNS",
@@ -87,21 +87,21 @@ def best_orientation(weather: Weather, *, model: str = "perez") -> BestOrientati
     A coarse scan (tilt every 10°, azimuth every 30° over the equator-facing half) picks the
     start; then 5 × 5 grids of ever finer spacing, each centred on the best plane so far,
     refine it to about 0.05° in tilt and 0.1° in azimuth. Every grid is one vectorised call
-    of pvlib's transposition (:func:`layout.irradiance.plane_insolation`).
+    of pvlib's transposition (:func:`layout.power.irradiance.plane_insolation`).
 
     Parameters
     ----------
-    weather : layout.weather.Weather
+    weather : layout.sky.weather.Weather
         Weather and sun of the site.
     model : str, keyword-only, default "perez"
-        Sky diffuse model, as in :func:`layout.irradiance.plane_of_array`.
+        Sky diffuse model, as in :func:`layout.power.irradiance.plane_of_array`.
 
     Returns
     -------
     BestOrientation
     """
     if not isinstance(weather, Weather):
-        raise InputError("weather", "must be a layout.weather.Weather",
+        raise InputError("weather", "must be a layout.sky.weather.Weather",
                          value=type(weather).__name__)
     equator = 180.0 if weather.site.latitude >= 0 else 0.0
     tilts, azimuths = np.meshgrid(np.arange(0.0, 81.0, 10.0),
@@ -162,11 +162,11 @@ def module_table(power, irradiance, modules, *, step_minutes: float,
 
     Parameters
     ----------
-    power : layout.electrical.DcPower
+    power : layout.power.electrical.DcPower
         Power per step and module, with and without shade.
-    irradiance : layout.irradiance.ModuleIrradiance
+    irradiance : layout.power.irradiance.ModuleIrradiance
         Plane-of-array irradiance per step and module, with and without shade.
-    modules : sequence of layout.placement.PlacedModule
+    modules : sequence of layout.fill.placement.PlacedModule
         The modules, in the column order of ``power`` and ``irradiance``.
     step_minutes : float, keyword-only
         Length of a step [minutes].
@@ -177,7 +177,7 @@ def module_table(power, irradiance, modules, *, step_minutes: float,
     -------
     pandas.DataFrame
         Indexed by module id: ``face``, ``row``, ``column`` (counted from the eave and from
-        the left, as :class:`~layout.placement.PlacedModule` numbers them), ``orientation``,
+        the left, as :class:`~layout.fill.placement.PlacedModule` numbers them), ``orientation``,
         ``surface_tilt``,
         ``surface_azimuth`` [degrees], ``energy_kwh``, ``energy_unshaded_kwh``,
         ``shade_loss_pct``, ``poa_kwh_m2``, ``poa_unshaded_kwh_m2``, ``solar_access_pct``,
@@ -298,7 +298,7 @@ def monthly_table(power, *, step_minutes: float, columns=None) -> pd.DataFrame:
 
     Parameters
     ----------
-    power : layout.electrical.DcPower
+    power : layout.power.electrical.DcPower
         Power per step and module.
     step_minutes : float, keyword-only
         Length of a step [minutes].
@@ -329,7 +329,7 @@ def month_hour_loss(power, *, columns=None) -> pd.DataFrame:
 
     Parameters
     ----------
-    power : layout.electrical.DcPower
+    power : layout.power.electrical.DcPower
         Power per step and module.
     columns : array_like of int or bool, keyword-only, optional
         Modules to include; default all.

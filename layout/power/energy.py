@@ -9,11 +9,11 @@ The stages run in this order, each a plain function of the one before:
    by the shading engine, which never lets a module shade itself.
 4. beam shade per cell (:func:`layout.shading.module_shade`) and the sky-view ratio per
    module (:func:`sky_view_ratio`).
-5. irradiance with shade per component (:func:`layout.irradiance.module_irradiance`) and power
-   with the chosen bypass-diode model (:func:`layout.electrical.dc_power`).
-6. tables (:mod:`layout.metrics`).
+5. irradiance with shade per component (:func:`layout.power.irradiance.module_irradiance`) and power
+   with the chosen bypass-diode model (:func:`layout.power.electrical.dc_power`).
+6. tables (:mod:`layout.power.metrics`).
 
-:class:`layout.analysis.Analysis` runs these stages and keeps each result, so that an edit
+:class:`layout.study.analysis.Analysis` runs these stages and keeps each result, so that an edit
 recomputes only the stages it touches.
 """
 
@@ -25,15 +25,15 @@ from pathlib import Path
 
 import numpy as np
 
+from ..errors import InputError, check_fields, check_range
+from ..scene.obstructions import Plate
+from ..scene.site import Site
+from ..shading.skyview import SkyViewCache
+from ..sky.sun import sun_vectors
+from ..sky.weather import Weather, clear_sky, read_weather_file
 from .electrical import ElectricalOptions
-from .errors import InputError, check_fields, check_range
 from .irradiance import IAM_MODELS, MOUNTS, SKY_MODELS
 from .metrics import DEFAULT_TSRF_THRESHOLD_PCT
-from .obstructions import Plate
-from .site import Site
-from .skyview import SkyViewCache
-from .sun import sun_vectors
-from .weather import Weather, clear_sky, read_weather_file
 
 __all__ = [
     "EnergyOptions",
@@ -66,7 +66,7 @@ class EnergyOptions:
     iam_model : {"physical", "ashrae"} or None, default "physical"
         Incidence-angle loss model; None skips incidence-angle losses.
     mount : str, default "close_mount_glass_glass"
-        SAPM cell-temperature parameter set (:data:`layout.irradiance.MOUNTS`).
+        SAPM cell-temperature parameter set (:data:`layout.power.irradiance.MOUNTS`).
     electrical : ElectricalOptions
         Bypass-diode shade model, temperature coefficient, strings, inverter.
     samples_per_cell : int, default 1
@@ -152,7 +152,7 @@ def load_weather(site: Site, options: EnergyOptions, *, base_dir=None) -> Weathe
 
     Parameters
     ----------
-    site : layout.site.Site
+    site : layout.scene.site.Site
         The project's site. It overrides the file header's site (the weather values are used
         as they are; the weather's notes warn when the two are far apart).
     options : EnergyOptions
@@ -163,7 +163,7 @@ def load_weather(site: Site, options: EnergyOptions, *, base_dir=None) -> Weathe
 
     Returns
     -------
-    layout.weather.Weather
+    layout.sky.weather.Weather
     """
     if options.weather_file is None:
         return clear_sky(site, step_minutes=options.step_minutes)
@@ -199,7 +199,7 @@ def sun_steps(weather: Weather) -> SunSteps:
     """Take the sun-up steps of ``weather`` as vectors (the weather's own solar position).
 
     Using the weather's solar position keeps the ray-test steps identical to the steps
-    :func:`layout.irradiance.module_irradiance` expands sun-up arrays onto.
+    :func:`layout.power.irradiance.module_irradiance` expands sun-up arrays onto.
     """
     position = weather.solar_position
     up = position["sun_up"].to_numpy()
@@ -224,7 +224,7 @@ def scene_casters(project) -> tuple:
     Returns
     -------
     tuple
-        Obstructions, horizon profiles and :class:`~layout.obstructions.Plate` objects.
+        Obstructions, horizon profiles and :class:`~layout.scene.obstructions.Plate` objects.
     """
     faces = tuple(Plate.from_face(face) for face in project.faces)
     return tuple(project.scene_obstructions) + faces + parapet_walls(project)
@@ -243,7 +243,7 @@ def parapet_walls(project) -> tuple:
 
     Returns
     -------
-    tuple of layout.obstructions.Plate
+    tuple of layout.scene.obstructions.Plate
     """
     walls = []
     for building in project.buildings:
@@ -267,20 +267,20 @@ def sky_view_ratio(modules, casters, *, n_directions: int = 1024,
     """Sky-view ratio of each module: its isotropic sky with the scene over without.
 
     Both factors are integrated on the same fixed set of directions
-    (:func:`layout.skyview.module_sky_view`), so an open module has a ratio of exactly 1 and the
-    direction set's small sampling error cancels; the unobstructed factor of a plane tilted
+    (:func:`layout.shading.skyview.module_sky_view`), so an open module has a ratio of exactly 1 and
+    the direction set's small sampling error cancels; the unobstructed factor of a plane tilted
     ``β`` is ``(1 + cos β) / 2`` to within that error (view-factor algebra).
 
     Parameters
     ----------
-    modules : sequence of layout.placement.PlacedModule
+    modules : sequence of layout.fill.placement.PlacedModule
     casters : sequence
         As from :func:`scene_casters`.
     n_directions : int, keyword-only, default 1024
     include_modules : bool, keyword-only, default True
         Let the modules hide each other's sky (tilted racks); flush modules lie in their
         face's plane and cannot, so the caller may skip them.
-    cache : layout.skyview.SkyViewCache, keyword-only, optional
+    cache : layout.shading.skyview.SkyViewCache, keyword-only, optional
         A cache on the same ``modules`` and ``n_directions``, kept between calls so that only
         new or moved casters are ray-tested again.
 

@@ -2,7 +2,7 @@
 
 Every source ends up as one :class:`Weather`: a table of ``ghi``, ``dni``, ``dhi`` [W/m²],
 ``temp_air`` [°C], ``wind_speed`` [m/s] and ``albedo`` [fraction], indexed by **sun time**:
-the tz-aware middle of each interval, where the sun is taken (see :mod:`layout.sun`). The solar
+the tz-aware middle of each interval, where the sun is taken (see :mod:`layout.sky.sun`). The solar
 position at those times is computed once, here, and kept beside the table, so that clear sky,
 transposition and shading all use the same sun.
 
@@ -52,8 +52,8 @@ import numpy as np
 import pandas as pd
 import pvlib
 
-from .errors import InputError, check_range
-from .site import Site
+from ..errors import InputError, check_range
+from ..scene.site import Site
 from .sun import TYPICAL_YEAR, solar_position, typical_year_index
 
 __all__ = [
@@ -121,8 +121,8 @@ class Weather:
     solar_position : pandas.DataFrame
         Same index: ``apparent_zenith``, ``zenith``, ``apparent_elevation``, ``azimuth``
         [degrees], ``sun_up`` (bool), ``dni_extra`` [W/m²] and ``airmass_relative`` (NaN with
-        the sun down), from :func:`layout.sun.solar_position` and pvlib.
-    site : layout.site.Site
+        the sun down), from :func:`layout.sky.sun.solar_position` and pvlib.
+    site : layout.scene.site.Site
         The site the sun was computed for.
     source : str
         Where the data came from, for the report (``"clear sky (Ineichen)"`` or the file).
@@ -190,7 +190,7 @@ def clear_sky(site: Site, *, step_minutes: int = 60, year: int = TYPICAL_YEAR,
 
     Parameters
     ----------
-    site : layout.site.Site
+    site : layout.scene.site.Site
         The site; its altitude sets the pressure of the clear-sky model.
     step_minutes : int, keyword-only, default 60
         Interval length [minutes], a divisor of a day.
@@ -209,7 +209,7 @@ def clear_sky(site: Site, *, step_minutes: int = 60, year: int = TYPICAL_YEAR,
         ``is_clear_sky=True``; see :data:`CLEAR_SKY_CAVEAT`.
     """
     if not isinstance(site, Site):
-        raise InputError("site", "must be a layout.site.Site", value=type(site).__name__)
+        raise InputError("site", "must be a layout.scene.site.Site", value=type(site).__name__)
     temp_air = check_range("temp_air", temp_air, -60, 60, unit="°C")
     wind_speed = check_range("wind_speed", wind_speed, 0, 60, unit="m/s")
     albedo = check_range("albedo", albedo, 0, 1)
@@ -292,7 +292,7 @@ def read_weather_file(path, *, kind: str | None = None, site: Site | None = None
         The weather file.
     kind : {"tmy3", "tmy2", "epw"}, keyword-only, optional
         File format; default from the extension (``.csv`` TMY3, ``.tm2`` TMY2, ``.epw``).
-    site : layout.site.Site, keyword-only, optional
+    site : layout.scene.site.Site, keyword-only, optional
         Overrides the site of the file's header (latitude, longitude, altitude, zone). The
         weather values are used as they are; a note warns when the station is more than
         100 km away, and a station beyond :data:`MAX_STATION_DISTANCE_KM` is refused.
@@ -347,7 +347,7 @@ def read_weather_file(path, *, kind: str | None = None, site: Site | None = None
         site = file_site
     else:
         if not isinstance(site, Site):
-            raise InputError("site", "must be a layout.site.Site", value=type(site).__name__)
+            raise InputError("site", "must be a layout.scene.site.Site", value=type(site).__name__)
         distance_km = _distance_km(site, file_site)
         if distance_km > MAX_STATION_DISTANCE_KM:
             raise InputError(

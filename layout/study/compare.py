@@ -6,9 +6,9 @@ orientation (the fill options otherwise unchanged, the user's removals kept), ev
 fill, then drops the modules below the TSRF threshold (:func:`drop_worst`) and evaluates again,
 since under the string model removing a module changes the strings and so the other modules'
 energy. The rows of :attr:`Comparison.table` are built by
-:func:`layout.metrics.comparison_table` from each option's totals.
+:func:`layout.power.metrics.comparison_table` from each option's totals.
 
-All options are evaluated with one :class:`layout.analysis.Analysis`, so the weather, the sun
+All options are evaluated with one :class:`layout.study.analysis.Analysis`, so the weather, the sun
 path and the best-orientation search (the slowest part of a small evaluation) run once.
 
 "Drop the worst" removes, in one pass, every module that fails a limit in the evaluation it is
@@ -24,10 +24,10 @@ from dataclasses import dataclass, replace
 
 import pandas as pd
 
+from ..errors import InputError
+from ..fill.placement import FILL_ORIENTATIONS
+from ..power.metrics import comparison_table, worst_modules
 from .analysis import Analysis, Evaluation, evaluate
-from .errors import InputError
-from .metrics import comparison_table, worst_modules
-from .placement import FILL_ORIENTATIONS
 
 __all__ = [
     "COMPARED_ORIENTATIONS",
@@ -53,7 +53,7 @@ class Dropped:
     ----------
     project : layout.project.Project
         The project with the dropped modules added to its removals.
-    evaluation : layout.analysis.Evaluation
+    evaluation : layout.study.analysis.Evaluation
         A full evaluation of :attr:`project` (strings re-formed without the dropped modules).
     dropped : tuple of str
         Ids of the modules removed, in table order; empty when none failed a limit (then
@@ -70,7 +70,7 @@ class Dropped:
 
     @property
     def totals(self) -> dict:
-        """Totals without the dropped modules (:func:`layout.metrics.layout_totals`)."""
+        """Totals without the dropped modules (:func:`layout.power.metrics.layout_totals`)."""
         return self.evaluation.totals
 
 
@@ -90,7 +90,7 @@ def drop_worst(project, evaluation: Evaluation, *, min_tsrf_pct: float | None = 
     ----------
     project : layout.project.Project
         The project ``evaluation`` was computed for.
-    evaluation : layout.analysis.Evaluation
+    evaluation : layout.study.analysis.Evaluation
         Its evaluation; the limits are applied to :attr:`Evaluation.table`.
     min_tsrf_pct : float, keyword-only, optional
         Drop modules with TSRF below this [%], 0 to 100. When no limit is given at all, the
@@ -99,7 +99,7 @@ def drop_worst(project, evaluation: Evaluation, *, min_tsrf_pct: float | None = 
         Drop modules whose annual energy is below this [kWh].
     max_shade_loss_pct : float, keyword-only, optional
         Drop modules whose shade loss is above this [%], 0 to 100.
-    analysis : layout.analysis.Analysis, keyword-only, optional
+    analysis : layout.study.analysis.Analysis, keyword-only, optional
         An analysis to re-evaluate with (its weather is kept); it is left holding the returned
         project. Default: a fresh evaluation.
     base_dir : str or os.PathLike, keyword-only, optional
@@ -115,7 +115,7 @@ def drop_worst(project, evaluation: Evaluation, *, min_tsrf_pct: float | None = 
         If ``evaluation`` belongs to another project, or a limit is out of range.
     """
     if not isinstance(evaluation, Evaluation):
-        raise InputError("evaluation", "must be a layout.analysis.Evaluation",
+        raise InputError("evaluation", "must be a layout.study.analysis.Evaluation",
                          value=type(evaluation).__name__)
     if evaluation.project is not project and evaluation.project != project:
         raise InputError("evaluation", "was computed for another project",
@@ -146,7 +146,7 @@ class LayoutOption:
         Fill orientation: "portrait", "landscape" or "mixed".
     project : layout.project.Project
         The project refilled in this orientation (with the dropped modules removed).
-    evaluation : layout.analysis.Evaluation
+    evaluation : layout.study.analysis.Evaluation
     dropped : tuple of str
         Modules dropped as the worst (empty for the full fill).
     """
@@ -168,7 +168,7 @@ class Comparison:
         In row order.
     table : pandas.DataFrame
         Indexed by option name: ``orientation``, ``dropped`` (modules dropped as the worst),
-        then the columns of :func:`layout.metrics.comparison_table` (``modules``,
+        then the columns of :func:`layout.power.metrics.comparison_table` (``modules``,
         ``power_kwp``, ``energy_kwh``, ``specific_yield_kwh_per_kwp``, ``shade_loss_pct``,
         ``tsrf_mean_pct``, ``modules_below_tsrf``, ``energy_unshaded_kwh``,
         ``solar_access_mean_pct``). ``attrs``: ``tsrf_threshold_pct``, ``energy_basis``.
@@ -226,7 +226,7 @@ def compare_layouts(project, *, orientations: Sequence[str] = COMPARED_ORIENTATI
     min_tsrf_pct, min_energy_kwh, max_shade_loss_pct : float, keyword-only, optional
         Limits of "the worst", as in :func:`drop_worst` (default: TSRF below the project's
         ``energy.tsrf_threshold_pct``).
-    analysis : layout.analysis.Analysis, keyword-only, optional
+    analysis : layout.study.analysis.Analysis, keyword-only, optional
         An analysis to evaluate the options with (its weather is reused); it is brought back
         to the project it held before returning. Default: a new one.
     base_dir : str or os.PathLike, keyword-only, optional

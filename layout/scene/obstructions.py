@@ -53,7 +53,7 @@ from functools import cached_property
 import numpy as np
 import shapely
 
-from .errors import (
+from ..errors import (
     InputError,
     check_finite,
     check_outline,
@@ -361,7 +361,7 @@ class Tree:
         ``crown_base`` are measured from this foot.
     growth_m_per_yr : float, default 0
         How fast the tree grows taller [m/yr], 0 to 3; used to project its shade over the
-        system's life (:func:`layout.survey.grown_tree`). State forestry extension tables
+        system's life (:func:`layout.scene.survey.grown_tree`). State forestry extension tables
         class 0.30 m/yr or less as slow and 0.61 m/yr or more as fast (common practice).
     mature_height_m : float or None, default None
         Height the tree does not grow past [m], above 0 and up to 200 (what the surveyor
@@ -558,13 +558,13 @@ class Plate:
 
     @classmethod
     def from_face(cls, face, *, name: str | None = None) -> Plate:
-        """Build the plate of a roof face (:class:`layout.roof.RoofFace`), named after it."""
+        """Build the plate of a roof face (:class:`layout.scene.roof.RoofFace`), named after it."""
         return cls(np.asarray(face.corners_3d), kind="roof",
                    name=face.name if name is None else name)
 
     @classmethod
     def from_module(cls, module, *, name: str | None = None) -> Plate:
-        """Build the plate of a placed module (:class:`layout.placement.PlacedModule`)."""
+        """Build the plate of a placed module (:class:`layout.fill.placement.PlacedModule`)."""
         return cls(module.corners_3d, kind="module", name=module.id if name is None else name)
 
     @cached_property

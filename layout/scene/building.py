@@ -1,6 +1,6 @@
 """Buildings: named sets of roof faces, and builders for common roof shapes.
 
-A :class:`Building` is a set of :class:`~layout.roof.RoofFace` that belong to one roof: they
+A :class:`Building` is a set of :class:`~layout.scene.roof.RoofFace` that belong to one roof: they
 meet along shared edges and never overlap in plan. Its plan-view roof area (the union of the
 face outlines seen from above) is the area the fire code's 33 % rule divides by.
 
@@ -9,7 +9,7 @@ Builders
 Each builder takes a rectangular (or L-shaped) footprint in the building's own axes, a pitch in
 degrees (or ``rise_in_12=`` in the trade's notation) and the eave height, then places the
 building on the site with ``rotation_deg`` and ``origin`` (see
-:func:`layout.roof.building_to_site`). Building axes: ``a`` along the local x axis (the
+:func:`layout.scene.roof.building_to_site`). Building axes: ``a`` along the local x axis (the
 length), ``b`` along the local y axis (the width); the local origin is the corner at the lowest
 ``a`` and ``b``, which is the south-west corner of an unrotated building.
 
@@ -34,7 +34,7 @@ from functools import cached_property
 import numpy as np
 import shapely
 
-from .errors import (
+from ..errors import (
     InputError,
     check_fields,
     check_finite,
@@ -42,8 +42,8 @@ from .errors import (
     check_points,
     check_positive,
 )
+from ..units import pitch_from_rise
 from .roof import MAX_PITCH_DEG, RoofFace, building_to_site
-from .units import pitch_from_rise
 
 __all__ = [
     "Building",
@@ -332,7 +332,7 @@ def gable_roof(length_m, width_m, pitch_deg=None, eave_height_m=None, *, rise_in
         and north, with ``"y"`` toward local east and west.
     rotation_deg : float, default 0
         Compass direction of the building's local y axis [degrees]; see
-        :func:`layout.roof.building_to_site`.
+        :func:`layout.scene.roof.building_to_site`.
     origin : (float, float), default (0, 0)
         Site coordinates of the local origin corner [m].
     name : str, default ""

@@ -26,8 +26,15 @@ from functools import cached_property
 import numpy as np
 import shapely
 
-from .errors import InputError, check_fields, check_finite, check_outline, check_points, check_range
-from .units import pitch_from_rise
+from ..errors import (
+    InputError,
+    check_fields,
+    check_finite,
+    check_outline,
+    check_points,
+    check_range,
+)
+from ..units import pitch_from_rise
 
 __all__ = [
     "EDGE_KINDS",

@@ -2,8 +2,8 @@
 
 Frames
 ------
-Modules are placed in a face's roof-plane frame (see :mod:`layout.roof`): ``u`` along the eave,
-``v`` up the slope, both true lengths on the roof, ``u`` growing to the right for a viewer who
+Modules are placed in a face's roof-plane frame (see :mod:`layout.scene.roof`): ``u`` along the
+eave, ``v`` up the slope, both true lengths on the roof, ``u`` growing to the right for a viewer who
 stands downhill and faces uphill. A flush-mounted module is an axis-aligned rectangle
 ``(u_min, v_min, u_max, v_max)`` in that frame.
 
@@ -42,9 +42,9 @@ import numpy as np
 import pandas as pd
 import shapely
 
-from .errors import InputError, check_fields, check_finite, check_range
-from .modules import ModuleSpec
-from .roof import RoofFace
+from ..errors import InputError, check_fields, check_finite, check_range
+from ..scene.modules import ModuleSpec
+from ..scene.roof import RoofFace
 
 __all__ = [
     "FILL_ORIENTATIONS",
@@ -310,7 +310,7 @@ class FillOptions:
         Ground coverage ratio of the rack rows (module slant length over row pitch), more
         than 0 and at most 1; None spaces the rows by the no-shade window on the winter
         solstice, 9:00 to 15:00 solar time (common practice; see
-        :func:`layout.racking.row_pitch_no_shade_window`).
+        :func:`layout.fill.racking.row_pitch_no_shade_window`).
     """
 
     orientation: str = "portrait"
@@ -601,7 +601,7 @@ def fill_area(usable, module: ModuleSpec, options: FillOptions | None = None) ->
     ----------
     usable : shapely geometry or usable-area result
         Usable area in the face's roof-plane coordinates [m] (for instance
-        ``layout.clearance.usable_area(...).polygon``).
+        ``layout.fill.clearance.usable_area(...).polygon``).
     module : ModuleSpec
         The module to place.
     options : FillOptions, optional
@@ -939,7 +939,7 @@ def fill_building_with_areas(building, module: ModuleSpec, rules,
     -------
     layout : Layout
         As :func:`fill_building` returns it.
-    areas : dict of str to layout.clearance.UsableArea
+    areas : dict of str to layout.fill.clearance.UsableArea
         Usable area, zones and notes of each array face, as the fill used them (for drawing).
     """
     from .clearance import choose_pathway_faces, ridge_setback_in_force, usable_area
@@ -1055,11 +1055,11 @@ def fill_building(building, module: ModuleSpec, rules, options: FillOptions | No
 
     Parameters
     ----------
-    building : layout.building.Building
+    building : layout.scene.building.Building
         The roof faces.
     module : ModuleSpec
         The module.
-    rules : layout.clearance.ClearanceRules
+    rules : layout.fill.clearance.ClearanceRules
         Setbacks, clearances and pathways.
     options : FillOptions, optional
         Orientation, gaps and row mode; defaults to ``FillOptions()``.
@@ -1071,7 +1071,7 @@ def fill_building(building, module: ModuleSpec, rules, options: FillOptions | No
         faces of other buildings are ignored.
     pathway_faces : dict of str to int, optional
         Face name → edge index of each access pathway; None lets
-        :func:`layout.clearance.choose_pathway_faces` choose.
+        :func:`layout.fill.clearance.choose_pathway_faces` choose.
     latitude : float, optional
         Site latitude [degrees]; needed when the pathways are chosen automatically.
     array_faces : iterable of str, optional
@@ -1106,13 +1106,13 @@ def compare_orientations(target, module: ModuleSpec, *, usable=None, rules=None,
 
     Parameters
     ----------
-    target : RoofFace or layout.building.Building
+    target : RoofFace or layout.scene.building.Building
         One face, or a whole building (filled with :func:`fill_building`).
     module : ModuleSpec
         The module.
     usable : shapely geometry or usable-area result, optional
         For a face: its usable area. Give this or ``rules``.
-    rules : layout.clearance.ClearanceRules, optional
+    rules : layout.fill.clearance.ClearanceRules, optional
         Setback rules; required for a building.
     options : FillOptions, optional
         Gaps and search resolution; orientation and row mode are varied.

@@ -3,7 +3,7 @@
 Frame
 -----
 Site frame, metres: x east, y north, z up. ``points`` are (N, 3) positions in that frame,
-``sun`` is (T, 3) unit vectors toward the sun (see :func:`layout.sun.sun_vectors`). The ray of
+``sun`` is (T, 3) unit vectors toward the sun (see :func:`layout.sky.sun.sun_vectors`). The ray of
 point ``n`` at step ``t`` is ``points[n] + s · sun[t]`` for ``s >= ray_start``.
 
 Ray start convention
@@ -18,19 +18,19 @@ Method
 ------
 Every obstruction is tested exactly, in closed form, on numpy arrays:
 
-* :class:`~layout.obstructions.Block`: the footprint is split into convex parts (the footprint
+* :class:`~layout.scene.obstructions.Block`: the footprint is split into convex parts (the footprint
   itself if convex, otherwise a constrained Delaunay triangulation); each part with the two
   horizontal planes is a convex polyhedron, clipped against the ray by the Cyrus-Beck method [1].
-* :class:`~layout.obstructions.Cylinder` and a tree trunk: ray against a vertical circular
+* :class:`~layout.scene.obstructions.Cylinder` and a tree trunk: ray against a vertical circular
   cylinder (a quadratic in plan) intersected with the slab between base and top.
 * Tree crowns: ray against the spheroid (a sphere after scaling z) or the solid cone (a
   quadratic cone inequality intersected with the slab between crown base and apex).
-* :class:`~layout.obstructions.Plate` (a roof face, a module): ray against the plane, then the
+* :class:`~layout.scene.obstructions.Plate` (a roof face, a module): ray against the plane, then the
   hit point against the polygon's convex parts in the plane's own 2D frame (inclusive edges).
-  Points within :data:`~layout.obstructions.PLANE_TOLERANCE_M` of a plate's plane are never
-  shaded by it (the self-shading rule in :mod:`layout.obstructions`); they are dropped before
+  Points within :data:`~layout.scene.obstructions.PLANE_TOLERANCE_M` of a plate's plane are never
+  shaded by it (the self-shading rule in :mod:`layout.scene.obstructions`); they are dropped before
   any ray test, as are (point, sun) pairs whose sun lies on the point's own side of the plane.
-* :class:`~layout.obstructions.HorizonProfile`: the sun's elevation against the skyline at its
+* :class:`~layout.scene.obstructions.HorizonProfile`: the sun's elevation against the skyline at its
   azimuth; it shades every point alike.
 
 Culling: each solid lies inside a vertical prism over its plan convex hull (a circle for the
@@ -49,7 +49,7 @@ Per module
 ----------
 :func:`module_shade` ray-tests the cell sample points of placed modules (``PlacedModule.
 cell_points``) against the obstructions and, by default, against every module as a
-:class:`~layout.obstructions.Plate` (rows shade rows; a module never shades itself), and
+:class:`~layout.scene.obstructions.Plate` (rows shade rows; a module never shades itself), and
 returns the beam shaded fraction per (step, module, cell) and per (step, module, substring)
 as float32, tree crowns counted by their monthly transmittance. Hits stay sparse (step, point)
 lists per obstruction until they are summed per group in blocks of steps (64 MB dense at most),
@@ -74,8 +74,8 @@ from functools import cached_property
 import numpy as np
 import shapely
 
-from .errors import InputError, check_points, check_positive
-from .obstructions import PLANE_TOLERANCE_M, Block, Cylinder, HorizonProfile, Plate, Tree
+from ..errors import InputError, check_points, check_positive
+from ..scene.obstructions import PLANE_TOLERANCE_M, Block, Cylinder, HorizonProfile, Plate, Tree
 
 __all__ = [
     "RAY_START_M",
@@ -1285,7 +1285,7 @@ def transmitted(points, sun, obstructions, *, month=None, ray_start: float = RAY
     obstructions : sequence of Block, Cylinder, Tree, Plate or HorizonProfile
         The obstructions.
     month : array_like of int, shape (T,), keyword-only, optional
-        Calendar month (1-12) of each sun step, e.g. :attr:`layout.sun.SunSample.month`.
+        Calendar month (1-12) of each sun step, e.g. :attr:`layout.sky.sun.SunSample.month`.
         Needed when a tree has a transmittance.
     ray_start, max_pairs
         As in :func:`shaded`.
@@ -1519,9 +1519,9 @@ def module_samples(modules, spec, *, samples_per_cell: int = 1) -> ModuleSamples
 
     Parameters
     ----------
-    modules : sequence of layout.placement.PlacedModule
+    modules : sequence of layout.fill.placement.PlacedModule
         The modules, all of type ``spec``.
-    spec : layout.modules.ModuleSpec
+    spec : layout.scene.modules.ModuleSpec
         The module type; gives cells and substrings.
     samples_per_cell : int, keyword-only, default 1
         Points per cell, a perfect square (see ``PlacedModule.cell_points``).
@@ -1536,7 +1536,7 @@ def module_samples(modules, spec, *, samples_per_cell: int = 1) -> ModuleSamples
     for k, m in enumerate(modules):
         if not hasattr(m, "cell_points"):
             raise InputError(f"modules[{k}]", "is not a placed module", value=type(m).__name__,
-                             allowed="layout.placement.PlacedModule")
+                             allowed="layout.fill.placement.PlacedModule")
         p, c, s = m.cell_points(spec, samples_per_cell)
         pts.append(p)
         cell.append(c)
@@ -1633,21 +1633,21 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
 
     Parameters
     ----------
-    modules : sequence of layout.placement.PlacedModule
+    modules : sequence of layout.fill.placement.PlacedModule
         The modules, all of type ``spec``.
-    spec : layout.modules.ModuleSpec
+    spec : layout.scene.modules.ModuleSpec
         The module type.
     sun : array_like, shape (T, 3)
         Vectors toward the sun, site frame (e.g. ``SunSample.vectors``).
     obstructions : sequence of Block, Cylinder, Tree, Plate or HorizonProfile
         Everything that can shade the modules, roof faces of the building included (as
-        :class:`~layout.obstructions.Plate`).
+        :class:`~layout.scene.obstructions.Plate`).
     samples_per_cell : int, keyword-only, default 1
         Sample points per cell, a perfect square.
     month : array_like of int, shape (T,), keyword-only, optional
         Month (1-12) of each step; needed when a tree has a crown transmittance.
     include_modules : bool, keyword-only, default True
-        Add every module as a :class:`~layout.obstructions.Plate` caster, so rows shade rows.
+        Add every module as a :class:`~layout.scene.obstructions.Plate` caster, so rows shade rows.
         A module never shades itself (its points lie in its own plane).
     cache : ShadeCache, keyword-only, optional
         A cache built on ``module_samples(modules, spec, samples_per_cell=...)``'s points and

@@ -9,12 +9,12 @@
 What is modelled
 ----------------
 A :class:`ClearanceRules` object is plain, editable data: one setback distance per edge kind
-(eave, ridge, rake, hip, valley, wall, parapet; see :data:`layout.roof.EDGE_KINDS`), a larger
+(eave, ridge, rake, hip, valley, wall, parapet; see :data:`layout.scene.roof.EDGE_KINDS`), a larger
 ridge setback that takes over when the array covers more than a share of the plan-view roof
 area (the "33 % rule"), a clear ring around roof-mounted obstructions, access pathways from
 eave to ridge, and a pitch at or below which a face is exempt from the residential rules.
 
-:func:`usable_area` turns one :class:`layout.roof.RoofFace` and a rules object into the area
+:func:`usable_area` turns one :class:`layout.scene.roof.RoofFace` and a rules object into the area
 left for modules, in the face's roof-plane frame (``u`` along the eave, ``v`` up the slope,
 true lengths on the roof surface). Every distance is measured on the roof surface, so on a
 45° face an eave setback ``d`` covers a plan depth of ``d · cos 45°``.
@@ -42,9 +42,9 @@ import numpy as np
 import shapely
 from shapely.geometry import mapping, shape
 
-from .errors import InputError, check_fields, check_nonnegative, check_positive, check_range
-from .roof import EDGE_KINDS, MAX_PITCH_DEG
-from .units import FOOT_M, feet_to_m, inches_to_m, pitch_from_rise
+from ..errors import InputError, check_fields, check_nonnegative, check_positive, check_range
+from ..scene.roof import EDGE_KINDS, MAX_PITCH_DEG
+from ..units import FOOT_M, feet_to_m, inches_to_m, pitch_from_rise
 
 __all__ = [
     "ARC_SIDES",
@@ -141,7 +141,7 @@ class ClearanceRules:
         Short label shown to the user.
     edge_setback_m : mapping of str to float
         Clear distance from each edge kind [m], on the roof surface: one entry for every kind
-        in :data:`layout.roof.EDGE_KINDS`. The ``ridge`` entry is the ridge setback while the
+        in :data:`layout.scene.roof.EDGE_KINDS`. The ``ridge`` entry is the ridge setback while the
         array's share of the plan-view roof area is at or below ``share_threshold``.
     source : str, default ""
         Code edition and section the values follow, or where else they came from.
@@ -550,7 +550,7 @@ def roof_mounted(face, obstruction) -> bool:
 
     Parameters
     ----------
-    face : layout.roof.RoofFace
+    face : layout.scene.roof.RoofFace
     obstruction : object
         Anything with ``footprint_polygon`` (shapely polygon in plan, site frame [m]) and
         ``top`` [m]; ``base`` [m] is taken as 0 and ``kind`` as its class name when missing.
@@ -703,7 +703,7 @@ def usable_area(face, rules: ClearanceRules, obstructions: Iterable = (), *,
 
     Parameters
     ----------
-    face : layout.roof.RoofFace
+    face : layout.scene.roof.RoofFace
         The face.
     rules : ClearanceRules
         Setback rules.
@@ -818,7 +818,7 @@ def choose_pathway_faces(faces: Sequence, rules: ClearanceRules, *,
 
     Parameters
     ----------
-    faces : sequence of layout.roof.RoofFace
+    faces : sequence of layout.scene.roof.RoofFace
         All faces of the building, with unique names.
     rules : ClearanceRules
         Supplies ``pathway_count`` and the exemption.
@@ -868,7 +868,7 @@ def usable_areas(faces: Sequence, rules: ClearanceRules, obstructions: Iterable 
 
     Parameters
     ----------
-    faces : sequence of layout.roof.RoofFace
+    faces : sequence of layout.scene.roof.RoofFace
         All faces of the building, with unique names.
     rules : ClearanceRules
         Setback rules.

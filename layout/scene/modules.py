@@ -32,7 +32,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import InputError, check_fields, check_positive
+from ..errors import InputError, check_fields, check_positive
 
 __all__ = [
     "MAX_EFFICIENCY",
