@@ -27,7 +27,7 @@ from layout.fill.clearance import (
     no_setbacks,
     usable_area,
 )
-from layout.fill.placement import FillOptions, fill_face
+from layout.fill.faces import FillOptions, fill_face
 from layout.fill.racking import fill_racks, row_pitch_no_shade_window
 from layout.scene.building import flat_roof
 from layout.scene.modules import generic_60_cell

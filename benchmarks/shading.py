@@ -33,7 +33,7 @@ import time
 import numpy as np
 import shapely
 
-from layout.fill.placement import PlacedModule
+from layout.fill.placed import PlacedModule
 from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
 from layout.scene.modules import generic_60_cell
 from layout.scene.obstructions import Block, Cylinder, Plate, Tree

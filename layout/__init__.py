@@ -15,7 +15,9 @@ from .fill.clearance import (
     no_setbacks,
     usable_area,
 )
-from .fill.placement import FillOptions, Layout, PlacedModule, compare_orientations, fill_building
+from .fill.faces import FillOptions
+from .fill.placed import Layout, PlacedModule
+from .fill.placement import compare_orientations, fill_building
 from .project import Project, ProjectFileError, load_demo_project, load_project, save_project
 from .scene.building import (
     Building,

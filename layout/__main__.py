@@ -80,7 +80,8 @@ import numpy as np
 
 from .errors import InputError
 from .fill.clearance import CAUTION
-from .fill.placement import FILL_ORIENTATIONS, compare_orientations
+from .fill.faces import FILL_ORIENTATIONS
+from .fill.placement import compare_orientations
 from .power.electrical import SHADE_MODELS
 from .power.metrics import face_table
 from .project import Project, ProjectFileError, demo_project_path, load_project

@@ -21,7 +21,9 @@ from pathlib import Path
 
 from .errors import InputError
 from .fill.clearance import ClearanceRules, UsableArea
-from .fill.placement import FillOptions, Layout, fill_building_with_areas
+from .fill.faces import FillOptions
+from .fill.placed import Layout
+from .fill.placement import fill_building_with_areas
 from .power.energy import EnergyOptions
 from .scene.building import Building
 from .scene.modules import ModuleSpec
@@ -103,7 +105,8 @@ class Project:
         carried to the shade loss.
     removed : tuple
         Modules the user took out, as plain data understood by
-    :class:`layout.fill.placement.Layout`. pathways : dict or None
+        :class:`layout.fill.placed.Layout`.
+    pathways : dict or None
         Face name → edge index of each access pathway chosen by the user; None lets eaveline
         choose (:func:`layout.fill.clearance.choose_pathway_faces`).
     energy : EnergyOptions

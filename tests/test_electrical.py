@@ -12,7 +12,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from layout.errors import InputError
-from layout.fill.placement import FillOptions, fill_face
+from layout.fill.faces import FillOptions, fill_face
 from layout.power.electrical import (
     DEFAULT_GAMMA_PDC,
     ElectricalOptions,

@@ -11,17 +11,10 @@ from hypothesis import strategies as st
 
 from layout.errors import InputError
 from layout.fill.clearance import ClearanceRules, ifc_2021_residential, no_setbacks, usable_area
-from layout.fill.placement import (
-    FIT_TOLERANCE_M,
-    FillOptions,
-    Layout,
-    PlacedModule,
-    compare_orientations,
-    fill_area,
-    fill_building,
-    fill_face,
-    pack_rectangles,
-)
+from layout.fill.faces import FillOptions, fill_area, fill_face
+from layout.fill.packing import FIT_TOLERANCE_M, pack_rectangles
+from layout.fill.placed import Layout, PlacedModule
+from layout.fill.placement import compare_orientations, fill_building
 from layout.scene.building import Building, flat_roof, gable_roof, hip_roof
 from layout.scene.modules import ModuleSpec, generic_60_cell, generic_72_cell
 from layout.scene.roof import EDGE_KINDS, RoofFace

@@ -534,7 +534,7 @@ def shapely_free_points(plate, n):
 
 # ------------------------------------------------------------------ per-module beam shade
 def _rack_modules(spec, orientation, tilt, pitch, n_rows=3, n_cols=9):
-    from layout.fill.placement import PlacedModule
+    from layout.fill.placed import PlacedModule
 
     slant, along = ((spec.length_m, spec.width_m) if orientation == "portrait"
                     else (spec.width_m, spec.length_m))

@@ -5,7 +5,7 @@ import pytest
 import trimesh
 
 from layout.errors import InputError
-from layout.fill.placement import PlacedModule
+from layout.fill.placed import PlacedModule
 from layout.power.energy import sky_view_ratio
 from layout.scene.obstructions import Block, Cylinder, HorizonProfile, Plate, Tree
 from layout.shading import RAY_START_M

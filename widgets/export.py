@@ -1,6 +1,6 @@
 """Per-module exports: a table (CSV) and the module outlines (GeoJSON) in the site frame.
 
-Both describe the layout the core placed (:class:`layout.fill.placement.Layout`); nothing is
+Both describe the layout the core placed (:class:`layout.fill.placed.Layout`); nothing is
 recomputed here. Coordinates are the site frame of the project, metres, x east, y north, z up,
 with the origin wherever the user put it. That is not longitude and latitude: the GeoJSON file
 says so in its ``eaveline_frame`` member, and a GIS must place it with the site's own origin.
@@ -31,7 +31,7 @@ def module_table(layout, *, figures: pd.DataFrame | None = None) -> pd.DataFrame
 
     Parameters
     ----------
-    layout : layout.fill.placement.Layout
+    layout : layout.fill.placed.Layout
         The layout.
     figures : pandas.DataFrame, optional
         Per-module figures indexed by module id (annual energy, shade loss ...), joined on

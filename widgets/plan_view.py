@@ -139,7 +139,7 @@ def plan_scene(project, layout, areas: dict) -> PlanScene:
     ----------
     project : layout.project.Project
         The project drawn.
-    layout : layout.fill.placement.Layout
+    layout : layout.fill.placed.Layout
         Its modules and removals, as the core filled them.
     areas : dict of str to layout.fill.clearance.UsableArea
         Usable area of each array face, in roof-plane coordinates (mapped to plan here with

@@ -57,7 +57,7 @@ from layout.fill.clearance import (
     ifc_2021_residential,
     no_setbacks,
 )
-from layout.fill.placement import FILL_ORIENTATIONS
+from layout.fill.faces import FILL_ORIENTATIONS
 from layout.power.energy import scene_casters
 from layout.project import FILE_SUFFIX, ProjectFileError, load_project, save_project
 from layout.sky.sun import TYPICAL_YEAR
@@ -205,7 +205,7 @@ class Planner(w.VBox):
         The project shown now.
     analysis : layout.study.analysis.Analysis
         The one analysis of the project; every edit goes through its ``update``.
-    array_layout : layout.fill.placement.Layout
+    array_layout : layout.fill.placed.Layout
         Its modules as the core placed them (``analysis.result.layout``).
     areas : dict of str to layout.fill.clearance.UsableArea
         Usable area of each array face.

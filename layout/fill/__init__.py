@@ -1,7 +1,15 @@
-"""Where modules may go and where they go: usable area, flush fills, rack rows.
+"""Where modules may go and where they go: usable area, packing, flush fills, rack rows.
 
-The second stage of the flow. :mod:`.clearance` turns a face and the setback and clearance
-rules into its usable area; :mod:`.placement` fills pitched faces and holds the resulting
-:class:`~layout.fill.placement.Layout`; :mod:`.racking` lays tilted rows on flat faces. Uses
-only :mod:`layout.scene` below it.
+The second stage of the flow, in the order its modules build on one another:
+
+- :mod:`.clearance`: setback and clearance rules and code-edition presets; a face's usable area;
+- :mod:`.placed`: what a fill produces: :class:`~.placed.PlacedModule`, and
+  :class:`~.placed.Layout`, the placed modules of a building with the user's removals;
+- :mod:`.packing`: equal rectangles in a region, on a fine lattice, one grid or sliding rows;
+- :mod:`.faces`: :class:`~.faces.FillOptions`; filling one usable area or face, mixed orientation;
+- :mod:`.racking`: tilted rack rows on flat faces, row pitch from the GCR or the solstice window;
+- :mod:`.placement`: filling a whole building (the stage's entry point) and comparing the
+  orientations.
+
+Uses only :mod:`layout.scene` below it.
 """

@@ -29,14 +29,8 @@ import shapely
 from ..errors import InputError, check_positive, check_range
 from ..scene.modules import ModuleSpec
 from ..scene.roof import RoofFace
-from .placement import (
-    ORIENTATIONS,
-    ROW_MODES,
-    PlacedModule,
-    _as_geometry,
-    _number_rows,
-    pack_rectangles,
-)
+from .packing import ROW_MODES, as_region, number_rows, pack_rectangles
+from .placed import ORIENTATIONS, PlacedModule
 
 __all__ = [
     "SOLSTICE_DECLINATION_DEG",
@@ -223,7 +217,7 @@ def fill_racks(face: RoofFace, usable, module: ModuleSpec, *, tilt_deg: float,
         Height of each module's lower edge above the highest roof point under its footprint
         [m].
     rows : {"grid", "sliding"}, default "sliding"
-        Row mode, as in :class:`layout.fill.placement.FillOptions`.
+        Row mode, as in :class:`layout.fill.faces.FillOptions`.
     offset_steps : int, default 8
         Offsets tried per pitch on each axis.
 
@@ -251,7 +245,7 @@ def fill_racks(face: RoofFace, usable, module: ModuleSpec, *, tilt_deg: float,
         raise InputError("row_pitch_m", "is shorter than the depth of a tilted module, so rows "
                          "would overlap", value=row_pitch_m, allowed=f">= {depth:.3f} m")
 
-    region_uv = _as_geometry(usable)
+    region_uv = as_region(usable)
     if region_uv.is_empty:
         return ()
     axis_p, axis_q = _rack_axes(gamma)
@@ -261,7 +255,7 @@ def fill_racks(face: RoofFace, usable, module: ModuleSpec, *, tilt_deg: float,
                             rows=rows, offset_steps=offset_steps)
     if len(rects) == 0:
         return ()
-    order, row, column = _number_rows(rects)
+    order, row, column = number_rows(rects)
     rects = rects[order]
     pq = np.stack([rects[:, [0, 1]], rects[:, [2, 1]], rects[:, [2, 3]], rects[:, [0, 3]]],
                   axis=1)  # (n, 4, 2): lower left, lower right, upper right, upper left

@@ -205,7 +205,7 @@ def assign_strings(modules, *, max_length: int = DEFAULT_MAX_STRING_LENGTH
 
     Parameters
     ----------
-    modules : sequence of layout.fill.placement.PlacedModule
+    modules : sequence of layout.fill.placed.PlacedModule
         The active modules.
     max_length : int, keyword-only, default 12
         Most modules in one string.
@@ -473,7 +473,7 @@ def dc_power(irradiance: ModuleIrradiance, spec: ModuleSpec,
         substrings of ``irradiance``.
     options : ElectricalOptions, optional
         Shade model and parameters; default ``ElectricalOptions()`` (module-level).
-    modules : sequence of layout.fill.placement.PlacedModule, keyword-only, optional
+    modules : sequence of layout.fill.placed.PlacedModule, keyword-only, optional
         The M modules in column order: their ids, and rows for automatic strings.
     module_ids : sequence of str, keyword-only, optional
         Ids of the M modules when ``modules`` is not given (user strings only).

@@ -273,7 +273,7 @@ def sky_view_ratio(modules, casters, *, n_directions: int = 1024,
 
     Parameters
     ----------
-    modules : sequence of layout.fill.placement.PlacedModule
+    modules : sequence of layout.fill.placed.PlacedModule
     casters : sequence
         As from :func:`scene_casters`.
     n_directions : int, keyword-only, default 1024

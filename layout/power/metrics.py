@@ -166,7 +166,7 @@ def module_table(power, irradiance, modules, *, step_minutes: float,
         Power per step and module, with and without shade.
     irradiance : layout.power.irradiance.ModuleIrradiance
         Plane-of-array irradiance per step and module, with and without shade.
-    modules : sequence of layout.fill.placement.PlacedModule
+    modules : sequence of layout.fill.placed.PlacedModule
         The modules, in the column order of ``power`` and ``irradiance``.
     step_minutes : float, keyword-only
         Length of a step [minutes].
@@ -177,7 +177,7 @@ def module_table(power, irradiance, modules, *, step_minutes: float,
     -------
     pandas.DataFrame
         Indexed by module id: ``face``, ``row``, ``column`` (counted from the eave and from
-        the left, as :class:`~layout.fill.placement.PlacedModule` numbers them), ``orientation``,
+        the left, as :class:`~layout.fill.placed.PlacedModule` numbers them), ``orientation``,
         ``surface_tilt``,
         ``surface_azimuth`` [degrees], ``energy_kwh``, ``energy_unshaded_kwh``,
         ``shade_loss_pct``, ``poa_kwh_m2``, ``poa_unshaded_kwh_m2``, ``solar_access_pct``,

@@ -564,7 +564,7 @@ class Plate:
 
     @classmethod
     def from_module(cls, module, *, name: str | None = None) -> Plate:
-        """Build the plate of a placed module (:class:`layout.fill.placement.PlacedModule`)."""
+        """Build the plate of a placed module (:class:`layout.fill.placed.PlacedModule`)."""
         return cls(module.corners_3d, kind="module", name=module.id if name is None else name)
 
     @cached_property

@@ -31,7 +31,7 @@ import pandas as pd
 
 from ..errors import InputError
 from ..fill.clearance import roof_mounted
-from ..fill.placement import Layout, PlacedModule
+from ..fill.placed import Layout, PlacedModule
 from ..power.electrical import DcPower, dc_power
 from ..power.energy import SunSteps, load_weather, scene_casters, sky_view_ratio, sun_steps
 from ..power.irradiance import ModuleIrradiance, module_irradiance
@@ -60,7 +60,7 @@ class Evaluation:
     ----------
     project : layout.project.Project
         The project evaluated.
-    layout : layout.fill.placement.Layout
+    layout : layout.fill.placed.Layout
         The fill, removed modules included.
     areas : dict of str to layout.fill.clearance.UsableArea
         Usable area of each array face.

@@ -25,7 +25,7 @@ from dataclasses import dataclass, replace
 import pandas as pd
 
 from ..errors import InputError
-from ..fill.placement import FILL_ORIENTATIONS
+from ..fill.faces import FILL_ORIENTATIONS
 from ..power.metrics import comparison_table, worst_modules
 from .analysis import Analysis, Evaluation, evaluate
 

@@ -1,0 +1,218 @@
+"""Equal rectangles in a region of the roof plane: a fine lattice, one grid or sliding rows.
+
+Search
+------
+Candidate positions lie on a fine lattice whose step is ``1/offset_steps`` of the module pitch
+(module size plus gap) on each axis, anchored at the lower-left corner of the usable area's
+bounding box. Every candidate rectangle is built in one :func:`shapely.box` call over arrays and
+tested in one :func:`shapely.covers` call against the prepared usable area. A grid offset
+``(i, j)`` is then the subset of candidates whose lattice indices are ``i`` and ``j`` modulo
+``offset_steps``; counting fits per offset is a reshape and a sum, so the search over all
+``offset_steps²`` grid offsets costs one geometric test per candidate.
+
+``rows="grid"`` keeps one rigid grid and picks the offset with the most modules. Ties go to the
+offset whose modules' bounding box is most centred in the usable area's bounding box (smallest
+sum of the distances between the two centres along ``u`` and along ``v``), then to the
+smallest offset. ``rows="sliding"`` lets each
+row pick its own offset along the eave, the one that fits most modules in that row; a tie goes
+to the offset that centres the row's modules on the span where that row can hold modules.
+Each connected piece of the usable area is filled on its own with sliding rows.
+
+Candidate rectangles are shrunk by :data:`FIT_TOLERANCE_M` on every side before the fit test,
+so that a module that fits exactly is not lost to rounding.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import shapely
+
+from ..errors import InputError
+
+__all__ = ["ANCHORS", "FIT_TOLERANCE_M", "ROW_MODES", "as_region", "number_rows", "pack_rectangles"]
+
+#: Row modes: one rigid grid, or rows sliding independently along the eave.
+ROW_MODES = ("grid", "sliding")
+#: Slack given to the fit test on every side of a candidate [m].
+FIT_TOLERANCE_M = 1e-7
+
+
+def as_region(usable) -> shapely.Geometry:
+    """Accept a shapely geometry or an object with a ``.polygon`` (a usable-area result)."""
+    geometry = getattr(usable, "polygon", usable)
+    if geometry is None:
+        return shapely.Polygon()
+    if not isinstance(geometry, shapely.Geometry):
+        raise InputError("usable", "must be a shapely geometry in roof-plane coordinates",
+                         value=type(geometry).__name__)
+    polygons = [g for g in shapely.get_parts(geometry)
+                if isinstance(g, (shapely.Polygon, shapely.MultiPolygon)) and not g.is_empty]
+    if not polygons:
+        return shapely.Polygon()
+    return polygons[0] if len(polygons) == 1 else shapely.union_all(polygons)
+
+
+def _first_last(mask: np.ndarray, axis: int) -> tuple[np.ndarray, np.ndarray]:
+    """Index of the first and last True along ``axis`` (0 where there is none)."""
+    n = mask.shape[axis]
+    first = np.argmax(mask, axis=axis)
+    last = n - 1 - np.argmax(np.flip(mask, axis=axis), axis=axis)
+    return first, last
+
+
+def _lattice_fits(region, size_u, size_v, pitch_u, pitch_v, steps):
+    """Fit test of every candidate on the fine lattice; returns (fits, u0, v0, du, dv).
+
+    ``fits`` has shape (rows, columns), both multiples of ``steps`` (padded with False).
+    """
+    u_lo, v_lo, u_hi, v_hi = region.bounds
+    du, dv = pitch_u / steps, pitch_v / steps
+    tol = FIT_TOLERANCE_M
+    span_u, span_v = u_hi - u_lo - size_u + 2 * tol, v_hi - v_lo - size_v + 2 * tol
+    if span_u < 0 or span_v < 0:
+        return np.zeros((0, 0), bool), u_lo, v_lo, du, dv
+    nu = math.floor(span_u / du) + 1
+    nv = math.floor(span_v / dv) + 1
+    us = u_lo + np.arange(nu) * du
+    vs = v_lo + np.arange(nv) * dv
+    uu, vv = np.meshgrid(us, vs)
+    candidates = shapely.box(uu + tol, vv + tol, uu + size_u - tol, vv + size_v - tol)
+    shapely.prepare(region)
+    fits = shapely.covers(region, candidates)
+    padded = np.zeros((-(-nv // steps) * steps, -(-nu // steps) * steps), dtype=bool)
+    padded[:nv, :nu] = fits
+    return padded, u_lo, v_lo, du, dv
+
+
+def _anchor_cost(lo, hi, box_lo, box_hi, anchor: str):
+    """How far an extent ``lo..hi`` sits from where ``anchor`` wants it in ``box_lo..box_hi``."""
+    if anchor == "centre":
+        return np.abs(0.5 * (lo + hi) - 0.5 * (box_lo + box_hi))
+    if anchor == "low":
+        return lo - box_lo
+    return box_hi - hi
+
+
+def _pack_piece(region, size_u, size_v, gap_u, gap_v, rows, steps, anchor) -> np.ndarray:
+    """Pack one region (lattice anchored at its bounds); returns (n, 4) rectangles."""
+    fits, u_lo, v_lo, du, dv = _lattice_fits(region, size_u, size_v, size_u + gap_u,
+                                             size_v + gap_v, steps)
+    if not fits.any():
+        return np.zeros((0, 4))
+    anchor_u, anchor_v = anchor
+    nv, nu = fits.shape
+    big_r, big_c = nv // steps, nu // steps
+    bu0, bv0, bu1, bv1 = region.bounds
+    if rows == "grid":
+        f4 = fits.reshape(big_r, steps, big_c, steps)  # (R, j, C, i)
+        count = f4.sum(axis=(0, 2))  # (j, i)
+        c_first, c_last = _first_last(f4.any(axis=0), axis=1)  # (j, i)
+        r_first, r_last = _first_last(f4.any(axis=2), axis=0)  # (j, i)
+        jj, ii = np.meshgrid(np.arange(steps), np.arange(steps), indexing="ij")
+        u_min = u_lo + (c_first * steps + ii) * du
+        u_max = u_lo + (c_last * steps + ii) * du + size_u
+        v_min = v_lo + (r_first * steps + jj) * dv
+        v_max = v_lo + (r_last * steps + jj) * dv + size_v
+        cost = (_anchor_cost(u_min, u_max, bu0, bu1, anchor_u)
+                + _anchor_cost(v_min, v_max, bv0, bv1, anchor_v))
+        cost = np.where(count == count.max(), np.round(cost, 9), np.inf)
+        j, i = np.unravel_index(int(np.argmin(cost)), count.shape)
+        big_rows, big_cols = np.nonzero(f4[:, j, :, i])
+        n_index = big_rows * steps + j
+        m_index = big_cols * steps + i
+    else:
+        f3 = fits.reshape(nv, big_c, steps)  # (n, C, i)
+        row_count = f3.sum(axis=1)  # (n, i)
+        c_first, c_last = _first_last(f3, axis=1)  # (n, i)
+        # the span where each row can hold a module at any offset
+        m_first, m_last = _first_last(fits, axis=1)  # (n,)
+        span_lo = (u_lo + m_first * du)[:, None]
+        span_hi = (u_lo + m_last * du + size_u)[:, None]
+        ii = np.arange(steps)[None, :]
+        u_min = u_lo + (c_first * steps + ii) * du
+        u_max = u_lo + (c_last * steps + ii) * du + size_u
+        cost = np.round(_anchor_cost(u_min, u_max, span_lo, span_hi, anchor_u), 9)
+        best = row_count.max(axis=1)
+        cost = np.where(row_count == best[:, None], cost, np.inf)
+        best_i = np.argmin(cost, axis=1)  # (n,)
+        # the row offset j: total of the rows n ≡ j (mod steps)
+        per_j = best.reshape(big_r, steps)  # (R, j)
+        total = per_j.sum(axis=0)
+        r_first, r_last = _first_last(per_j > 0, axis=0)  # (j,)
+        jj = np.arange(steps)
+        v_min = v_lo + (r_first * steps + jj) * dv
+        v_max = v_lo + (r_last * steps + jj) * dv + size_v
+        cost_v = np.round(_anchor_cost(v_min, v_max, bv0, bv1, anchor_v), 9)
+        j = int(np.argmin(np.where(total == total.max(), cost_v, np.inf)))
+        chosen_rows = np.arange(j, nv, steps)
+        pick = f3[chosen_rows, :, best_i[chosen_rows]]  # (rows, C)
+        rr, big_cols = np.nonzero(pick)
+        n_index = chosen_rows[rr]
+        m_index = big_cols * steps + best_i[n_index]
+    u_min = u_lo + m_index * du
+    v_min = v_lo + n_index * dv
+    return np.stack([u_min, v_min, u_min + size_u, v_min + size_v], axis=1)
+
+
+ANCHORS = ("centre", "low", "high")
+
+
+def pack_rectangles(usable, size_u: float, size_v: float, *, gap_u: float = 0.0,
+                    gap_v: float = 0.0, rows: str = "grid", offset_steps: int = 8,
+                    anchor: tuple[str, str] = ("centre", "centre")) -> np.ndarray:
+    """Place as many equal axis-aligned rectangles as fit inside a region.
+
+    Parameters
+    ----------
+    usable : shapely geometry
+        Region to fill (Polygon or MultiPolygon) [m].
+    size_u, size_v : float
+        Rectangle size along ``u`` and ``v`` [m].
+    gap_u, gap_v : float, default 0
+        Clear gap between neighbours along ``u`` and between rows along ``v`` [m].
+    rows : {"grid", "sliding"}, default "grid"
+        Search mode, see the module docstring.
+    offset_steps : int, default 8
+        Offsets tried per pitch on each axis.
+    anchor : (str, str), default ("centre", "centre")
+        Tie rule along ``u`` and along ``v`` among offsets that fit equally many: ``"centre"``
+        centres the rectangles' bounding box in the region's (for sliding rows along ``u``:
+        on the span where that row can hold rectangles), ``"low"`` pushes it toward the
+        smaller coordinate, ``"high"`` toward the larger. With two centred axes the offset
+        with the smallest sum of the two centre distances wins; remaining ties go to the
+        smallest offset.
+
+    Returns
+    -------
+    numpy.ndarray, shape (n, 4)
+        ``(u_min, v_min, u_max, v_max)`` of each rectangle [m], sorted by ``v`` then ``u``.
+    """
+    region = as_region(usable)
+    if region.is_empty:
+        return np.zeros((0, 4))
+    if rows not in ROW_MODES:
+        raise InputError("rows", "unknown row mode", value=rows, allowed=", ".join(ROW_MODES))
+    if len(anchor) != 2 or any(a not in ANCHORS for a in anchor):
+        raise InputError("anchor", "must be two of centre, low, high", value=anchor,
+                         allowed="(u anchor, v anchor), each centre, low or high")
+    pieces = [region] if rows == "grid" else list(shapely.get_parts(region))
+    rects = [_pack_piece(piece, size_u, size_v, gap_u, gap_v, rows, offset_steps, tuple(anchor))
+             for piece in pieces]
+    out = np.concatenate(rects, axis=0) if rects else np.zeros((0, 4))
+    order = np.lexsort((out[:, 0], np.round(out[:, 1], 6)))
+    return out[order]
+
+
+def number_rows(rects: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Sort rectangles by (v_min, u_min) and number rows and columns; returns order, row, col."""
+    if len(rects) == 0:
+        empty = np.zeros(0, dtype=int)
+        return empty, empty, empty
+    v_key = np.round(rects[:, 1], 6)
+    order = np.lexsort((rects[:, 0], v_key))
+    _, row = np.unique(v_key[order], return_inverse=True)
+    starts = np.r_[0, np.flatnonzero(np.diff(row)) + 1]
+    column = np.arange(len(order)) - np.repeat(starts, np.diff(np.r_[starts, len(order)]))
+    return order, row.astype(int), column.astype(int)
