@@ -1,8 +1,20 @@
-"""eaveline's computational core: roof geometry, setbacks, module placement and shading.
+"""eaveline's computational core: roof geometry, setbacks, module placement, shading, energy.
 
-The names a notebook uses most are available here; everything else lives in its module
-(``layout.scene.roof``, ``layout.fill.clearance``, ``layout.fill.placement``, ``layout.shading``,
-...). Nothing in this package imports a widget or plotting library.
+The names a notebook uses most are available here; everything else lives in the subpackage of
+its stage, in the order data flows through them:
+
+- :mod:`layout.scene`: what the user describes: site, roof faces and buildings, obstructions,
+  module specs, survey readings;
+- :mod:`layout.fill`: setbacks and usable area, module placement, rack rows;
+- :mod:`layout.sky`: sun path and weather;
+- :mod:`layout.shading`: exact ray tests against obstructions, sky-view factors;
+- :mod:`layout.power`: irradiance with shade applied, electrical models, metrics;
+- :mod:`layout.project`: the saved project document;
+- :mod:`layout.study`: the incremental analysis, comparisons, outlooks, portfolios;
+- the command line (``python -m layout``).
+
+A module imports only from its own stage or earlier ones. Nothing in this package imports a
+widget or plotting library.
 """
 
 from .errors import InputError
