@@ -39,7 +39,8 @@ from layout.scene.modules import generic_60_cell
 from layout.scene.obstructions import Block, Cylinder, Plate, Tree
 from layout.scene.roof import RoofFace
 from layout.scene.site import Site
-from layout.shading import ShadeCache, _ray_effect, module_shade, shaded
+from layout.shading import ShadeCache, module_shade, shaded
+from layout.shading.ray_tests import _ray_effect
 from layout.sky.sun import sun_above_horizon, typical_year_index
 
 SITE = Site(40.0, -105.0, "America/Denver", 1600.0, name="bench")

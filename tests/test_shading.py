@@ -17,9 +17,6 @@ from layout.scene.site import Site
 from layout.shading import (
     RAY_START_M,
     ShadeCache,
-    _hit_cone,
-    _hit_spheroid,
-    _hit_vertical_cylinder,
     group_mean,
     module_samples,
     module_shade,
@@ -27,6 +24,7 @@ from layout.shading import (
     shaded,
     transmitted,
 )
+from layout.shading.round_solids import _hit_cone, _hit_spheroid, _hit_vertical_cylinder
 from layout.sky.sun import solar_position, sun_vectors
 
 
@@ -642,14 +640,10 @@ def test_module_shade_cache_and_trees():
 def test_tabulated_kernels_equal_the_direct_ones(seed):
     # the per-edge tabulated block kernel and the tabulated tree kernel (speed paths) give
     # exactly the direct kernels' answers on random rays with the sun up
-    from layout.shading import (
-        _block_kernel,
-        _hit_block,
-        _hit_plate,
-        _plate_kernel,
-        _ray_effect,
-        _tree_kernel,
-    )
+    from layout.shading.blocks import _block_kernel, _hit_block
+    from layout.shading.plates import _hit_plate, _plate_kernel
+    from layout.shading.ray_tests import _ray_effect
+    from layout.shading.round_solids import _tree_kernel
 
     rng = np.random.default_rng(seed)
     scene = random_scene(rng)

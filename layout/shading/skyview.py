@@ -50,14 +50,10 @@ import numpy as np
 
 from ..errors import InputError, check_points, check_positive
 from ..scene.obstructions import HorizonProfile, Plate
-from . import (
-    DEFAULT_MAX_PAIRS,
-    RAY_START_M,
-    ShadeCache,
-    _check_points,
-    _obstruction_hits,
-    _sun_order,
-)
+from .cache import ShadeCache
+from .hits import DEFAULT_MAX_PAIRS, _obstruction_hits
+from .rays import RAY_START_M, _check_points
+from .sun_sectors import _sun_order
 
 __all__ = [
     "DEFAULT_SKY_DIRECTIONS",

@@ -1,0 +1,190 @@
+"""Shade per group of points (cells, substrings, modules).
+
+:func:`_group_shade_rows` sums the shaded beam fraction of each group straight from the sparse
+hit lists, block by block of sun steps (64 MB dense at most), at only the steps that have
+shade; :func:`group_mean` averages any dense per-point values over groups.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..errors import InputError
+from .combine import _prepare_hits
+
+__all__ = ["group_mean"]
+
+
+#: Largest number of (step, point) values held densely at once when summing hits per group.
+_DENSE_BLOCK = 1 << 24
+
+
+def _sorted_by_step(entry, n_steps: int):
+    """Sort prepared hits by step (a radix sort for up to 65,536 steps)."""
+    step, point, factor = entry
+    key = step.astype(np.uint16) if n_steps <= 65536 else step
+    order = np.argsort(key, kind="stable")
+    return step[order], point[order], None if factor is None else factor[order]
+
+
+def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, rows=None,
+                      out=None):
+    """Shaded beam fraction per group of points at the steps where some ray is blocked.
+
+    Parameters
+    ----------
+    n_steps, n_points : int
+        Sun steps and points the hits refer to.
+    prepared_hits : sequence
+        One entry per obstruction, from :func:`_prepare_hits`.
+    labels : numpy.ndarray of int, shape (N,)
+        Group of each point, 0 to ``n_groups - 1``.
+    n_groups : int
+    rows : numpy.ndarray of int, optional
+        Increasing steps to give values for (a superset of the steps with hits, e.g. every
+        step); default: exactly the steps with a hit or below the far horizon.
+    out : numpy.ndarray of float32, shape (G, len(rows)), optional
+        Receives the values (a view is fine).
+
+    Returns
+    -------
+    rows : numpy.ndarray of int, shape (R,)
+        Increasing sun steps; at every other step no group has shade.
+    values : numpy.ndarray of float32, shape (G, R)
+        Shaded fraction of each group at those steps, group-major so that reductions over
+        groups (cells of a substring, say) run over whole contiguous rows. Rays met by
+        several obstructions multiply their transmittances. Empty groups give NaN.
+
+    Notes
+    -----
+    Block by block of the rows (at most :data:`_DENSE_BLOCK` values, 64 MB), the beam fraction
+    of every point is built densely (point-major, so one point's hits fall close together),
+    the hits are scattered into it, and the points are averaged per group. Hits need sorting
+    by step only when there is more than one block.
+    """
+    horizon = np.zeros(n_steps, dtype=bool)
+    prepared = []
+    for entry in prepared_hits:
+        if entry is None:
+            continue
+        if isinstance(entry[0], str):  # ("horizon", blocked_steps)
+            horizon |= entry[1]
+            continue
+        prepared.append(entry)
+    if rows is None:
+        with_shade = horizon.copy()
+        for step, _, _ in prepared:
+            with_shade[step] = True
+        rows = np.flatnonzero(with_shade)
+    n_rows = len(rows)
+    values = np.empty((n_groups, n_rows), dtype=np.float32) if out is None else out
+    if n_rows == 0 or n_groups == 0:
+        return rows, values
+    counts = np.bincount(labels, minlength=n_groups)
+    perm = None if (np.diff(labels) >= 0).all() else np.argsort(labels, kind="stable")
+    lab = labels if perm is None else labels[perm]
+    starts = np.flatnonzero(np.r_[True, lab[1:] != lab[:-1]]) if n_points else np.zeros(0, int)
+    present = lab[starts]
+    # the common layouts: groups 0..G-1 in order, each of k points (k sample points a cell)
+    size = n_points // n_groups
+    regular = (len(present) == n_groups and size * n_groups == n_points
+               and np.array_equal(starts, np.arange(n_groups) * size))
+    direct = regular and size == 1  # one point a group: the beam block is the values block
+    row_of = np.zeros(n_steps, dtype=np.intp)  # step -> its column in the values
+    row_of[rows] = np.arange(n_rows)
+    per = max(1, _DENSE_BLOCK // max(1, n_points))
+    if n_rows > per:
+        prepared = [_sorted_by_step(entry, n_steps) for entry in prepared]
+    for r0 in range(0, n_rows, per):
+        r1 = min(n_rows, r0 + per)
+        width = r1 - r0
+        whole = direct and width == n_rows and values.flags.c_contiguous
+        beam = values if whole else np.empty((n_points, width), dtype=np.float32)
+        beam.fill(1.0)
+        flat_beam = beam.reshape(-1)
+        for step, point, factor in prepared:
+            part = slice(None)
+            if n_rows > per:
+                part = slice(*np.searchsorted(step, [rows[r0], rows[r1 - 1] + 1]))
+            flat = point[part].astype(np.intp) * width
+            flat += row_of[step[part]]
+            if r0:
+                flat -= r0
+            if factor is None:
+                flat_beam[flat] = 0.0
+            else:
+                np.multiply.at(flat_beam, flat, factor[part])
+        if direct:
+            np.subtract(np.float32(1.0), beam, out=values[:, r0:r1])
+        elif regular:
+            lit = beam.reshape(n_groups, size, r1 - r0).sum(axis=1)
+            values[:, r0:r1] = np.float32(1.0) - lit * np.float32(1.0 / size)
+        else:
+            lit = np.add.reduceat(beam if perm is None else beam[perm], starts, axis=0)
+            values[:, r0:r1] = np.nan
+            values[present, r0:r1] = np.float32(1.0) - lit / counts[present][:, None]
+    values[:, row_of[np.flatnonzero(horizon)]] = 1.0
+    values[counts == 0] = np.nan
+    return rows, values
+
+
+def _group_shade(n_steps, n_points, pairs, labels, n_groups, month) -> np.ndarray:
+    """Shaded beam fraction per (step, group) from sparse hits, float32 (T, G).
+
+    The dense form of :func:`_group_shade_rows`: zero at the steps without a blocked ray,
+    NaN for an empty group.
+    """
+    prepared = [_prepare_hits(ob, hits, month) for ob, hits in pairs]
+    rows, values = _group_shade_rows(n_steps, n_points, prepared, labels, n_groups)
+    out = np.zeros((n_steps, n_groups), dtype=np.float32)
+    out[rows] = values.T
+    out[:, np.bincount(labels, minlength=n_groups) == 0] = np.nan
+    return out
+
+
+def _check_labels(labels, n_points: int, n_groups) -> tuple[np.ndarray, int]:
+    lab = np.asarray(labels)
+    if lab.shape != (n_points,) or not np.issubdtype(lab.dtype, np.integer):
+        raise InputError("labels", "needs one whole-number group per point",
+                         allowed=f"{n_points} whole numbers")
+    if len(lab) and lab.min() < 0:
+        raise InputError("labels", "must not be negative", value=int(lab.min()), allowed=">= 0")
+    g = int(n_groups) if n_groups is not None else (int(lab.max()) + 1 if len(lab) else 0)
+    if len(lab) and lab.max() >= g:
+        raise InputError("labels", "is out of range", value=int(lab.max()),
+                         allowed=f"0 to {g - 1}")
+    return lab.astype(np.intp), g
+
+
+def group_mean(values, labels, *, n_groups: int | None = None) -> np.ndarray:
+    """Average per-point values over groups of points (cells, substrings, modules).
+
+    Parameters
+    ----------
+    values : array_like, shape (T, N)
+        Per step and point, e.g. the output of :func:`~layout.shading.transmitted` or
+        :func:`~layout.shading.shaded`.
+    labels : array_like of int, shape (N,)
+        Group of each point, 0 to ``n_groups - 1``.
+    n_groups : int, keyword-only, optional
+        Number of groups; default ``labels.max() + 1``. Empty groups give NaN.
+
+    Returns
+    -------
+    numpy.ndarray of float, shape (T, n_groups)
+        Mean over the points of each group. ``1 - group_mean(transmitted(...), labels)`` is the
+        beam shaded fraction of each group.
+    """
+    v = np.asarray(values, dtype=float)
+    if v.ndim != 2:
+        raise InputError("values", "must be a (steps, points) array", value=v.shape)
+    lab, g = _check_labels(labels, v.shape[1], n_groups)
+    counts = np.bincount(lab, minlength=g).astype(float)
+    order = np.argsort(lab, kind="stable")
+    sums = np.zeros((v.shape[0], g))
+    present = np.flatnonzero(counts)
+    if len(present):
+        starts = np.concatenate([[0], np.cumsum(counts[present])[:-1]]).astype(np.intp)
+        sums[:, present] = np.add.reduceat(v[:, order], starts, axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return sums / counts

@@ -1,0 +1,272 @@
+"""Where one obstruction meets the rays: its hits as sparse (step, point) lists.
+
+:func:`obstruction_hits` ray-tests one obstruction against every (sun step, point) pair that
+culling leaves (:mod:`layout.shading.culling`), with the tabulated kernel of its family where
+one applies, and returns the hits (:class:`ShadeHits`). A
+:class:`~layout.scene.obstructions.HorizonProfile` is tested by the sun's elevation against the
+skyline at its azimuth; it shades every point alike. :class:`Facing` tells which steps light the
+front of each point's surface, so that rays carrying no beam are not tested. Work runs in
+chunks of at most ``max_pairs`` (step, point) pairs, so memory stays bounded whatever the year
+and the array size.
+"""
+
+from __future__ import annotations
+
+import itertools
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import check_positive
+from ..scene.obstructions import PLANE_TOLERANCE_M, Block, HorizonProfile, Plate, Tree
+from .blocks import _block_kernel
+from .culling import _candidate_ranges, _Column, _crown_ranges, _expand_runs
+from .plates import _plate_geometry, _plate_kernel, _plate_side
+from .ray_tests import _kernel_cost, _ray_effect
+from .rays import RAY_START_M, _check_points, _check_sun
+from .round_solids import _tree_kernel, _tree_kernels
+from .sun_sectors import _sun_order, _SunOrder
+
+__all__ = ["DEFAULT_MAX_PAIRS", "Facing", "ShadeHits", "obstruction_hits"]
+
+
+#: Default upper bound on (time step, point) pairs handled at once; bounds working memory to
+#: roughly a few hundred bytes per pair.
+DEFAULT_MAX_PAIRS = 1 << 19
+
+
+@dataclass(frozen=True)
+class ShadeHits:
+    """Where one obstruction meets the rays of a fixed set of points and sun steps.
+
+    Attributes
+    ----------
+    step : numpy.ndarray of int32, shape (H,)
+        Sun step of each hit.
+    point : numpy.ndarray of int32, shape (H,)
+        Point of each hit.
+    crown_only : numpy.ndarray of bool, shape (H,)
+        True where the ray meets only a tree crown (the beam is dimmed by the crown's
+        transmittance); False where it meets an opaque surface.
+    blocked_steps : numpy.ndarray of bool, shape (T,) or None
+        For a far horizon: steps at which the sun is below the skyline for every point.
+    """
+
+    step: np.ndarray
+    point: np.ndarray
+    crown_only: np.ndarray
+    blocked_steps: np.ndarray | None = None
+
+    def __len__(self) -> int:
+        return len(self.step)
+
+
+def obstruction_hits(points, sun, obstruction, *, ray_start: float = RAY_START_M,
+                     max_pairs: int = DEFAULT_MAX_PAIRS, cull: bool = True) -> ShadeHits:
+    """Ray-test one obstruction against every (sun step, point) pair.
+
+    Parameters
+    ----------
+    points : array_like, shape (N, 3)
+        Points in the site frame [m].
+    sun : array_like, shape (T, 3)
+        Vectors toward the sun in the site frame (normalised here).
+    obstruction : Block, Cylinder, Tree, Plate or HorizonProfile
+        The obstruction.
+    ray_start : float, keyword-only, default :data:`RAY_START_M`
+        Distance along each ray where it starts [m].
+    max_pairs : int, keyword-only
+        Largest number of (step, point) pairs handled at once; bounds memory.
+    cull : bool, keyword-only, default True
+        Skip pairs whose sun lies outside the obstruction's angular bounds seen from the point.
+        The result is the same either way; False is for checking.
+
+    Returns
+    -------
+    ShadeHits
+        The hits, each (step, point) pair once, in no particular order (the same order for the
+        same input).
+    """
+    pts = _check_points(points)
+    sun_v = _check_sun(sun)
+    start = check_positive("ray_start", ray_start, unit="m")
+    return _obstruction_hits(pts, sun_v, obstruction, start, int(max_pairs), cull, None)
+
+
+@dataclass(frozen=True, eq=False)
+class Facing:
+    """Which sun steps light the front of each point's surface.
+
+    Points on a module see beam light only while the sun is in front of the module's plane;
+    rays from a point whose surface faces away from the sun carry no beam, so they need no
+    ray test and count as unshaded. Surfaces are grouped by normal (all the points of one
+    module plane share one), so the table stays small.
+
+    Attributes
+    ----------
+    lit : numpy.ndarray of bool, shape (T, K)
+        True where the sun is in front of surface orientation k (``sun · normal > 0``).
+    group : numpy.ndarray of int, shape (N,)
+        Surface orientation of each point.
+    """
+
+    lit: np.ndarray
+    group: np.ndarray
+
+    @classmethod
+    def from_normals(cls, sun, normals) -> Facing:
+        """Build the table from unit vectors toward the sun (T, 3) and point normals (N, 3)."""
+        normals = np.asarray(normals, dtype=float)
+        unique, group = np.unique(np.round(normals, 9), axis=0, return_inverse=True)
+        lit = np.asarray(sun, dtype=float) @ unique.T > 0.0
+        return cls(lit=lit, group=group.reshape(-1).astype(np.intp))
+
+    def lit_at(self, step, point) -> np.ndarray:
+        """Whether the sun of each ``step`` lights the front of the surface of each ``point``."""
+        if self.lit.shape[1] == 1:
+            return self.lit[:, 0][step]
+        return self.lit[step, self.group[point]]
+
+    def subset(self, index) -> Facing:
+        """Return the same table for the points ``index`` only."""
+        return Facing(self.lit, self.group[index])
+
+
+class _HitList:
+    """Collects the hits of one obstruction as its candidate pairs are ray-tested."""
+
+    def __init__(self, effect, facing, sub):
+        self.effect = effect  # effect(p, st) -> (opaque or None, crown_only or None)
+        self.facing = facing
+        self.sub = sub
+        self.steps, self.points, self.crowns = [], [], []
+
+    def test(self, pt, st):
+        if self.facing is not None:  # rays of back-lit points carry no beam: not tested
+            keep = self.facing.lit_at(st, pt)
+            if not keep.all():
+                pt, st = pt[keep], st[keep]
+        for i in range(0, len(pt), self.sub):
+            p, s = pt[i:i + self.sub], st[i:i + self.sub]
+            opaque, crown = self.effect(p, s)
+            hit = crown if opaque is None else opaque if crown is None else opaque | crown
+            count = int(hit.sum())
+            self.steps.append(s[hit].astype(np.int32))
+            self.points.append(p[hit].astype(np.int32))
+            self.crowns.append(np.ones(count, dtype=bool) if opaque is None
+                               else np.zeros(count, dtype=bool) if crown is None
+                               else crown[hit])
+
+    def test_runs(self, order: _SunOrder, runs, max_pairs: int, side=None):
+        """Test every pair of the candidate runs, in groups of about ``max_pairs`` pairs."""
+        run_pt, run_start, run_count = runs
+        group = (np.cumsum(run_count) - 1) // max(1, max_pairs)
+        bounds = [0, *(np.flatnonzero(np.diff(group)) + 1).tolist(), len(run_pt)]
+        for a, b in itertools.pairwise(bounds):
+            if b <= a:
+                continue
+            pt, pos = _expand_runs(run_pt[a:b], run_start[a:b], run_count[a:b])
+            st = order.order[pos]
+            if side is not None:
+                side_pt, side_sun = side
+                keep = side_pt[pt] == side_sun[st]
+                pt, st = pt[keep], st[keep]
+            self.test(pt, st)
+
+    def result(self) -> ShadeHits:
+        if not self.steps:
+            empty = np.zeros(0, dtype=np.int32)
+            return ShadeHits(empty, empty, np.zeros(0, dtype=bool))
+        return ShadeHits(np.concatenate(self.steps), np.concatenate(self.points),
+                         np.concatenate(self.crowns))
+
+
+def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order,
+                      facing=None) -> ShadeHits:
+    empty = np.zeros(0, dtype=np.int32)
+    if isinstance(obstruction, HorizonProfile):
+        blocked = np.asarray(obstruction.blocks_vectors(sun_v), dtype=bool) if len(sun_v) \
+            else np.zeros(0, dtype=bool)
+        return ShadeHits(empty, empty, np.zeros(0, dtype=bool), blocked)
+    if len(pts) == 0 or len(sun_v) == 0:
+        _ray_effect(obstruction, np.zeros((0, 3)), np.zeros((0, 3)), start)  # type check
+        return ShadeHits(empty, empty, np.zeros(0, dtype=bool))
+    side = None
+    if isinstance(obstruction, Plate):
+        # self-shading rule: points in the plate's plane are never shaded by it
+        dist = _plate_side(obstruction, pts)
+        active = np.flatnonzero(np.abs(dist) > PLANE_TOLERANCE_M)
+        if len(active) < len(pts):
+            sub_facing = None if facing is None else facing.subset(active)
+            hits = _obstruction_hits(pts[active], sun_v, obstruction, start, max_pairs, cull,
+                                     sun_order, sub_facing)
+            return ShadeHits(hits.step, active[hits.point].astype(np.int32), hits.crown_only)
+        # a ray meets the plane only when the sun lies on the far side from the point
+        side = (dist > 0, sun_v @ _plate_geometry(obstruction)[3] < 0)
+    sub = max(256, max_pairs // _kernel_cost(obstruction))
+    order = None
+    if cull:
+        order = sun_order if sun_order is not None else _sun_order(sun_v)
+        if isinstance(obstruction, Tree):
+            kernels = _tree_kernels(obstruction, pts, sun_v, start)
+            if kernels is not None:
+                return _tree_hits(pts, obstruction, kernels, order, facing, max_pairs, sub)
+
+    fast = None
+    if isinstance(obstruction, Block):
+        fast = _block_kernel(obstruction, pts, sun_v, start)
+    elif isinstance(obstruction, Plate):
+        fast = _plate_kernel(obstruction, pts, sun_v, start)
+    elif isinstance(obstruction, Tree):
+        fast = _tree_kernel(obstruction, pts, sun_v, start)
+
+    def effect(p, st):
+        if fast is not None:
+            return fast(p, st)
+        return _ray_effect(obstruction, pts[p], sun_v[st], start)
+
+    found = _HitList(effect, facing, sub)
+    if cull:
+        found.test_runs(order, _candidate_ranges(pts, order, obstruction), max_pairs, side)
+        if len(order.zenith_steps):
+            found.test(np.repeat(np.arange(len(pts)), len(order.zenith_steps)),
+                       np.tile(order.zenith_steps, len(pts)))
+    else:
+        per = max(1, max_pairs // len(pts))
+        for t0 in range(0, len(sun_v), per):
+            st_block = np.arange(t0, min(t0 + per, len(sun_v)))
+            found.test(np.tile(np.arange(len(pts)), len(st_block)),
+                       np.repeat(st_block, len(pts)))
+    return found.result()
+
+
+def _tree_hits(pts, tree: Tree, kernels, order: _SunOrder, facing, max_pairs: int,
+               sub: int) -> ShadeHits:
+    """Hits of a spheroid tree, its crown and its trunk culled apart.
+
+    The crown's candidates come from its own cap (:func:`_crown_ranges`), the trunk's from its
+    thin column, so a point above the crown base never tests the trunk and a low sun below
+    the crown never tests the crown. A ray through both is blocked by the trunk.
+    """
+    crown_kernel, trunk_kernel = kernels
+    crown = _HitList(lambda p, st: (None, crown_kernel(p, st)), facing, sub)
+    crown.test_runs(order, _crown_ranges(pts, order, tree), max_pairs)
+    in_crown = crown.result()
+    if trunk_kernel is None:
+        return in_crown
+    (x, y), r = tree.center, tree.trunk_radius
+    column = _Column((x - r, y - r, tree.ground_m, x + r, y + r,
+                      tree.ground_m + tree.crown_base))
+    trunk = _HitList(lambda p, st: (trunk_kernel(p, st), None), facing, sub)
+    trunk.test_runs(order, _candidate_ranges(pts, order, column), max_pairs)
+    on_trunk = trunk.result()
+    if not len(on_trunk):
+        return in_crown
+    n = len(pts)
+    trunk_key = np.sort(on_trunk.step.astype(np.int64) * n + on_trunk.point)
+    crown_key = in_crown.step.astype(np.int64) * n + in_crown.point
+    where = np.minimum(np.searchsorted(trunk_key, crown_key), len(trunk_key) - 1)
+    only = trunk_key[where] != crown_key
+    return ShadeHits(np.concatenate([on_trunk.step, in_crown.step[only]]),
+                     np.concatenate([on_trunk.point, in_crown.point[only]]),
+                     np.concatenate([on_trunk.crown_only, in_crown.crown_only[only]]))

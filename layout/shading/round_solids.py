@@ -1,0 +1,169 @@
+"""Exact ray tests of round solids: vertical cylinders, tree trunks and tree crowns.
+
+Method
+------
+* :class:`~layout.scene.obstructions.Cylinder` and a tree trunk: ray against a vertical circular
+  cylinder (a quadratic in plan) intersected with the slab between base and top.
+* Tree crowns: ray against the spheroid (a sphere after scaling z) or the solid cone (a
+  quadratic cone inequality intersected with the slab between crown base and apex).
+
+A tree with a spheroid crown also has kernels (:func:`_tree_kernels`) that tabulate the
+per-point and per-step terms once; a cone crown goes through the direct tests.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..scene.obstructions import Tree
+from .rays import _slab
+
+
+def _hit_vertical_cylinder(cx, cy, radius, base, top, o, d, start) -> np.ndarray:
+    """Exact ray vs closed finite vertical cylinder."""
+    fx, fy = o[:, 0] - cx, o[:, 1] - cy
+    a = d[:, 0] ** 2 + d[:, 1] ** 2
+    b = fx * d[:, 0] + fy * d[:, 1]
+    c = fx * fx + fy * fy - radius * radius
+    disc = b * b - a * c
+    vertical = a <= 1e-24
+    root = np.sqrt(np.maximum(disc, 0.0))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        s1 = np.where(vertical, np.where(c <= 0, -np.inf, np.inf), (-b - root) / a)
+        s2 = np.where(vertical, np.where(c <= 0, np.inf, -np.inf), (-b + root) / a)
+    s2 = np.where(~vertical & (disc < 0), -np.inf, s2)
+    z_in, z_out = _slab(o[:, 2], d[:, 2], base, top)
+    return np.maximum(np.maximum(s1, z_in), start) <= np.minimum(s2, z_out)
+
+
+def _hit_spheroid(cx, cy, cz, radius, semi_z, o, d, start) -> np.ndarray:
+    """Exact ray vs closed spheroid, by scaling it to the unit sphere."""
+    scale = np.array([radius, radius, semi_z])
+    f = (o - np.array([cx, cy, cz])) / scale
+    g = d / scale
+    a = np.einsum("ij,ij->i", g, g)
+    b = np.einsum("ij,ij->i", f, g)
+    c = np.einsum("ij,ij->i", f, f) - 1.0
+    disc = b * b - a * c
+    root = np.sqrt(np.maximum(disc, 0.0))
+    s2 = (-b + root) / a
+    s1 = (-b - root) / a
+    return (disc >= 0) & (np.maximum(s1, start) <= s2)
+
+
+def _hit_cone(cx, cy, radius, base, apex, o, d, start) -> np.ndarray:
+    """Exact ray vs closed solid cone: base disc of ``radius`` at ``base``, apex at ``apex``."""
+    k2 = (radius / (apex - base)) ** 2
+    fx, fy, fz = o[:, 0] - cx, o[:, 1] - cy, o[:, 2] - apex
+    dx, dy, dz = d[:, 0], d[:, 1], d[:, 2]
+    # inside the double cone:  A s² + 2 B s + C <= 0
+    qa = dx * dx + dy * dy - k2 * dz * dz
+    qb = fx * dx + fy * dy - k2 * fz * dz
+    qc = fx * fx + fy * fy - k2 * fz * fz
+    lo, hi = _slab(o[:, 2], dz, base, apex)
+    lo = np.maximum(lo, start)
+    scale = dx * dx + dy * dy + k2 * dz * dz
+    linear = np.abs(qa) <= 1e-12 * scale
+    disc = qb * qb - qa * qc
+    root = np.sqrt(np.maximum(disc, 0.0))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        r1 = (-qb - root) / qa
+        r2 = (-qb + root) / qa
+        s_lin = -qc / (2 * qb)
+    small, big = np.minimum(r1, r2), np.maximum(r1, r2)
+    # A > 0: one interval [small, big] when the roots are real
+    hit_pos = (disc >= 0) & (np.maximum(lo, small) <= np.minimum(hi, big))
+    # A < 0: (-inf, small] U [big, inf), or every s when there is no real root
+    hit_neg = (disc < 0) | (lo <= np.minimum(hi, small)) | (np.maximum(lo, big) <= hi)
+    # A = 0: a half line (or all / nothing)
+    hit_lin = np.where(qb > 0, lo <= np.minimum(hi, s_lin),
+                       np.where(qb < 0, np.maximum(lo, s_lin) <= hi, qc <= 0))
+    hit = np.where(linear, hit_lin, np.where(qa > 0, hit_pos, hit_neg))
+    return hit & (lo <= hi)
+
+
+def _tree_kernels(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
+    """Build faster exact kernels for a spheroid tree's crown and trunk, or None.
+
+    Returns ``(crown, trunk)``: ``crown(p, st)`` and ``trunk(p, st)`` give, for (point, step)
+    index pairs, whether the ray meets the crown, resp. the trunk (same tests as
+    :func:`_hit_spheroid` and :func:`_hit_vertical_cylinder`, with the per-point and per-step
+    parts tabulated once); ``trunk`` is None for a tree without one (``crown_base`` 0).
+    Applies to a spheroid crown when every step has the sun above the horizon and off the
+    zenith; otherwise None.
+    """
+    horizontal = sun_v[:, 0] ** 2 + sun_v[:, 1] ** 2
+    if tree.crown_shape != "spheroid" or (sun_v[:, 2] <= 0).any() or (horizontal <= 1e-24).any():
+        return None
+    cx, cy = tree.center
+    # crown: the spheroid scaled to the unit sphere
+    scale = np.array([tree.crown_radius, tree.crown_radius, tree.crown_semi_axis_z])
+    f = (pts - np.array([cx, cy, tree.crown_center_z])) / scale  # (N, 3)
+    g = sun_v / scale  # (T, 3)
+    fx, fy, fz = f.T.copy()
+    gx, gy, gz = g.T.copy()
+    ga = np.einsum("ij,ij->i", g, g)
+    fc = np.einsum("ij,ij->i", f, f) - 1.0
+    # Every point at least 2 ray starts outside the crown (scaled): the two roots of a ray
+    # have one sign, that of -b, and the far one is at least sqrt(c / a) >= 2 start, so a
+    # ray meets the crown exactly when b < 0 and the discriminant is not negative.
+    outside = bool((fc >= 4.0 * float(ga.max()) * start * start).all()) if len(fc) else True
+
+    def crown(p, st):
+        a = ga[st]
+        b = fx[p] * gx[st]
+        b += fy[p] * gy[st]
+        b += fz[p] * gz[st]
+        c = fc[p]
+        if outside:
+            hit = b * b >= a * c
+            hit &= b < 0
+            return hit
+        disc = b * b - a * c
+        hit = disc >= 0
+        hit &= (-b + np.sqrt(np.maximum(disc, 0.0))) >= start * a
+        return hit
+
+    if tree.crown_base <= 0:
+        return crown, None
+    # trunk: vertical cylinder from the ground to crown_base
+    tx, ty = pts[:, 0] - cx, pts[:, 1] - cy
+    tc = tx * tx + ty * ty - tree.trunk_radius ** 2
+    dx, dy = sun_v[:, 0].copy(), sun_v[:, 1].copy()
+    inv_dz = 1.0 / sun_v[:, 2]
+    below = tree.ground_m - pts[:, 2]
+    above = tree.ground_m + tree.crown_base - pts[:, 2]
+
+    def trunk(p, st):
+        a2 = horizontal[st]
+        b2 = tx[p] * dx[st] + ty[p] * dy[st]
+        disc2 = b2 * b2 - a2 * tc[p]
+        root = np.sqrt(np.maximum(disc2, 0.0))
+        inv_z = inv_dz[st]
+        lo = np.maximum(np.maximum((-b2 - root) / a2, below[p] * inv_z), start)
+        hi = np.minimum((-b2 + root) / a2, above[p] * inv_z)
+        return (disc2 >= 0) & (lo <= hi)
+
+    return crown, trunk
+
+
+def _tree_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
+    """Build a faster exact kernel for a whole tree over (point, step) index pairs, or None.
+
+    Returns ``(opaque, crown_only)`` per pair, as
+    :func:`~layout.shading.ray_tests._ray_effect` does; see :func:`_tree_kernels` for when it
+    applies.
+    """
+    kernels = _tree_kernels(tree, pts, sun_v, start)
+    if kernels is None:
+        return None
+    crown_kernel, trunk_kernel = kernels
+
+    def kernel(p, st):
+        crown = crown_kernel(p, st)
+        if trunk_kernel is None:
+            return np.zeros(len(p), dtype=bool), crown
+        trunk = trunk_kernel(p, st)
+        return trunk, crown & ~trunk
+
+    return kernel
