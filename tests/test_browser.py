@@ -1,6 +1,6 @@
 """The planner as a web app in a real browser: Voila, headless Chromium, a mouse drag.
 
-Starts Voila on 127.0.0.1 with ``example_notebooks/planner.ipynb``, opens it in Debian's
+Starts Voila on 127.0.0.1 with the packaged ``widgets/app/planner.ipynb``, opens it in Debian's
 Chromium through Playwright, drags the tree's marker toward the house, and checks that the
 annual shade loss the page shows is the one a fresh evaluation by the core
 (:func:`layout.analysis.evaluate`) gives for the tree where the app says it now stands. A
@@ -16,7 +16,6 @@ import re
 import shutil
 import socket
 import subprocess
-import sys
 import time
 from pathlib import Path
 
@@ -24,11 +23,15 @@ import pytest
 
 from layout import load_demo_project
 from layout.analysis import evaluate
+from widgets.__main__ import (
+    planner_notebook,
+    require_notebook,
+    voila_command,
+    voila_environment,
+)
 from widgets.forms import read_length
 from widgets.plan_view import obstruction_anchor
 
-ROOT = Path(__file__).resolve().parents[1]
-NOTEBOOK = ROOT / "example_notebooks" / "planner.ipynb"
 CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
                  "--no-first-run", "--disable-background-networking",
                  "--disable-component-update", "--disable-sync"]
@@ -94,12 +97,12 @@ def voila_url(browser_tools, tmp_path_factory):
 
     port = _free_port()
     log = tmp_path_factory.mktemp("voila") / "voila.log"
+    # the command and environment `python -m widgets` serves the packaged notebook with
+    notebook = require_notebook(Path(str(planner_notebook())))  # a folder package: the file
     with open(log, "w") as stream:
-        server = subprocess.Popen(
-            [sys.executable, "-m", "voila", str(NOTEBOOK), "--no-browser", f"--port={port}",
-             "--Voila.ip=127.0.0.1", "--Voila.port_retries=0", "--theme=light",
-             "--VoilaConfiguration.show_tracebacks=True"],
-            stdout=stream, stderr=subprocess.STDOUT, cwd=tmp_path_factory.getbasetemp())
+        server = subprocess.Popen(voila_command(notebook, port=port), env=voila_environment(),
+                                  stdout=stream, stderr=subprocess.STDOUT,
+                                  cwd=tmp_path_factory.getbasetemp())
     try:
         deadline = time.monotonic() + 30
         while True:  # a TCP connect, never a GET: every page load starts a kernel
