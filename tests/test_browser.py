@@ -14,8 +14,6 @@ import importlib.util
 import os
 import re
 import shutil
-import socket
-import subprocess
 import time
 from pathlib import Path
 
@@ -85,46 +83,14 @@ def test_missing_browser_fails_under_ci_and_skips_elsewhere(monkeypatch):
         require_browser_tools()
 
 
-def _free_port() -> int:
-    with socket.socket() as sock:
-        sock.bind(("127.0.0.1", 0))
-        return sock.getsockname()[1]
-
-
 @pytest.fixture(scope="module")
-def voila_url(browser_tools, tmp_path_factory):
-    import psutil
-
-    port = _free_port()
-    log = tmp_path_factory.mktemp("voila") / "voila.log"
+def voila_url(browser_tools, tmp_path_factory, local_server):
     # the command and environment `python -m widgets` serves the packaged notebook with
     notebook = require_notebook(Path(str(planner_notebook())))  # a folder package: the file
-    with open(log, "w") as stream:
-        server = subprocess.Popen(voila_command(notebook, port=port), env=voila_environment(),
-                                  stdout=stream, stderr=subprocess.STDOUT,
-                                  cwd=tmp_path_factory.getbasetemp())
-    try:
-        deadline = time.monotonic() + 30
-        while True:  # a TCP connect, never a GET: every page load starts a kernel
-            try:
-                socket.create_connection(("127.0.0.1", port), timeout=0.5).close()
-                break
-            except OSError:
-                if server.poll() is not None or time.monotonic() > deadline:
-                    pytest.fail(f"Voila did not start; its log:\n{log.read_text()}")
-                time.sleep(0.1)
-        yield f"http://127.0.0.1:{port}/"
-    finally:
-        children = psutil.Process(server.pid).children(recursive=True)
-        server.terminate()
-        try:
-            server.wait(timeout=15)
-        except subprocess.TimeoutExpired:
-            server.kill()
-            server.wait(timeout=5)
-        for child in children:  # kernels that outlive the server are ended one by one
-            if child.is_running():
-                child.kill()
+    log = tmp_path_factory.mktemp("voila") / "voila.log"
+    with local_server(lambda port: voila_command(notebook, port=port), log=log,
+                      cwd=tmp_path_factory.getbasetemp(), env=voila_environment()) as url:
+        yield url
 
 
 def _centre(box) -> tuple[float, float]:

@@ -18,8 +18,9 @@ for the whole module.
 
 Then, from a working directory outside the checkout, with ``PYTHONPATH`` unset, the fresh
 environment runs ``python -m layout summary --demo``, the ``eaveline summary --demo`` and
-``eaveline-planner --check`` console scripts, and reports where ``layout`` and ``widgets``
-were imported from: its own site-packages, never the checkout.
+``eaveline-planner --check`` console scripts, serves the planner with ``eaveline-planner`` and
+loads its page once, and reports where ``layout`` and ``widgets`` were imported from: its own
+site-packages, never the checkout.
 """
 
 from __future__ import annotations
@@ -31,6 +32,8 @@ import subprocess
 import sys
 import sysconfig
 import tarfile
+import urllib.error
+import urllib.request
 import zipfile
 from pathlib import Path
 
@@ -169,6 +172,22 @@ def test_console_script_eaveline_planner_check(fresh):
     assert len(lines) == 1 and lines[0].startswith("planner OK")
     purelib = next(fresh["venv"].glob("lib/python*/site-packages"))
     assert f"notebook {purelib / 'widgets' / 'app' / 'planner.ipynb'}," in lines[0]
+
+
+def test_console_script_eaveline_planner_serves_the_planner(fresh, local_server):
+    # one page load: Voila runs the packaged notebook in a kernel of the fresh environment
+    # and sends the page with the planner's widget in it, or a 500 with the reason
+    with local_server(lambda port: [fresh["bin"] / "eaveline-planner", f"--port={port}"],
+                      log=fresh["work"] / "planner.log", cwd=fresh["work"],
+                      env=fresh["env"], start_timeout_s=60) as url:
+        try:
+            with urllib.request.urlopen(url, timeout=180) as response:
+                page = response.read().decode("utf-8")
+        except urllib.error.HTTPError as err:
+            pytest.fail(f"{url} answered {err.code}; the log:\n"
+                        f"{(fresh['work'] / 'planner.log').read_text()}")
+    assert page.count("application/vnd.jupyter.widget-view+json") == 1  # the Planner
+    assert '"output_type": "error"' not in page and "Traceback" not in page
 
 
 def test_planner_check_fails_clearly_in_the_installed_package(fresh):

@@ -497,6 +497,28 @@ def test_app_stops_clearly_without_its_notebook(no_exec, monkeypatch, capsys, ch
 
 
 @pytest.mark.parametrize("check", [True, False], ids=["check", "serve"])
+def test_app_stops_clearly_without_a_kernel(no_exec, monkeypatch, capsys, check):
+    # what Voila answers every page load with when ipykernel is missing: No Jupyter kernel
+    from jupyter_client.kernelspec import KernelSpecManager, NoSuchKernel
+
+    def no_kernel(self, name):
+        raise NoSuchKernel(name)
+
+    monkeypatch.setattr(KernelSpecManager, "get_kernel_spec", no_kernel)
+    assert app.main(["--check"] if check else []) == 2
+    assert "no Jupyter kernel 'python3' to run the planner in; install ipykernel" in \
+        capsys.readouterr().err
+    assert no_exec == []
+
+
+def test_app_stops_clearly_when_the_notebook_is_not_one(no_exec, monkeypatch, capsys):
+    monkeypatch.setattr(app, "NOTEBOOK_PARTS", ("__init__.py",))
+    assert app.main([]) == 2
+    assert "the planner notebook cannot be read" in capsys.readouterr().err
+    assert no_exec == []
+
+
+@pytest.mark.parametrize("check", [True, False], ids=["check", "serve"])
 def test_app_stops_clearly_without_voila(no_exec, monkeypatch, capsys, check):
     find_spec = app.importlib.util.find_spec
     monkeypatch.setattr(app.importlib.util, "find_spec",

@@ -6,10 +6,11 @@ and shows only its output, the planner, at ``http://127.0.0.1:PORT/``. Without a
 the bundled demo house is opened. The server listens on 127.0.0.1 only; stop it with Ctrl+C.
 Once eaveline is installed, ``eaveline-planner`` is the same command.
 
-``--check`` starts no server: it finds the packaged notebook, imports Voila, loads the project
-and builds the :class:`~widgets.planner.Planner` once, then prints one line. Exit status 0 when
-the planner can start, 1 when the project cannot be loaded or planned, 2 when something the
-planner needs (Voila, the notebook, the project file) is missing or the command line is misused.
+``--check`` starts no server: it finds the packaged notebook and its kernel, imports Voila, loads
+the project and builds the :class:`~widgets.planner.Planner` once, then prints one line. Exit
+status 0 when the planner can start, 1 when the project cannot be loaded or planned, 2 when
+something the planner needs (Voila, the notebook, its kernel, the project file) is missing or
+the command line is misused.
 """
 
 from __future__ import annotations
@@ -17,6 +18,7 @@ from __future__ import annotations
 import argparse
 import importlib
 import importlib.util
+import json
 import os
 import sys
 import warnings
@@ -105,6 +107,42 @@ def require_voila(*, import_it: bool = False) -> str:
     return str(getattr(voila, "__version__", "?"))
 
 
+def require_kernel(notebook: Path) -> str:
+    """Check that the Jupyter kernel the notebook names is installed; raise if it is not.
+
+    Voila runs the notebook in that kernel (``python3``, from ipykernel); without it every page
+    load fails with "No Jupyter kernel", so the command says so before it starts.
+
+    Parameters
+    ----------
+    notebook : pathlib.Path
+        The planner notebook on disk (from :func:`planner_notebook`).
+
+    Returns
+    -------
+    str
+        The kernel's display name, e.g. ``"Python 3 (ipykernel)"``.
+
+    Raises
+    ------
+    StartError
+        When the notebook cannot be read or its kernel is not installed.
+    """
+    from jupyter_client.kernelspec import KernelSpecManager, NoSuchKernel
+
+    try:
+        document = json.loads(Path(notebook).read_text(encoding="utf-8"))
+        name = document["metadata"]["kernelspec"]["name"]
+    except (OSError, ValueError, KeyError, TypeError) as err:
+        raise StartError(f"the planner notebook cannot be read ({notebook}: "
+                         f"{type(err).__name__}: {err}); reinstall eaveline") from None
+    try:
+        return KernelSpecManager().get_kernel_spec(name).display_name
+    except NoSuchKernel:
+        raise StartError(f"no Jupyter kernel {name!r} to run the planner in; install ipykernel "
+                         "(a dependency of eaveline: reinstall eaveline)") from None
+
+
 def project_file(path) -> Path:
     """Return the absolute path of a project file; raise :class:`StartError` if there is none.
 
@@ -127,9 +165,9 @@ def project_file(path) -> Path:
 def startup_check(project=None) -> str:
     """Check that the planner can start, without starting a server.
 
-    Finds the project file and the packaged notebook, imports Voila, loads the project (the
-    demo house without one) and builds the :class:`~widgets.planner.Planner` once, as the
-    notebook does.
+    Finds the project file, imports Voila, finds the packaged notebook and the kernel it runs
+    in, loads the project (the demo house without one) and builds the
+    :class:`~widgets.planner.Planner` once, as the notebook does.
 
     Parameters
     ----------
@@ -139,23 +177,24 @@ def startup_check(project=None) -> str:
     Returns
     -------
     str
-        One line saying what was checked: the notebook, Voila's version, the project and
-        its module count.
+        One line saying what was checked: the notebook, Voila's version, the kernel, the
+        project and its module count.
 
     Raises
     ------
     StartError
-        When the notebook, Voila or the project file is missing (``status`` 2), or when the
-        project cannot be loaded or planned (``status`` 1; the message lists the problems).
+        When the notebook, its kernel, Voila or the project file is missing (``status`` 2), or
+        when the project cannot be loaded or planned (``status`` 1; the message lists the
+        problems).
     """
     from layout.errors import InputError
     from layout.project import ProjectFileError, load_demo_project, load_project
 
     path = project_file(project) if project is not None else None
-    with resources.as_file(planner_notebook()) as notebook:
-        require_notebook(notebook)
-        where = str(notebook)
     version = require_voila(import_it=True)
+    with resources.as_file(planner_notebook()) as notebook:
+        kernel = require_kernel(require_notebook(notebook))
+        where = str(notebook)
     from .planner import Planner  # ipywidgets and bqplot, only once the rest is there
 
     try:
@@ -166,7 +205,7 @@ def startup_check(project=None) -> str:
     except (ProjectFileError, InputError, OSError) as err:
         raise StartError(f"the planner cannot open {path or 'the demo project'}:\n{err}",
                          status=1) from None
-    return (f"planner OK: notebook {where}, Voila {version}, project "
+    return (f"planner OK: notebook {where}, Voila {version}, kernel {kernel}, project "
             f"{loaded.name!r} with {planner.array_layout.count} modules")
 
 
@@ -212,7 +251,7 @@ def serve(project=None, *, port: int = DEFAULT_PORT, open_browser: bool = False)
     Raises
     ------
     StartError
-        When Voila, the notebook or the project file is missing.
+        When Voila, the notebook, its kernel or the project file is missing.
     """
     require_voila()
     env = voila_environment()
@@ -221,7 +260,7 @@ def serve(project=None, *, port: int = DEFAULT_PORT, open_browser: bool = False)
     # An installed or checked-out package is a folder, so as_file gives the file itself; from
     # a zip it would extract a copy, which outlives this process (exec never returns).
     with resources.as_file(planner_notebook()) as notebook:
-        require_notebook(notebook)
+        require_kernel(require_notebook(notebook))
         print(f"eaveline planner: http://127.0.0.1:{port}/ (Ctrl+C stops it)", flush=True)
         command = voila_command(notebook, port=port, open_browser=open_browser)
         os.execve(sys.executable, command, env)
@@ -251,7 +290,7 @@ def main(argv=None) -> int:
     parser.add_argument("--open", action="store_true", help="open a browser tab")
     parser.add_argument("--check", action="store_true",
                         help="start no server: check that the planner can start (notebook, "
-                             "Voila, the project, the planner widget), print one line, exit")
+                             "kernel, Voila, the project, the planner widget), print one line")
     args = parser.parse_args(argv)
     try:
         if args.check:
