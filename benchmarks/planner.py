@@ -32,7 +32,6 @@ from pathlib import Path
 
 import numpy as np
 
-ROOT = Path(__file__).resolve().parents[1]
 CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
                  "--no-first-run", "--disable-background-networking",
                  "--disable-component-update", "--disable-sync"]
@@ -109,13 +108,14 @@ def browser_side(drags: int) -> dict:
     from playwright.sync_api import sync_playwright
 
     from layout import load_demo_project
+    from widgets.__main__ import planner_notebook
     from widgets.plan_view import obstruction_anchor
 
     chromium = shutil.which("chromium") or shutil.which("chromium-browser")
     if chromium is None:
         raise SystemExit("benchmarks/planner.py: Chromium is needed (apt-get install chromium)")
     folder = Path(tempfile.mkdtemp(prefix="eaveline-bench-"))
-    shutil.copy(ROOT / "example_notebooks" / "planner.ipynb", folder / "planner.ipynb")
+    (folder / "planner.ipynb").write_bytes(planner_notebook().read_bytes())  # the packaged one
     (folder / "toy.ipynb").write_text(json.dumps(_notebook(TOY)), encoding="utf-8")
     port = _free_port()
     server = subprocess.Popen(

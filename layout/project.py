@@ -17,6 +17,7 @@ import tempfile
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 from functools import cached_property
+from importlib import resources
 from pathlib import Path
 
 from .errors import InputError
@@ -460,7 +461,7 @@ def load_project(path) -> Project:
 
 def demo_project_path() -> Path:
     """Path of the bundled demo project (an invented house on an invented site)."""
-    return Path(__file__).with_name("data") / f"demo_house{FILE_SUFFIX}"
+    return Path(resources.files("layout") / "data" / f"demo_house{FILE_SUFFIX}")
 
 
 def load_demo_project() -> Project:

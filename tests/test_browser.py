@@ -1,6 +1,6 @@
 """The planner as a web app in a real browser: Voila, headless Chromium, a mouse drag.
 
-Starts Voila on 127.0.0.1 with ``example_notebooks/planner.ipynb``, opens it in Debian's
+Starts Voila on 127.0.0.1 with the packaged ``widgets/app/planner.ipynb``, opens it in Debian's
 Chromium through Playwright, drags the tree's marker toward the house, and checks that the
 annual shade loss the page shows is the one a fresh evaluation by the core
 (:func:`layout.study.analysis.evaluate`) gives for the tree where the app says it now stands. A
@@ -14,9 +14,6 @@ import importlib.util
 import os
 import re
 import shutil
-import socket
-import subprocess
-import sys
 import time
 from pathlib import Path
 
@@ -24,11 +21,15 @@ import pytest
 
 from layout import load_demo_project
 from layout.study.analysis import evaluate
+from widgets.__main__ import (
+    planner_notebook,
+    require_notebook,
+    voila_command,
+    voila_environment,
+)
 from widgets.forms import read_length
 from widgets.plan_view import obstruction_anchor
 
-ROOT = Path(__file__).resolve().parents[1]
-NOTEBOOK = ROOT / "example_notebooks" / "planner.ipynb"
 CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
                  "--no-first-run", "--disable-background-networking",
                  "--disable-component-update", "--disable-sync"]
@@ -82,46 +83,14 @@ def test_missing_browser_fails_under_ci_and_skips_elsewhere(monkeypatch):
         require_browser_tools()
 
 
-def _free_port() -> int:
-    with socket.socket() as sock:
-        sock.bind(("127.0.0.1", 0))
-        return sock.getsockname()[1]
-
-
 @pytest.fixture(scope="module")
-def voila_url(browser_tools, tmp_path_factory):
-    import psutil
-
-    port = _free_port()
+def voila_url(browser_tools, tmp_path_factory, local_server):
+    # the command and environment `python -m widgets` serves the packaged notebook with
+    notebook = require_notebook(Path(str(planner_notebook())))  # a folder package: the file
     log = tmp_path_factory.mktemp("voila") / "voila.log"
-    with open(log, "w") as stream:
-        server = subprocess.Popen(
-            [sys.executable, "-m", "voila", str(NOTEBOOK), "--no-browser", f"--port={port}",
-             "--Voila.ip=127.0.0.1", "--Voila.port_retries=0", "--theme=light",
-             "--VoilaConfiguration.show_tracebacks=True"],
-            stdout=stream, stderr=subprocess.STDOUT, cwd=tmp_path_factory.getbasetemp())
-    try:
-        deadline = time.monotonic() + 30
-        while True:  # a TCP connect, never a GET: every page load starts a kernel
-            try:
-                socket.create_connection(("127.0.0.1", port), timeout=0.5).close()
-                break
-            except OSError:
-                if server.poll() is not None or time.monotonic() > deadline:
-                    pytest.fail(f"Voila did not start; its log:\n{log.read_text()}")
-                time.sleep(0.1)
-        yield f"http://127.0.0.1:{port}/"
-    finally:
-        children = psutil.Process(server.pid).children(recursive=True)
-        server.terminate()
-        try:
-            server.wait(timeout=15)
-        except subprocess.TimeoutExpired:
-            server.kill()
-            server.wait(timeout=5)
-        for child in children:  # kernels that outlive the server are ended one by one
-            if child.is_running():
-                child.kill()
+    with local_server(lambda port: voila_command(notebook, port=port), log=log,
+                      cwd=tmp_path_factory.getbasetemp(), env=voila_environment()) as url:
+        yield url
 
 
 def _centre(box) -> tuple[float, float]:

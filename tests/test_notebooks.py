@@ -1,4 +1,8 @@
-"""Execute every example notebook end to end, as a new user would run them."""
+"""Execute every example notebook end to end, as a new user would run them, and the planner's.
+
+The planner notebook is package data of ``widgets`` (``python -m widgets`` serves it with
+Voila); it is run here from where the package keeps it, found the way the command finds it.
+"""
 
 from pathlib import Path
 
@@ -6,15 +10,20 @@ import nbformat
 import pytest
 from nbclient import NotebookClient
 
-NOTEBOOKS = sorted((Path(__file__).resolve().parents[1] / "example_notebooks").glob("*.ipynb"))
+from widgets.__main__ import planner_notebook
+
+EXAMPLES = sorted((Path(__file__).resolve().parents[1] / "example_notebooks").glob("*.ipynb"))
+PLANNER = Path(str(planner_notebook()))  # the package is a folder: this is the file itself
+NOTEBOOKS = [*EXAMPLES, PLANNER]
 
 
 @pytest.mark.notebooks
 @pytest.mark.parametrize("path", NOTEBOOKS, ids=[p.name for p in NOTEBOOKS])
 def test_notebook_runs_without_errors(path):
     notebook = nbformat.read(path, as_version=4)
-    # Run in the notebook's own folder, as a user opening it would, so that it finds its data
-    # files (example_notebooks/data/); the notebooks write nothing there.
+    # Run in the notebook's own folder, as a user opening it would (and as Voila runs the
+    # planner), so that it finds its data files (example_notebooks/data/); the notebooks
+    # write nothing there.
     client = NotebookClient(notebook, timeout=600, kernel_name="python3",
                             resources={"metadata": {"path": str(path.parent)}})
     client.execute()  # raises CellExecutionError naming the failing cell
@@ -23,5 +32,8 @@ def test_notebook_runs_without_errors(path):
     assert outputs, "the notebook printed nothing"
 
 
-def test_there_are_example_notebooks():
-    assert NOTEBOOKS
+def test_there_are_example_notebooks_and_the_planner_is_packaged():
+    assert EXAMPLES
+    assert PLANNER.is_file()
+    assert PLANNER.parent.parent.name == "widgets"
+    assert not (PLANNER.parents[2] / "example_notebooks" / "planner.ipynb").exists()

@@ -16,11 +16,12 @@ import shapely
 from shapely.geometry import shape
 
 from layout import load_demo_project
-from layout.project import project_to_dict
+from layout.project import demo_project_path, project_to_dict
 from layout.study.analysis import Analysis, evaluate
 from layout.study.compare import compare_layouts
 from layout.units import FOOT_M, INCH_M
 from widgets import Planner
+from widgets import __main__ as app
 from widgets.__main__ import voila_command
 from widgets.export import layout_geojson, module_table
 from widgets.plan_view import obstruction_anchor, plan_scene
@@ -435,6 +436,96 @@ def test_app_command_listens_on_localhost_only():
     command = voila_command(__import__("pathlib").Path("x.ipynb"), port=9999)
     assert "--Voila.ip=127.0.0.1" in command and "--port=9999" in command
     assert "--no-browser" in command
+
+
+@pytest.fixture
+def no_exec(monkeypatch):
+    """Record what ``python -m widgets`` would exec instead of replacing the test process."""
+    calls = []
+    monkeypatch.setattr(app.os, "execve", lambda *args: calls.append(args))
+    return calls
+
+
+def test_app_serves_the_packaged_notebook(no_exec, demo, capsys):
+    packaged = app.planner_notebook()
+    assert packaged.is_file() and packaged.name == "planner.ipynb"
+    assert app.main(["--port", "9999"]) == 0
+    executable, command, env = no_exec.pop()
+    assert executable == app.sys.executable
+    assert command == voila_command(packaged, port=9999)  # from a folder package: the file
+    assert "EAVELINE_PROJECT" not in env
+    assert "http://127.0.0.1:9999/" in capsys.readouterr().out
+    app.main([str(demo_project_path()), "--open"])
+    _, command, env = no_exec.pop()
+    assert env["EAVELINE_PROJECT"] == str(demo_project_path().resolve())
+    assert "--no-browser" not in command
+
+
+def test_app_check_builds_the_planner_once(no_exec, demo, capsys):
+    assert app.main(["--check"]) == 0
+    out = capsys.readouterr().out
+    assert out.count("\n") == 1 and out.startswith("planner OK: ")
+    assert f"notebook {app.planner_notebook()}," in out
+    assert f"{demo.name!r} with {demo.layout().count} modules" in out
+    assert no_exec == []  # no server
+
+
+def test_app_check_names_a_missing_project_file(no_exec, tmp_path, capsys):
+    missing = tmp_path / "nowhere.eaveline.json"
+    assert app.main(["--check", str(missing)]) == 2
+    assert app.main([str(missing)]) == 2
+    err = capsys.readouterr().err.splitlines()
+    assert err == [f"python -m widgets: no such project file: {missing}"] * 2
+    assert no_exec == []
+
+
+def test_app_check_lists_the_problems_of_a_bad_project(no_exec, tmp_path, capsys):
+    bad = tmp_path / "bad.eaveline.json"
+    bad.write_text(json.dumps({"eaveline_schema_version": 1}))
+    assert app.main(["--check", str(bad)]) == 1
+    err = capsys.readouterr().err
+    assert err.startswith(f"python -m widgets: the planner cannot open {bad}:")
+    assert "problem" in err and "buildings" in err
+
+
+@pytest.mark.parametrize("check", [True, False], ids=["check", "serve"])
+def test_app_stops_clearly_without_its_notebook(no_exec, monkeypatch, capsys, check):
+    monkeypatch.setattr(app, "NOTEBOOK_PARTS", ("app", "missing.ipynb"))
+    assert app.main(["--check"] if check else []) == 2
+    assert "the planner notebook is missing from the widgets package" in capsys.readouterr().err
+    assert no_exec == []
+
+
+@pytest.mark.parametrize("check", [True, False], ids=["check", "serve"])
+def test_app_stops_clearly_without_a_kernel(no_exec, monkeypatch, capsys, check):
+    # what Voila answers every page load with when ipykernel is missing: No Jupyter kernel
+    from jupyter_client.kernelspec import KernelSpecManager, NoSuchKernel
+
+    def no_kernel(self, name):
+        raise NoSuchKernel(name)
+
+    monkeypatch.setattr(KernelSpecManager, "get_kernel_spec", no_kernel)
+    assert app.main(["--check"] if check else []) == 2
+    assert "no Jupyter kernel 'python3' to run the planner in; install ipykernel" in \
+        capsys.readouterr().err
+    assert no_exec == []
+
+
+def test_app_stops_clearly_when_the_notebook_is_not_one(no_exec, monkeypatch, capsys):
+    monkeypatch.setattr(app, "NOTEBOOK_PARTS", ("__init__.py",))
+    assert app.main([]) == 2
+    assert "the planner notebook cannot be read" in capsys.readouterr().err
+    assert no_exec == []
+
+
+@pytest.mark.parametrize("check", [True, False], ids=["check", "serve"])
+def test_app_stops_clearly_without_voila(no_exec, monkeypatch, capsys, check):
+    find_spec = app.importlib.util.find_spec
+    monkeypatch.setattr(app.importlib.util, "find_spec",
+                        lambda name, *a: None if name == "voila" else find_spec(name, *a))
+    assert app.main(["--check"] if check else []) == 2
+    assert "Voila is not installed" in capsys.readouterr().err
+    assert no_exec == []
 
 
 def test_plan_redraw_is_quick(planner):
