@@ -68,7 +68,7 @@ def module_samples(modules, spec, *, samples_per_cell: int = 1) -> ModuleSamples
 
     Parameters
     ----------
-    modules : sequence of layout.fill.placement.PlacedModule
+    modules : sequence of layout.fill.placed.PlacedModule
         The modules, all of type ``spec``.
     spec : layout.scene.modules.ModuleSpec
         The module type; gives cells and substrings.
@@ -85,7 +85,7 @@ def module_samples(modules, spec, *, samples_per_cell: int = 1) -> ModuleSamples
     for k, m in enumerate(modules):
         if not hasattr(m, "cell_points"):
             raise InputError(f"modules[{k}]", "is not a placed module", value=type(m).__name__,
-                             allowed="layout.fill.placement.PlacedModule")
+                             allowed="layout.fill.placed.PlacedModule")
         p, c, s = m.cell_points(spec, samples_per_cell)
         pts.append(p)
         cell.append(c)
@@ -182,7 +182,7 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
 
     Parameters
     ----------
-    modules : sequence of layout.fill.placement.PlacedModule
+    modules : sequence of layout.fill.placed.PlacedModule
         The modules, all of type ``spec``.
     spec : layout.scene.modules.ModuleSpec
         The module type.

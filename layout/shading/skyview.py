@@ -193,7 +193,7 @@ def module_sky_view(modules, obstructions, *, grid: int = 3, include_modules: bo
 
     Parameters
     ----------
-    modules : sequence of layout.fill.placement.PlacedModule
+    modules : sequence of layout.fill.placed.PlacedModule
         The modules; their ``corners_3d`` give the points and their ``normal`` the front.
     obstructions : sequence of Block, Cylinder, Tree, Plate or HorizonProfile
         The scene, roof faces of the building included (as plates).
@@ -223,7 +223,7 @@ class SkyViewCache:
 
     Parameters
     ----------
-    modules : sequence of layout.fill.placement.PlacedModule
+    modules : sequence of layout.fill.placed.PlacedModule
     grid : int, keyword-only, default 3
     n_directions, ray_start, max_pairs
         As in :func:`module_sky_view`.
