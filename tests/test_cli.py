@@ -20,7 +20,7 @@ import pandas as pd
 import pvlib
 import pytest
 
-from layout.__main__ import CSV_FILES, REPORT_VERSION, evaluation_report, main
+from layout.cli import CSV_FILES, REPORT_VERSION, evaluation_report, main
 from layout.power.metrics import face_table
 from layout.project import demo_project_path, load_demo_project, load_project, save_project
 from layout.scene.site import Site
