@@ -20,7 +20,7 @@ import pandas as pd
 import pvlib
 import pytest
 
-from layout.__main__ import CSV_FILES, REPORT_VERSION, evaluation_report, main
+from layout.cli import CSV_FILES, REPORT_VERSION, evaluation_report, main
 from layout.power.metrics import face_table
 from layout.project import demo_project_path, load_demo_project, load_project, save_project
 from layout.scene.site import Site
@@ -279,6 +279,42 @@ def test_evaluate_matches_a_fresh_evaluation_with_another_shade_model(demo, anal
         analysis.update(demo)
     assert report["settings"]["shade_model"] == "irradiance"
     assert report["totals"]["energy_kwh"] == pytest.approx(expected["energy_kwh"], rel=1e-12)
+
+
+# How the two ways of starting the command line run it: the installed ``eaveline`` script calls
+# its entry point (as pip's generated script does), ``python -m layout`` runs layout/__main__.py.
+LAUNCHERS = {
+    "eaveline script": (
+        "from importlib.metadata import entry_points\n"
+        "script = next(iter(entry_points(group='console_scripts', name='eaveline')))\n"
+        "sys.argv = ['eaveline', 'check', sys.argv[1]]\n"
+        "status = script.load()()\n"),
+    "python -m layout": (
+        "import runpy\n"
+        "sys.argv = ['layout', 'check', sys.argv[1]]\n"
+        "try:\n"
+        "    runpy.run_module('layout', run_name='__main__', alter_sys=True)\n"
+        "except SystemExit as done:\n"
+        "    status = done.code\n"),
+}
+
+
+@pytest.mark.parametrize("launcher", sorted(LAUNCHERS))
+def test_both_launchers_turn_the_hugepage_advice_off(launcher, tmp_path):
+    # The eaveline console script once skipped layout.runtime.quiet_hugepages, which ran only
+    # under ``if __name__ == "__main__"``; both ways must leave the advice off in the process
+    # and NUMPY_MADVISE_HUGEPAGE=0 for its children (Dask workers).
+    from layout.runtime import HUGEPAGE_VARIABLE
+
+    code = ("import os, sys\n" + LAUNCHERS[launcher]
+            + "from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice\n"
+            "print(status, os.environ.get(HUGEPAGE_VARIABLE), hugepage_advice())\n")
+    env = {k: v for k, v in os.environ.items() if k != HUGEPAGE_VARIABLE}
+    done = subprocess.run([sys.executable, "-c", code, str(demo_project_path())], env=env,
+                          cwd=tmp_path, capture_output=True, text=True, timeout=120,
+                          check=False)
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.splitlines()[-1] == "0 0 False"
 
 
 def test_commands_turn_numpy_hugepage_advice_off_unless_the_user_chose():

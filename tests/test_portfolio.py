@@ -20,6 +20,7 @@ import pytest
 import shapely
 
 from layout import load_project
+from layout.cli import portfolio_main
 from layout.errors import InputError
 from layout.fill.clearance import roof_mounted
 from layout.project import project_to_dict
@@ -33,7 +34,6 @@ from layout.study.portfolio import (
     _local_cluster,
     _rows_of_a_lost_task,
     find_projects,
-    portfolio_main,
     run_portfolio,
     synthetic_portfolio,
     write_synthetic_portfolio,
@@ -363,7 +363,7 @@ def test_a_task_lost_for_good_keeps_what_it_wrote(portfolio, tmp_path):
 
 
 def test_batch_is_a_command_of_python_m_layout(tmp_path):
-    from layout.__main__ import main
+    from layout.cli import main
 
     assert main(["batch", str(tmp_path / "nowhere"), "-o", str(tmp_path / "out"),
                  "--serial", "--no-progress"]) == 2

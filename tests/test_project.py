@@ -7,7 +7,7 @@ import os
 import pytest
 
 import layout
-from layout.__main__ import main, project_summary
+from layout.cli import main, project_summary
 from layout.project import (
     FILE_SUFFIX,
     SCHEMA_KEY,

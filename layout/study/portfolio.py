@@ -42,7 +42,6 @@ shared file system) and have eaveline installed.
 
 from __future__ import annotations
 
-import argparse
 import hashlib
 import json
 import math
@@ -54,7 +53,7 @@ import tempfile
 import time
 import uuid
 from collections import OrderedDict
-from collections.abc import Callable, Sequence
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -75,7 +74,6 @@ __all__ = [
     "PortfolioEntry",
     "PortfolioRun",
     "find_projects",
-    "portfolio_main",
     "run_portfolio",
     "synthetic_portfolio",
     "write_synthetic_portfolio",
@@ -843,61 +841,3 @@ def write_synthetic_portfolio(folder, n_projects: int, *, seed: int = 0,
     folder = Path(folder)
     return [save_project(project, folder / f"synthetic-{n:05d}{FILE_SUFFIX}")
             for n, project in enumerate(synthetic_portfolio(n_projects, seed=seed, **options))]
-
-
-# --------------------------------------------------------------------------- command line
-def _parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
-        prog="python -m layout batch",
-        description="Evaluate every project of a portfolio and write one summary table.")
-    parser.add_argument("source", help="a folder of *.eaveline.json files, or a CSV with a "
-                                       "'path' column")
-    parser.add_argument("-o", "--out", required=True, help="output folder")
-    parser.add_argument("--format", choices=FORMATS, default="parquet",
-                        help="table format (default parquet)")
-    parser.add_argument("--module-tables", action="store_true",
-                        help="also write the per-module tables of all projects")
-    where = parser.add_mutually_exclusive_group()
-    where.add_argument("--scheduler", metavar="ADDRESS",
-                       help="address of a running Dask scheduler (tcp://host:port); default a "
-                            "local cluster on 127.0.0.1")
-    where.add_argument("--serial", action="store_true",
-                       help="evaluate in this process, without Dask")
-    parser.add_argument("--workers", type=int, help="worker processes of the local cluster "
-                                                    "(default one per core)")
-    parser.add_argument("--chunk-size", type=int, help="most projects per task")
-    parser.add_argument("--retry-failed", action="store_true",
-                        help="evaluate again the projects an earlier run recorded as failed")
-    parser.add_argument("--no-progress", action="store_true", help="no progress bar")
-    return parser
-
-
-def portfolio_main(argv: Sequence[str] | None = None) -> int:
-    """Run ``python -m layout batch``; return the exit status.
-
-    0 when every project was evaluated, 1 when some failed (their rows say why; the table is
-    written all the same), 2 for bad arguments or an unreadable portfolio.
-    """
-    args = _parser().parse_args(argv)
-    scheduler = "serial" if args.serial else args.scheduler
-    try:
-        run = run_portfolio(args.source, args.out, format=args.format,
-                            module_tables=args.module_tables, scheduler=scheduler,
-                            workers=args.workers, chunk_size=args.chunk_size,
-                            retry_failed=args.retry_failed, progress=not args.no_progress)
-    except (InputError, OSError) as err:
-        print(f"error: {err}", file=sys.stderr)
-        return 2
-    total = len(run.computed) + len(run.skipped)
-    print(f"{total} projects: {len(run.computed)} evaluated, {len(run.skipped)} already done, "
-          f"{len(run.failed)} failed; {run.seconds:.1f} s")
-    print(f"summary: {run.summary_path}")
-    if run.modules_path:
-        print(f"modules: {run.modules_path}")
-    if run.failed:
-        table = run.table()
-        for row in table[table["status"] != "ok"].itertuples():
-            first = str(row.error).splitlines()[0]
-            print(f"  failed: {row.project}: {first}")
-        return 1
-    return 0

@@ -1,0 +1,112 @@
+"""The command line's grammar: the argparse parsers of every command, their options and help."""
+
+from __future__ import annotations
+
+import argparse
+
+from ..fill.faces import FILL_ORIENTATIONS
+from ..power.electrical import SHADE_MODELS
+
+__all__ = ["batch_parser", "command_parser", "fill_orientations"]
+
+
+def fill_orientations(text: str) -> tuple[str, ...]:
+    """Parse ``--orientations``: comma-separated names of :data:`FILL_ORIENTATIONS`.
+
+    Parameters
+    ----------
+    text : str
+        As typed, e.g. ``"portrait,landscape"``; blanks around names are ignored.
+
+    Returns
+    -------
+    tuple of str
+        The names in the order given.
+    """
+    names = tuple(part.strip() for part in text.split(",") if part.strip())
+    for name in names:
+        if name not in FILL_ORIENTATIONS:
+            raise argparse.ArgumentTypeError(
+                f"unknown orientation {name!r} (allowed: {', '.join(FILL_ORIENTATIONS)})")
+    return names
+
+
+def command_parser() -> argparse.ArgumentParser:
+    """Return the parser of ``python -m layout``: summary, check, evaluate, batch, compare.
+
+    ``batch`` is listed for its help line only; its options are :func:`batch_parser`'s.
+    """
+    parser = argparse.ArgumentParser(prog="python -m layout",
+                                     description="eaveline: rooftop PV layout and shading.")
+    commands = parser.add_subparsers(dest="command", required=True)
+    summary = commands.add_parser("summary", help="print a project's layout summary")
+    summary.add_argument("project", nargs="?", help="a .eaveline.json project file")
+    summary.add_argument("--demo", action="store_true", help="use the bundled demo project")
+    check = commands.add_parser("check", help="check a project file and list its problems")
+    check.add_argument("project", help="a .eaveline.json project file")
+
+    def common(sub):
+        sub.add_argument("project", nargs="?", help="a .eaveline.json project file")
+        sub.add_argument("--demo", action="store_true", help="use the bundled demo project")
+        sub.add_argument("--weather", metavar="FILE",
+                         help="a TMY3 .csv, TMY2 .tm2 or EPW .epw weather file (instead of "
+                              "the project's; default clear sky)")
+        sub.add_argument("--shade-model", choices=SHADE_MODELS,
+                         help="bypass-diode shade model (instead of the project's)")
+        sub.add_argument("--json", action="store_true", help="print one JSON object")
+
+    evaluate = commands.add_parser("evaluate", help="annual energy and shade loss of the "
+                                                    "layout, per module and in total")
+    common(evaluate)
+    evaluate.add_argument("--csv", metavar="DIR",
+                          help="also write the module, face, monthly and month × hour tables "
+                               "as CSV files into DIR")
+    commands.add_parser("batch", help="evaluate many project files on Dask "
+                        "(python -m layout batch --help)", add_help=False)
+    compare = commands.add_parser("compare", help="portrait, landscape and mixed side by "
+                                                  "side, with and without the worst modules")
+    common(compare)
+    compare.add_argument("--orientations", type=fill_orientations,
+                         default=("portrait", "landscape", "mixed"), metavar="O,O",
+                         help="comma-separated fill orientations (default "
+                              "portrait,landscape,mixed)")
+    compare.add_argument("--min-tsrf", type=float, metavar="PCT",
+                         help="drop modules with TSRF below PCT (default: the project's "
+                              "threshold when no limit is given)")
+    compare.add_argument("--min-energy", type=float, metavar="KWH",
+                         help="drop modules with annual energy below KWH")
+    compare.add_argument("--max-shade-loss", type=float, metavar="PCT",
+                         help="drop modules with shade loss above PCT")
+    compare.add_argument("--keep-worst", action="store_true",
+                         help="compare the full fills only")
+    return parser
+
+
+def batch_parser() -> argparse.ArgumentParser:
+    """Return the parser of ``python -m layout batch`` (a portfolio on Dask)."""
+    # imported here: the portfolio module loads Dask, which the other commands do without
+    from ..study.portfolio import FORMATS
+
+    parser = argparse.ArgumentParser(
+        prog="python -m layout batch",
+        description="Evaluate every project of a portfolio and write one summary table.")
+    parser.add_argument("source", help="a folder of *.eaveline.json files, or a CSV with a "
+                                       "'path' column")
+    parser.add_argument("-o", "--out", required=True, help="output folder")
+    parser.add_argument("--format", choices=FORMATS, default="parquet",
+                        help="table format (default parquet)")
+    parser.add_argument("--module-tables", action="store_true",
+                        help="also write the per-module tables of all projects")
+    where = parser.add_mutually_exclusive_group()
+    where.add_argument("--scheduler", metavar="ADDRESS",
+                       help="address of a running Dask scheduler (tcp://host:port); default a "
+                            "local cluster on 127.0.0.1")
+    where.add_argument("--serial", action="store_true",
+                       help="evaluate in this process, without Dask")
+    parser.add_argument("--workers", type=int, help="worker processes of the local cluster "
+                                                    "(default one per core)")
+    parser.add_argument("--chunk-size", type=int, help="most projects per task")
+    parser.add_argument("--retry-failed", action="store_true",
+                        help="evaluate again the projects an earlier run recorded as failed")
+    parser.add_argument("--no-progress", action="store_true", help="no progress bar")
+    return parser
