@@ -31,7 +31,7 @@ from .scene.modules import ModuleSpec
 from .scene.obstructions import obstruction_from_dict
 from .scene.roof import RoofFace
 from .scene.site import Site
-from .scene.survey import SurveyEntry
+from .scene.survey import SurveyEntry, build_obstruction
 
 __all__ = [
     "FILE_SUFFIX",
@@ -153,7 +153,7 @@ class Project:
         its leaf-on months from the site's hemisphere.
         """
         hemisphere = "north" if self.site.latitude >= 0 else "south"
-        return self.obstructions + tuple(entry.obstruction(hemisphere=hemisphere)
+        return self.obstructions + tuple(build_obstruction(entry, hemisphere=hemisphere)
                                          for entry in self.survey)
 
     @property

@@ -25,6 +25,7 @@ from layout.scene.survey import (
     GROWTH_CLASS_RATES_M_PER_YR,
     Reading,
     SurveyEntry,
+    entry_geometry,
     loss_range,
 )
 from layout.study.analysis import Analysis, evaluate
@@ -229,7 +230,7 @@ def test_heights_grow_by_rate_times_years(project, outlook):
     rate = GROWTH_CLASS_RATES_M_PER_YR["medium"]
     assert GROWTH_CLASS_LIMITS_M_PER_YR[0] < rate < GROWTH_CLASS_LIMITS_M_PER_YR[1]
     assert rate == pytest.approx(18 * 0.0254, abs=1e-12)
-    height = project.survey[0].geometry()["height_m"]
+    height = entry_geometry(project.survey[0])["height_m"]
     row = outlook.tree_heights_m.loc["oak"]
     assert row["growth_m_per_yr"] == pytest.approx(rate)
     for year in (0, 1, 10, 25):
@@ -274,7 +275,7 @@ def test_lifetime_energy_lost_is_the_sum_of_every_year(outlook):
 def test_a_mature_height_caps_the_growth(project, analysis):
     # the oak grows 0.4572 m/yr (medium class, as above) until it reaches the mature height
     # the surveyor gave; past it the years shade alike
-    height = project.survey[0].geometry()["height_m"]
+    height = entry_geometry(project.survey[0])["height_m"]
     capped = small_project(survey=(oak(mature_height_m=height + 2.0),))
     result = growth_outlook(capped, years=(1, 4, 10, 25), life_years=25, analysis=analysis)
     row = result.tree_heights_m.loc["oak"]

@@ -30,6 +30,7 @@ from layout.scene.survey import (
     Reading,
     SurveyEntry,
     SurveyProblem,
+    build_obstruction,
     elevation_tangent,
     entries_from_table,
     grown_tree,
@@ -38,6 +39,7 @@ from layout.scene.survey import (
     height_error_from_angle,
     height_laser,
     height_per_degree,
+    height_range,
     height_tangent,
     laser_horizontal_distance,
     loss_range,
@@ -45,7 +47,9 @@ from layout.scene.survey import (
     position_from_bearing,
     projected_trees,
     read_survey_csv,
+    sample_entry,
     sample_obstructions,
+    sample_readings,
     survey_table,
     true_bearing,
 )
@@ -163,7 +167,7 @@ def test_entry_defaults_and_tree():
     assert e.top_angle_deg == Reading(17.0, ANGLE_TOLERANCE_DEG)
     assert e.distance_m.tolerance == TAPE_DISTANCE_TOLERANCE_M
     assert e.bearing_deg.tolerance == BEARING_TOLERANCE_DEG
-    tree = e.obstruction()
+    tree = build_obstruction(e)
     assert isinstance(tree, Tree) and tree.name == "maple"
     assert m_to_feet(tree.height) == pytest.approx(20.79, abs=0.005)
     assert tree.center == pytest.approx((0.0, -feet_to_m(50)), abs=1e-9)
@@ -171,8 +175,8 @@ def test_entry_defaults_and_tree():
     laser = SurveyEntry("tree", 0.0, 25.0, math.degrees(math.atan2(3, 4)), method="laser",
                         crown_radius_m=2.0, crown_base_m=3.0)
     assert laser.distance_m.tolerance == LASER_DISTANCE_TOLERANCE_M
-    assert laser.obstruction().height == pytest.approx(15.0 + DEFAULT_EYE_HEIGHT_M)
-    assert laser.obstruction().center == pytest.approx((0.0, 20.0), abs=1e-9)
+    assert build_obstruction(laser).height == pytest.approx(15.0 + DEFAULT_EYE_HEIGHT_M)
+    assert build_obstruction(laser).center == pytest.approx((0.0, 20.0), abs=1e-9)
 
 
 def test_entry_crown_base_angle_and_slope():
@@ -181,13 +185,13 @@ def test_entry_crown_base_angle_and_slope():
     t = math.tan
     e = SurveyEntry("tree", 90.0, 12.0, 40.0, base_angle_deg=-10.0, crown_radius_m=2.5,
                     crown_base_angle_deg=5.0, trunk_radius_m=0.3, deciduous=True)
-    tree = e.obstruction()
+    tree = build_obstruction(e)
     r = math.radians
     assert tree.height == pytest.approx(12 * (t(r(40)) + t(r(10))), rel=1e-12)
     assert tree.crown_base == pytest.approx(12 * (t(r(5)) + t(r(10))), rel=1e-12)
     assert tree.trunk_radius == 0.3
     assert tree.transmittance == Tree.deciduous((0, 0), 1, 1, 0).transmittance
-    south = e.obstruction(hemisphere="south")
+    south = build_obstruction(e, hemisphere="south")
     assert south.transmittance[0] == tree.transmittance[6]
 
 
@@ -195,7 +199,7 @@ def test_entry_block_footprint_and_cylinder():
     # Chimney due east 8 m, seen face on: width across the line of sight (north-south).
     e = SurveyEntry("chimney", 90.0, 8.0, 30.0, base_angle_deg=20.0, width_m=0.8, depth_m=0.6,
                     station_z_m=0.5, eye_height_m=1.5)
-    b = e.obstruction()
+    b = build_obstruction(e)
     assert isinstance(b, Block) and b.kind == "chimney"
     xmin, ymin, zmin, xmax, ymax, zmax = b.bounds
     assert (xmin, xmax, ymin, ymax) == pytest.approx((7.7, 8.3, -0.4, 0.4), abs=1e-12)
@@ -203,8 +207,8 @@ def test_entry_block_footprint_and_cylinder():
     assert zmax == pytest.approx(2.0 + 8 * math.tan(r(30)), rel=1e-12)
     assert zmin == pytest.approx(2.0 + 8 * math.tan(r(20)), rel=1e-12)
     # An axis read by compass, with declination: width along true 45° (magnetic 55°, 10° W).
-    rotated = SurveyEntry("wall", 0.0, 10.0, 20.0, width_m=4.0, depth_m=0.2, axis_deg=55.0,
-                          declination_deg=-10.0).obstruction()
+    rotated = build_obstruction(SurveyEntry("wall", 0.0, 10.0, 20.0, width_m=4.0, depth_m=0.2,
+                                            axis_deg=55.0, declination_deg=-10.0))
     pts = np.array(rotated.footprint)
     long_edge = pts[1] - pts[0]
     assert np.linalg.norm(long_edge) == pytest.approx(4.0)
@@ -212,8 +216,8 @@ def test_entry_block_footprint_and_cylinder():
     assert rotated.footprint_polygon.area == pytest.approx(0.8)
     assert rotated.footprint_polygon.centroid.coords[0] == pytest.approx(
         (10 * math.sin(r(-10)), 10 * math.cos(r(-10))))
-    c = SurveyEntry("vent", 45.0, 20.0, 15.0, method="laser", radius_m=0.05,
-                    base_angle_deg=12.0).obstruction()
+    c = build_obstruction(SurveyEntry("vent", 45.0, 20.0, 15.0, method="laser", radius_m=0.05,
+                                      base_angle_deg=12.0))
     assert isinstance(c, Cylinder) and c.radius == 0.05 and c.kind == "vent"
 
 
@@ -268,7 +272,7 @@ def test_height_range_corners():
     # (d ± δd)·tan(θ ± δθ) + eye.
     e = tree_entry(distance_m=Reading(15.0, 0.2), top_angle_deg=Reading(40.0, 1.0),
                    crown_base_m=Reading(2.0, 0.0))
-    low, high = e.height_range()
+    low, high = height_range(e)
     t, r = math.tan, math.radians
     assert low == pytest.approx(14.8 * t(r(39)) + DEFAULT_EYE_HEIGHT_M, rel=1e-12)
     assert high == pytest.approx(15.2 * t(r(41)) + DEFAULT_EYE_HEIGHT_M, rel=1e-12)
@@ -344,28 +348,28 @@ def test_from_dict_errors():
 # ------------------------------------------------------------------ sampling
 def test_sampling_distributions():
     e = tree_entry(distance_m=Reading(15.0, 0.4), top_angle_deg=Reading(40.0, 1.0))
-    draws = e.sample_readings(20000, seed=3)
+    draws = sample_readings(e, 20000, seed=3)
     assert set(draws) == {"bearing_deg", "distance_m", "top_angle_deg", "crown_radius_m",
                           "crown_base_m"}
     z = (draws["top_angle_deg"] - 40.0) / 1.0
     assert np.abs(z).max() <= 1.0
     # normal with σ = tolerance/2 truncated at ±2σ: scipy.stats.truncnorm(-2, 2)
     assert z.std() == pytest.approx(stats.truncnorm(-2, 2).std() / 2, rel=0.02)
-    u = e.sample_readings(20000, seed=3, distribution="uniform")
+    u = sample_readings(e, 20000, seed=3, distribution="uniform")
     # uniform over ±tolerance: standard deviation tolerance/√3
     assert u["distance_m"].std() == pytest.approx(0.4 / math.sqrt(3), rel=0.02)
-    again = e.sample_readings(20000, seed=3)
+    again = sample_readings(e, 20000, seed=3)
     assert np.array_equal(again["top_angle_deg"], draws["top_angle_deg"])
     with pytest.raises(InputError):
-        e.sample_readings(0)
+        sample_readings(e, 0)
     with pytest.raises(InputError):
-        e.sample_readings(5, distribution="triangular")
+        sample_readings(e, 5, distribution="triangular")
 
 
 def test_sample_builds_valid_obstructions_within_range():
     e = SurveyEntry("chimney", 90.0, 8.0, 30.0, base_angle_deg=20.0, width_m=0.8, depth_m=0.6)
-    low, high = e.height_range()
-    blocks = e.sample(200, seed=1)
+    low, high = height_range(e)
+    blocks = sample_entry(e, 200, seed=1)
     heights = np.array([b.top - b.base for b in blocks])
     assert all(isinstance(b, Block) for b in blocks)
     assert heights.min() >= low and heights.max() <= high
@@ -425,7 +429,7 @@ def test_loss_range_with_shaded_pole():
     tops = [s[0].top for s in sample_obstructions([e], n, seed)]
     expected = np.percentile([closed_form(t) for t in tops], (5, 50, 95))
     assert result.values == pytest.approx(expected, abs=1e-12)
-    assert result.nominal == pytest.approx(closed_form(e.obstruction().top))
+    assert result.nominal == pytest.approx(closed_form(build_obstruction(e).top))
     assert result.values[0] < result.nominal < result.values[2]
 
 
@@ -436,10 +440,10 @@ def test_loss_range_per_module_and_year():
     assert result.values.shape == (2, 2)
     grown = obstructions_at_year([e], 10)[0]
     assert result.nominal == pytest.approx([grown.height, grown.crown_radius])
-    assert grown.height == pytest.approx(e.obstruction().height + 10 * 18 * 0.0254)
+    assert grown.height == pytest.approx(build_obstruction(e).height + 10 * 18 * 0.0254)
     narrow = loss_range([e], lambda obs: obs[0].crown_radius, samples=5, year=10,
                         widen_crown=False)
-    assert narrow.nominal == e.obstruction().crown_radius
+    assert narrow.nominal == build_obstruction(e).crown_radius
     with pytest.raises(InputError):
         loss_range([e], lambda obs: 0.0, percentiles=(5, 120))
 
@@ -519,7 +523,7 @@ def test_read_fixture_keeps_good_rows_and_reports_bad_ones():
         assert SurveyProblem.from_dict(json.loads(json.dumps(p.to_dict()))) == p
     # The imperial row is the REFERENCES.md worked example: 50 ft at 17°, eye 5.5 ft -> 20.79 ft
     maple = entries_[0]
-    assert m_to_feet(maple.obstruction().height) == pytest.approx(20.79, abs=0.005)
+    assert m_to_feet(build_obstruction(maple).height) == pytest.approx(20.79, abs=0.005)
     assert maple.crown_radius_m.value == pytest.approx(10 * FOOT_M)
     assert maple.deciduous and maple.growth_m_per_yr == "medium"
     assert entries_[3].distance_m.value == 3.5 and entries_[3].growth_m_per_yr == 0.5
@@ -586,7 +590,7 @@ def test_entries_from_typed_frame():
     })
     es, problems = entries_from_table(frame)
     assert len(es) == 1
-    assert m_to_feet(es[0].obstruction().height) == pytest.approx(20.79, abs=0.005)
+    assert m_to_feet(build_obstruction(es[0]).height) == pytest.approx(20.79, abs=0.005)
     assert [(p.row, p.column) for p in problems] == [(3, "top_angle_deg")]
 
 
@@ -597,7 +601,7 @@ def test_a_tree_on_a_bank_keeps_its_foot():
 
     entry = SurveyEntry("tree", 180.0, 20.0, 30.0, base_angle_deg=5.0, eye_height_m=1.6,
                         crown_radius_m=3.0, crown_base_m=3.0)
-    tree = entry.obstruction()
+    tree = build_obstruction(entry)
     foot = 20.0 * math.tan(math.radians(5.0)) + 1.6
     assert tree.ground_m == pytest.approx(foot, abs=1e-9)
     assert tree.height == pytest.approx(20.0 * (math.tan(math.radians(30.0))
@@ -610,15 +614,15 @@ def test_conifer_entry_builds_a_cone_crown_from_its_readings():
     # a conifer: the same tangent height as a broadleaf (REFERENCES.md "Survey": height from
     # distance and top angle), its crown a cone from the crown base to that top
     spruce = tree_entry(name="spruce", crown_shape="cone", crown_radius_m=2.0)
-    tree = spruce.obstruction()
+    tree = build_obstruction(spruce)
     assert tree.crown_shape == "cone"
     assert tree.height == pytest.approx(height_tangent(15.0, 40.0))
     assert tree.crown_base == pytest.approx(2.0) and tree.crown_radius == pytest.approx(2.0)
-    assert all(t.crown_shape == "cone" for t in spruce.sample(5, seed=3))
+    assert all(t.crown_shape == "cone" for t in sample_entry(spruce, 5, seed=3))
     assert spruce.to_dict()["crown_shape"] == "cone"
     assert SurveyEntry.from_dict(spruce.to_dict()) == spruce
     assert "crown_shape" not in tree_entry().to_dict()  # rounded crowns: files as before
-    deciduous = tree_entry(crown_shape="cone", deciduous=True).obstruction()
+    deciduous = build_obstruction(tree_entry(crown_shape="cone", deciduous=True))
     assert deciduous.crown_shape == "cone" and deciduous.transmittance is not None
     # grown over the years, it stays a cone
     assert grown_tree(tree, 10, growth="slow").crown_shape == "cone"
@@ -647,7 +651,7 @@ def test_mature_height_caps_growth_and_travels_with_the_tree():
     # the rule: height = min(surveyed + rate * years, mature height); a tree already taller
     # keeps its height; the cap is kept in the entry, the tree, the file and the CSV
     entry = tree_entry(growth_m_per_yr=0.5, mature_height_m=14.0)
-    tree = entry.obstruction()
+    tree = build_obstruction(entry)
     h0 = height_tangent(15.0, 40.0)  # 14.19 m with the default eye height
     assert tree.mature_height_m == 14.0 and tree.height == pytest.approx(h0)
     assert grown_tree(tree, 10).height == pytest.approx(h0)  # already past the cap

@@ -17,6 +17,7 @@ from shapely.geometry import shape
 
 from layout import load_demo_project
 from layout.project import demo_project_path, project_to_dict
+from layout.scene.survey import build_obstruction, entry_geometry
 from layout.study.analysis import Analysis, evaluate
 from layout.study.compare import compare_layouts
 from layout.units import FOOT_M, INCH_M
@@ -896,7 +897,7 @@ def shown_height_ft(panel) -> float:
 
 
 def test_survey_form_shows_the_worked_example_height():
-    from layout.scene.survey import height_tangent
+    from layout.scene.survey import height_range, height_tangent
     from widgets.survey_panel import SurveyPanel
 
     panel = SurveyPanel()
@@ -908,10 +909,10 @@ def test_survey_form_shows_the_worked_example_height():
     assert entry == worked_entry()
     # REFERENCES.md worked example: 20.8 ft (the formula gives 20.79 ft)
     expected = height_tangent(50 * FOOT_M, 17.0, eye_height_m=5.5 * FOOT_M)
-    assert entry.geometry()["height_m"] == pytest.approx(expected, rel=1e-12)
+    assert entry_geometry(entry)["height_m"] == pytest.approx(expected, rel=1e-12)
     assert shown_height_ft(panel) == pytest.approx(expected / FOOT_M, abs=0.005)
     assert shown_height_ft(panel) == pytest.approx(20.8, abs=0.05)
-    low, high = entry.height_range()
+    low, high = height_range(entry)
     assert f"from {low / FOOT_M:.2f} ft" in panel.readout.value
     assert f"to {high / FOOT_M:.2f} ft" in panel.readout.value
     assert f"{expected / FOOT_M:.2f} ft" in panel.list_html.value
@@ -956,7 +957,7 @@ def test_a_surveyed_tree_stands_on_the_plan_and_in_the_figures(planner, demo, re
     type_readings(planner.survey, WORKED_EXAMPLE)
     assert planner.project.survey == (worked_entry(),)
     assert planner.project.obstructions == demo.obstructions
-    g = worked_entry().geometry()
+    g = entry_geometry(worked_entry())
     plan = planner.plan
     assert plan.surveyed_markers.x[0] == pytest.approx(g["x_m"] / FOOT_M)
     assert plan.surveyed_markers.y[0] == pytest.approx(g["y_m"] / FOOT_M)
@@ -969,7 +970,7 @@ def test_a_surveyed_tree_stands_on_the_plan_and_in_the_figures(planner, demo, re
     assert shown_loss(planner) == pytest.approx(totals["shade_loss_pct"], abs=0.005)
     assert totals["shade_loss_pct"] > core_result(reference, demo).totals["shade_loss_pct"]
     # the sky chart and the shadows see the surveyed tree as well
-    assert planner.project.scene_obstructions[-1] == worked_entry().obstruction()
+    assert planner.project.scene_obstructions[-1] == build_obstruction(worked_entry())
 
 
 def test_a_surveyed_conifer_with_a_cone_crown_and_a_mature_height(planner, demo, reference):
@@ -978,8 +979,8 @@ def test_a_surveyed_conifer_with_a_cone_crown_and_a_mature_height(planner, demo,
     planner.survey.rows["crown_shape"].input.value = "cone"  # the Crown choice in the form
     entry = planner.project.survey[0]
     assert entry.crown_shape == "cone"
-    assert planner.project.scene_obstructions[-1] == replace(worked_entry(),
-                                                             crown_shape="cone").obstruction()
+    assert planner.project.scene_obstructions[-1] == build_obstruction(
+        replace(worked_entry(), crown_shape="cone"))
     totals = core_result(reference, planner.project).totals
     assert shown_loss(planner) == pytest.approx(totals["shade_loss_pct"], abs=0.005)
     # a mature height typed in feet caps its growth

@@ -36,6 +36,8 @@ from layout.scene.survey import (
     SURVEY_KINDS,
     SurveyEntry,
     default_tolerance,
+    entry_geometry,
+    height_range,
     read_survey_csv,
     survey_table,
 )
@@ -794,8 +796,8 @@ class SurveyPanel(Quiet, w.VBox):
 
     def _readout(self, entry: SurveyEntry) -> str:
         units = self.units
-        g = entry.geometry()
-        low, high = entry.height_range()
+        g = entry_geometry(entry)
+        low, high = height_range(entry)
         parts = [f"<b class='eaveline-survey-height'>Height {height_text(g['height_m'], units)}"
                  f"</b> <span class='eaveline-survey-height-range'>(from "
                  f"{height_text(low, units)} to {height_text(high, units)} over the "

@@ -240,7 +240,7 @@ def sampled_projects(project, samples: int = DEFAULT_SAMPLES, *, seed: int | Non
     seed : int or None, keyword-only, default 0
         Seed of the generator.
     distribution : {"normal", "uniform"}, keyword-only
-        As in :meth:`layout.scene.survey.SurveyEntry.sample_readings`.
+        As in :func:`layout.scene.survey.sample_readings`.
     year : int, keyword-only, default 0
         Years of tree growth applied to every draw (:func:`project_at_year`).
     widen_crown : bool, keyword-only, default True
@@ -481,7 +481,7 @@ def shade_loss_range(project, *, samples: int = DEFAULT_SAMPLES, seed: int | Non
     percentiles : sequence of float, keyword-only, default (5, 95)
         Percentiles to report [%], 0 to 100.
     distribution : {"normal", "uniform"}, keyword-only, default "normal"
-        As in :meth:`layout.scene.survey.SurveyEntry.sample_readings`.
+        As in :func:`layout.scene.survey.sample_readings`.
     confidence : float, keyword-only, default 0.9
         Confidence level of each percentile's sampling-error interval [fraction].
     year : int, keyword-only, default 0
