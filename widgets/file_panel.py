@@ -31,6 +31,8 @@ class FilePanel(w.VBox):
 
     Attributes
     ----------
+    project, array_layout : layout.project.Project, layout.fill.placed.Layout
+        What :meth:`show` was last given: what :meth:`save` and the exports write.
     project_path, export_path : ipywidgets.Text
         Where the project is saved and loaded; the stem the exports are written to.
     save_button, load_button, csv_button, geojson_button : ipywidgets.Button
@@ -41,7 +43,7 @@ class FilePanel(w.VBox):
 
     def __init__(self, path=None):
         self.project = None
-        self.layout_shown = None
+        self.array_layout = None
         self._callbacks: list[Callable] = []
         default = Path(path) if path else Path.home() / "eaveline" / f"project{FILE_SUFFIX}"
         self.project_path = w.Text(value=str(default), description="Project file",
@@ -74,7 +76,7 @@ class FilePanel(w.VBox):
 
     def show(self, project, layout) -> None:
         """Hold the project and its layout (a :class:`layout.fill.placed.Layout`) to write."""
-        self.project, self.layout_shown = project, layout
+        self.project, self.array_layout = project, layout
 
     def save(self) -> Path | None:
         """Save the project to the project path; return the path written."""
@@ -104,13 +106,13 @@ class FilePanel(w.VBox):
 
     def export_csv(self) -> Path:
         """Write the module table next to the export path; return the path."""
-        target = write_module_table(self.layout_shown, self.export_path.value)
+        target = write_module_table(self.array_layout, self.export_path.value)
         self._note(f"Wrote {target}")
         return target
 
     def export_geojson(self) -> Path:
         """Write the module outlines as GeoJSON; return the path."""
-        target = write_layout_geojson(self.layout_shown, self.export_path.value,
+        target = write_layout_geojson(self.array_layout, self.export_path.value,
                                       name=self.project.name)
         self._note(f"Wrote {target}")
         return target

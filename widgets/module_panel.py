@@ -67,6 +67,8 @@ class ModulePanel(Quiet, w.VBox):
 
     Attributes
     ----------
+    project : layout.project.Project
+        The project shown: the values a refill starts from.
     module_rows : dict of str to FieldRow
         Module long and short side, power, gaps in a row and between rows.
     orientation, rows_mode : ipywidgets.ToggleButtons
