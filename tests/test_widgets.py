@@ -53,8 +53,8 @@ def planner(shared_planner, demo):
     p.tabs.selected_index = 0
     p.click_mode.value = "toggle"
     p.colour_by.value = "shade_loss_pct"
-    p.hours_scope.value = "module"
-    p.preset.value = "as in the project"
+    p.hours_panel.hours_scope.value = "module"
+    p.module_panel.preset.value = "as in the project"
     p.selected_id = None
     assert p.set_project(demo)
     p.survey.new_entry()
@@ -73,21 +73,21 @@ def core_result(reference, project):
 
 
 def shown_count(planner) -> int:
-    return int(re.search(r"<b>(\d+)</b> modules", planner.count_label.value).group(1))
+    return int(re.search(r"<b>(\d+)</b> modules", planner.totals_panel.count_label.value).group(1))
 
 
 def shown_kwp(planner) -> float:
-    return float(re.search(r"<b>([\d.]+)</b> kWp", planner.count_label.value).group(1))
+    return float(re.search(r"<b>([\d.]+)</b> kWp", planner.totals_panel.count_label.value).group(1))
 
 
 def shown_loss(planner) -> float:
     """Annual shade loss of the layout as the totals line shows it [%]."""
-    return float(re.search(r"eaveline-shade-loss'>([\d.]+)<", planner.totals_label.value)
-                 .group(1))
+    return float(re.search(r"eaveline-shade-loss'>([\d.]+)<",
+                           planner.totals_panel.totals_label.value).group(1))
 
 
 def shown_energy(planner) -> float:
-    return float(re.search(r"<b>([\d,]+)</b> kWh a year", planner.totals_label.value)
+    return float(re.search(r"<b>([\d,]+)</b> kWh a year", planner.totals_panel.totals_label.value)
                  .group(1).replace(",", ""))
 
 
@@ -130,7 +130,7 @@ def test_planner_layout_is_project_layout(planner, demo):
 def test_ridge_rule_in_force_is_shown(planner, demo):
     ridge = [n for n in demo.layout().notes if n.startswith("ridge setback")]
     assert ridge, "the demo has a ridge"
-    assert ridge[0] in planner.rule_label.value.replace("&#x27;", "'")
+    assert ridge[0] in planner.module_panel.rule_label.value.replace("&#x27;", "'")
 
 
 def test_plan_axes_are_equal_and_in_feet_for_an_imperial_project(planner, demo):
@@ -179,14 +179,14 @@ def test_drag_end_moves_the_chimney_and_refills(planner, demo):
     # the marker now sits on the snapped position, and the other obstructions stayed put
     assert planner.plan.obstruction_markers.x[0] == pytest.approx(ax / FOOT_M)
     assert planner.project.obstructions[1:] == demo.obstructions[1:]
-    assert "chimney moved to" in planner.last_move.value
+    assert "chimney moved to" in planner.totals_panel.last_move.value
 
 
 def test_drag_snaps_to_a_quarter_inch_and_the_readout_parses_back(planner):
     from layout.units import parse_length
 
     drop_marker(planner, 1, 6.93 / FOOT_M, 3.0 / FOOT_M)
-    text = re.search(r"x = (.*?), y = (.*?)</span>", planner.last_move.value)
+    text = re.search(r"x = (.*?), y = (.*?)</span>", planner.totals_panel.last_move.value)
     x = parse_length(text.group(1).replace("&#x27;", "'"))
     ax, _ = obstruction_anchor(planner.project.obstructions[1])
     assert x == pytest.approx(ax, abs=1e-9)
@@ -283,14 +283,14 @@ def test_block_side_lengths_resize_the_chimney(planner):
 
 # --------------------------------------------------------------------------- Module tab
 def test_orientation_switch_refills_with_the_cores_count(planner, demo):
-    planner.orientation.value = "landscape"
+    planner.module_panel.orientation.value = "landscape"
     expected = demo.with_changes(fill=replace(demo.fill, orientation="landscape")).layout()
     assert planner.project.fill.orientation == "landscape"
     assert shown_count(planner) == expected.count
 
 
 def test_setback_values_refill_and_bad_values_stay_beside_the_field(planner, demo):
-    rows = planner.setback_rows
+    rows = planner.module_panel.setback_rows
     rows["ridge"].input.value = "36 in"
     assert planner.project.clearance.edge_setback_m["ridge"] == pytest.approx(36 * INCH_M)
     expected = demo.with_changes(clearance=planner.project.clearance).layout()
@@ -303,15 +303,15 @@ def test_setback_values_refill_and_bad_values_stay_beside_the_field(planner, dem
 
 
 def test_setback_preset_fills_the_values(planner, demo):
-    planner.preset.value = "no setbacks"
+    planner.module_panel.preset.value = "no setbacks"
     assert all(v == 0 for v in planner.project.clearance.edge_setback_m.values())
     assert shown_count(planner) == planner.project.layout().count
     assert shown_count(planner) >= demo.layout().count
 
 
 def test_module_size_error_is_shown_beside_the_field(planner, demo):
-    planner.module_rows["width_m"].input.value = "3 m"  # wider than long
-    assert "must not exceed" in planner.module_rows["width_m"].error
+    planner.module_panel.module_rows["width_m"].input.value = "3 m"  # wider than long
+    assert "must not exceed" in planner.module_panel.module_rows["width_m"].error
     assert planner.project.module == demo.module
 
 
@@ -321,7 +321,7 @@ def test_units_toggle_is_kept_in_the_project(planner, demo):
     assert planner.project.units == "metric"
     assert "[m]" in planner.plan.x_axis.label
     assert planner.plan.x_scale.max == pytest.approx(feet_max * FOOT_M)
-    assert planner.module_rows["length_m"].input.value.endswith(" m")
+    assert planner.module_panel.module_rows["length_m"].input.value.endswith(" m")
 
 
 # --------------------------------------------------------------------------- Compare tab
@@ -333,7 +333,8 @@ def test_compare_tab_is_the_cores_comparison(planner, demo, reference):
     assert table["modules"].tolist() == core["modules"].tolist()
     assert table["energy_kwh"].to_numpy() == pytest.approx(core["energy_kwh"].to_numpy(),
                                                             rel=1e-9)
-    assert list(planner.compare_bars.y) == pytest.approx(core["energy_kwh"].tolist(), rel=1e-9)
+    assert list(planner.compare_panel.compare_bars.y) == pytest.approx(
+        core["energy_kwh"].tolist(), rel=1e-9)
     # the option in force fills like Project.layout(), and the plan's analysis is put back
     assert table.loc["portrait", "modules"] == demo.layout().count
     assert planner.analysis.project is demo
@@ -344,12 +345,12 @@ def test_compare_tab_is_the_cores_comparison(planner, demo, reference):
 # --------------------------------------------------------------------------- files
 def test_save_and_load_round_trip(planner, tmp_path, demo):
     drop_marker(planner, 0, 4.5 / FOOT_M, 2.0 / FOOT_M)
-    planner.project_path.value = str(tmp_path / "job")
+    planner.file_panel.project_path.value = str(tmp_path / "job")
     written = planner.save()
     assert written.name == "job.eaveline.json"
     saved = planner.project
     assert planner.set_project(demo)
-    planner.project_path.value = str(written)
+    planner.file_panel.project_path.value = str(written)
     assert planner.load()
     assert project_to_dict(planner.project) == project_to_dict(saved)
     assert shown_count(planner) == saved.layout().count
@@ -358,9 +359,9 @@ def test_save_and_load_round_trip(planner, tmp_path, demo):
 def test_load_of_a_bad_file_keeps_the_project(planner, tmp_path, demo):
     bad = tmp_path / "bad.eaveline.json"
     bad.write_text("{not json", encoding="utf-8")
-    planner.project_path.value = str(bad)
+    planner.file_panel.project_path.value = str(bad)
     assert not planner.load()
-    assert "not valid JSON" in planner.file_message.value
+    assert "not valid JSON" in planner.file_panel.file_message.value
     assert planner.project is not None and shown_count(planner) == demo.layout().count
 
 
@@ -382,7 +383,7 @@ def test_geojson_outlines_match_the_modules(planner, tmp_path):
 
 
 def test_csv_table_has_one_row_per_module(planner, tmp_path):
-    planner.export_path.value = str(tmp_path / "out")
+    planner.file_panel.export_path.value = str(tmp_path / "out")
     planner.plan.module_targets.selected = [0]  # take one out: it is listed, not active
     path = planner.export_csv()
     table = pd.read_csv(path, index_col="id")
@@ -554,11 +555,12 @@ def test_totals_shown_are_the_cores(planner, demo, reference):
     totals = core_result(reference, demo).totals  # the core's own analysis, not the planner's
     assert shown_loss(planner) == pytest.approx(totals["shade_loss_pct"], abs=0.005)
     assert shown_energy(planner) == pytest.approx(totals["energy_kwh"], abs=0.5)
-    assert f"mean TSRF <b>{totals['tsrf_pct']:.1f}</b> %" in planner.totals_label.value
-    assert f"below {totals['tsrf_threshold_pct']:g} % TSRF" in planner.totals_label.value
+    assert f"mean TSRF <b>{totals['tsrf_pct']:.1f}</b> %" in planner.totals_panel.totals_label.value
+    assert (f"below {totals['tsrf_threshold_pct']:g} % TSRF"
+            in planner.totals_panel.totals_label.value)
     # clear sky by default: its caveat is on screen
     assert demo.energy.weather_file is None
-    assert "overstates" in planner.caveat_label.value
+    assert "overstates" in planner.totals_panel.caveat_label.value
 
 
 def test_dragging_the_tree_updates_every_module_and_the_totals(planner, demo):
@@ -604,7 +606,7 @@ def test_dragging_shows_a_live_preview_and_the_drop_keeps_it(planner, demo):
         assert planner.plan.module_values.to_numpy() == pytest.approx(
             core.table["shade_loss_pct"].to_numpy(), rel=1e-9)
         assert planner.project is demo
-        assert "Preview" in planner.status.value
+        assert "Preview" in planner.status_line.message.value
         # the crown follows the marker; the markers, which the mouse holds, are not redrawn
         assert list(planner.plan.tree_marks.x) != crowns_before
         assert list(planner.plan.obstruction_markers.x) == markers_before
@@ -671,7 +673,7 @@ def test_modules_below_the_tsrf_threshold_get_a_thick_outline(planner, demo, ref
     assert 0 < below < len(core.table)
     assert len(planner.plan.flag_marks.x) == below == core.totals["modules_below_tsrf"]
     assert planner.plan.flag_marks.stroke_width >= 3
-    assert f"{below} modules below {threshold:g} % TSRF" in planner.totals_label.value
+    assert f"{below} modules below {threshold:g} % TSRF" in planner.totals_panel.totals_label.value
     # an outline, not a warning colour: the fills stay on the single-hue scale
     assert list(planner.plan.module_fill_marks.fill_colors) == figure_colours(
         core.table["shade_loss_pct"].to_numpy(), vmin=0.0)
@@ -679,12 +681,13 @@ def test_modules_below_the_tsrf_threshold_get_a_thick_outline(planner, demo, ref
 
 def test_progress_is_shown_while_a_full_recompute_runs(planner, demo):
     said = []
-    planner.status.observe(lambda change: said.append(change["new"]), names="value")
+    planner.status_line.message.observe(lambda change: said.append(change["new"]), names="value")
     shown = []
-    planner.progress.observe(lambda change: shown.append(change["new"]), names="value")
+    planner.status_line.progress.observe(lambda change: shown.append(change["new"]), names="value")
     planner.progress_after_s = 0.0  # as if the machine were slow: every stage is shown
     try:
-        planner.orientation.value = "landscape"  # refill: every stage after the weather runs
+        # refill: every stage after the weather runs
+        planner.module_panel.orientation.value = "landscape"
     finally:
         planner.progress_after_s = planner.PROGRESS_AFTER_S
     stages = [re.sub("<[^>]+>", "", text) for text in said]
@@ -694,13 +697,13 @@ def test_progress_is_shown_while_a_full_recompute_runs(planner, demo):
     # bar held before (an earlier, quicker recompute leaves it where it was) comes first
     refill = shown[shown.index(2):]
     assert refill == sorted(refill) and len(refill) >= 5
-    assert planner.progress.layout.visibility == "hidden"  # and gone when done
+    assert planner.status_line.progress.layout.visibility == "hidden"  # and gone when done
     assert stages[-1].startswith("Ready") or "Refilled" in stages[-1]
 
 
 def test_a_quick_recompute_does_not_flicker_through_its_stages(planner, demo):
     said = []
-    planner.status.observe(lambda change: said.append(change["new"]), names="value")
+    planner.status_line.message.observe(lambda change: said.append(change["new"]), names="value")
     planner.progress_after_s = 60.0  # any recompute is quicker than this
     try:
         drop_marker(planner, TREE, -1.0 / FOOT_M, -6.0 / FOOT_M)
@@ -709,14 +712,15 @@ def test_a_quick_recompute_does_not_flicker_through_its_stages(planner, demo):
     stages = [re.sub("<[^>]+>", "", text) for text in said]
     assert stages[0] == "Recomputing…" and stages[-1].startswith("Ready")
     assert not any(text.startswith("Recomputing:") for text in stages)
-    assert planner.progress.layout.visibility == "hidden"
+    assert planner.status_line.progress.layout.visibility == "hidden"
 
 
 def test_a_refused_edit_keeps_the_figures(planner):
     loss = shown_loss(planner)
     assert not planner.set_project(planner.project.with_changes(
         energy=replace(planner.project.energy, weather_file="no-such-file.epw")))
-    assert "Not changed" in planner.status.value and "weather_file" in planner.status.value
+    said = planner.status_line.message.value
+    assert "Not changed" in said and "weather_file" in said
     assert shown_loss(planner) == loss
     assert planner.analysis.project is planner.project
 
@@ -729,14 +733,14 @@ def test_click_in_select_mode_shows_the_module_in_the_sky_tab(planner):
     removed = planner.project.removed
     planner.plan.module_targets.selected = [5]
     assert planner.project.removed == removed  # selecting takes nothing out
-    assert planner.selected_id == module_id == planner.sky_module.value
-    assert module_id in planner.sky_chart.title.value
+    assert planner.selected_id == module_id == planner.sky_panel.sky_module.value
+    assert module_id in planner.sky_panel.sky_chart.title.value
     assert list(planner.plan.selected_mark.x) == pytest.approx(
         [np.mean(planner.array_layout.module(module_id).corners_3d, axis=0)[0] / FOOT_M])
     # the monthly table is the core's for that module
     monthly = planner.result.module_monthly(module_id)
     cells = re.findall(r"<td style='text-align:right'>([\d.]+)</td>",
-                       planner.sky_chart.table.value)
+                       planner.sky_panel.sky_chart.table.value)
     assert float(cells[0]) == pytest.approx(monthly["energy_kwh"].iloc[0], abs=0.05)
     assert float(cells[-2]) == pytest.approx(monthly["energy_kwh"].sum(), abs=0.05)
 
@@ -778,9 +782,9 @@ def test_sky_chart_names_the_tree_for_a_module_it_shades(planner):
     table = planner.result.table
     worst = table["shade_loss_pct"].idxmax()
     planner.select_module(worst)
-    labels = [r.label for r in planner.sky_chart.regions]
+    labels = [r.label for r in planner.sky_panel.sky_chart.regions]
     assert "silver maple (south-west)" in labels
-    assert list(planner.sky_chart.region_labels.text) == labels
+    assert list(planner.sky_panel.sky_chart.region_labels.text) == labels
 
 
 # --------------------------------------------------------------------------- Hours tab
@@ -788,16 +792,16 @@ def test_heat_map_is_the_cores_month_hour_table(planner):
     planner.show_tab("Hours")
     module_id = planner.selected_id
     expected = planner.result.module_month_hour(module_id)
-    heat = planner.heat_map.heat
+    heat = planner.hours_panel.heat_map.heat
     hours = [int(h) for h in heat.column]
     assert np.isfinite(expected.to_numpy()).any(axis=0)[hours].all()
     np.testing.assert_allclose(heat.color, expected[hours].to_numpy(), rtol=1e-12)
-    planner.hours_scope.value = "layout"
+    planner.hours_panel.hours_scope.value = "layout"
     whole = planner.result.month_hour
     hours = [int(h) for h in heat.column]
     np.testing.assert_allclose(heat.color, whole[hours].to_numpy(), rtol=1e-12)
-    assert list(planner.heat_map.colour_scale.colors) == list(FIGURE_SCALE)
-    assert "shade loss" in planner.heat_map.colour_axis.label
+    assert list(planner.hours_panel.heat_map.colour_scale.colors) == list(FIGURE_SCALE)
+    assert "shade loss" in planner.hours_panel.heat_map.colour_axis.label
 
 
 # --------------------------------------------------------------------------- timeline
@@ -858,8 +862,9 @@ def test_compare_waits_for_a_request_after_an_edit(planner):
     planner.show_tab("Compare")
     shown = planner.compare_result
     drop_marker(planner, TREE, -1.0 / FOOT_M, -6.0 / FOOT_M)
-    assert planner.compare_result is shown and "Compare again" in planner.compare_note.value
-    planner.compare_button.click()
+    assert planner.compare_result is shown
+    assert "Compare again" in planner.compare_panel.compare_note.value
+    planner.compare_panel.compare_button.click()
     assert planner.compare_result is not shown
     assert planner.compare_result.loc["portrait", "shade_loss_pct"] == pytest.approx(
         planner.result.totals["shade_loss_pct"], rel=1e-9)
@@ -1060,13 +1065,13 @@ def test_survey_csv_import_keeps_good_rows_and_lists_bad_ones(planner):
 def test_loss_band_is_the_cores_for_the_same_seed(planner, reference):
     from layout.study.outlook import shade_loss_range
 
-    assert planner.range_button.disabled  # the demo has no survey
+    assert planner.loss_panel.range_button.disabled  # the demo has no survey
     type_readings(planner.survey, WORKED_EXAMPLE)
     project = planner.project
-    planner.range_samples.value, planner.range_seed.value = 4, 7
+    planner.loss_panel.range_samples.value, planner.loss_panel.range_seed.value = 4, 7
     said = []
-    planner.status.observe(lambda change: said.append(change["new"]), names="value")
-    planner.range_button.click()
+    planner.status_line.message.observe(lambda change: said.append(change["new"]), names="value")
+    planner.loss_panel.range_button.click()
     band = planner.loss_range
     assert any("Loss range: draw 4 of 4" in text for text in said)
     core = shade_loss_range(project, samples=4, seed=7, analysis=reference)
@@ -1074,14 +1079,14 @@ def test_loss_band_is_the_cores_for_the_same_seed(planner, reference):
                                   core.totals[["nominal", "p5", "p95"]], rtol=1e-9)
     loss = core.totals.loc["shade_loss_pct"]
     assert loss["p95"] > loss["p5"]  # the tolerances move this tree's shade
-    text = planner.band_label.value
+    text = planner.loss_panel.band_label.value
     assert f"{loss['p5']:.2f} to {loss['p95']:.2f}</b> %" in text
     assert "4 draws" in text and "seed 7" in text
     # per module: hover text and the selected module's readout
     module_id = planner.selected_id
     low = core.modules.loc[module_id, "shade_loss_pct_p5"]
     high = core.modules.loc[module_id, "shade_loss_pct_p95"]
-    assert f"(range {low:.2f} to {high:.2f} %)" in planner.module_readout.value
+    assert f"(range {low:.2f} to {high:.2f} %)" in planner.totals_panel.module_readout.value
     i = planner.plan.module_ids.index(module_id)
     assert f"(range {low:.1f} to {high:.1f} %)" in planner.plan.module_targets.names[i]
     # the planner's analysis is left on the project shown
@@ -1089,7 +1094,7 @@ def test_loss_band_is_the_cores_for_the_same_seed(planner, reference):
     assert shown_loss(planner) == pytest.approx(loss["nominal"], abs=0.005)
     # kept through a change of units, dropped when the project changes
     planner.units_toggle.value = "metric"
-    assert "eaveline-band" in planner.band_label.value
+    assert "eaveline-band" in planner.loss_panel.band_label.value
     drop_marker(planner, TREE, -1.0, -6.0)
-    assert "press <b>Loss range</b>" in planner.band_label.value
-    assert "range" not in planner.module_readout.value
+    assert "press <b>Loss range</b>" in planner.loss_panel.band_label.value
+    assert "range" not in planner.totals_panel.module_readout.value

@@ -7,27 +7,40 @@ dropped obstruction marker, a click on a module, an accepted form. The planner h
 redraws from :attr:`layout.study.analysis.Analysis.result`. Nothing here computes geometry or
 physics of its own.
 
+The planner composes the plan, the timeline and one widget per side panel tab, each in its
+own module; it hands them the project and the analysis's result, and takes back their edits
+as callbacks. It handles the gestures on the plan itself (drags of obstruction markers, clicks
+on modules) and keeps what is computed on request: the comparison and the loss range.
+
 Side panel tabs
 ---------------
 Module
     Module size and power, orientation, row mode, gaps, the setback preset and its values,
-    and the refill; the module count, kWp and the rules in force are always shown.
+    and the refill; the module count, kWp and the rules in force are always shown
+    (:class:`widgets.module_panel.ModulePanel`).
 Objects
-    The obstruction form (edit, add, delete).
+    The obstruction form (edit, add, delete; :class:`widgets.forms.ObstructionForm`).
 Survey
     Field readings typed one obstruction at a time, each with its tolerance, with the height
     the core computes and its range (:class:`widgets.survey_panel.SurveyPanel`); the list of
     surveyed obstructions; a CSV import. Surveyed obstructions stand on the plan with a
     hollow ring and are not dragged: a click on the ring opens their readings here.
 Sky
-    Sun paths and the skyline seen from the selected module, with its monthly figures.
+    Sun paths and the skyline seen from the selected module, with its monthly figures
+    (:class:`widgets.sky_panel.SkyPanel`).
 Hours
-    Shade loss by month and hour for the selected module or the whole layout.
+    Shade loss by month and hour for the selected module or the whole layout
+    (:class:`widgets.hours_panel.HoursPanel`).
 Compare
     Portrait, landscape and mixed fills, each with and without its worst modules
-    (:func:`layout.study.compare.compare_layouts`), as a table and a bar chart.
+    (:func:`layout.study.compare.compare_layouts`), as a table and a bar chart
+    (:class:`widgets.compare_panel.ComparePanel`).
 File
-    Save and load the project; export the module table (CSV) and outlines (GeoJSON).
+    Save and load the project; export the module table (CSV) and outlines (GeoJSON)
+    (:class:`widgets.file_panel.FilePanel`).
+
+Under the plan, :class:`widgets.totals.TotalsPanel` shows the module count and the annual
+figures and :class:`widgets.status_line.StatusLine` what the planner is doing.
 
 Loss range
 ----------
@@ -36,55 +49,44 @@ the annual shade loss (:func:`layout.study.outlook.shade_loss_range`, run on the
 analysis, so each draw ray-tests only the surveyed obstructions): the 5th to 95th percentile
 band is shown beside the totals, and per module in the hover text and the selected module's
 readout, with the number of draws and the seed. It is kept until the project changes (a change
-of units alone keeps it).
+of units alone keeps it); :mod:`widgets.loss_band` shows it.
 """
 
 from __future__ import annotations
 
 import html
 import time
-from dataclasses import replace
 from pathlib import Path
 
-import bqplot as bq
 import ipywidgets as w
-import numpy as np
 
 from layout.errors import InputError
-from layout.fill.clearance import (
-    ClearanceRules,
-    ifc_2015_residential,
-    ifc_2021_residential,
-    no_setbacks,
-)
-from layout.fill.faces import FILL_ORIENTATIONS
-from layout.power.energy import scene_casters
-from layout.project import FILE_SUFFIX, ProjectFileError, load_project, save_project
+from layout.project import ProjectFileError
 from layout.sky.sun import TYPICAL_YEAR
 from layout.study.analysis import Analysis
 from layout.study.compare import compare_layouts
-from layout.study.outlook import DEFAULT_SAMPLES, percentile_label, shade_loss_range
+from layout.study.outlook import shade_loss_range
 from layout.units import INCH_M
 
-from . import style
-from .charts import HoursHeatMap
-from .export import write_layout_geojson, write_module_table
-from .forms import FieldRow, ObstructionForm, error_text, length_text, read_length
+from .compare_panel import ComparePanel
+from .file_panel import FilePanel
+from .forms import ObstructionForm, length_text
+from .hours_panel import HoursPanel
+from .loss_band import LossRangePanel, module_bands, range_key
+from .module_panel import ModulePanel
 from .plan_view import PlanView, obstruction_anchor, obstruction_label, plan_scene
-from .sky_chart import SkyChart
+from .sky_panel import SkyPanel
+from .status_line import StatusLine
 from .survey_panel import SurveyPanel
 from .timeline import Timeline, roof_shadows
+from .totals import TotalsPanel, module_note
 
 __all__ = [
     "CAUTIONS",
     "FIGURES",
-    "SETBACK_PRESETS",
     "TAB_NAMES",
     "Planner",
-    "band_text",
-    "module_note",
     "snap_length",
-    "totals_text",
 ]
 
 #: The cautions shown in the app: short, calm, and always visible.
@@ -95,15 +97,6 @@ CAUTIONS = (
     "needs a structural review by a licensed person.",
     "Work on a roof only with fall protection; measure from the ground where you can.",
 )
-
-#: Setback presets offered in the Module tab (label → rules factory).
-SETBACK_PRESETS = {
-    "IFC 2021 residential": ifc_2021_residential,
-    "IFC 2021 residential, sprinklered": lambda: ifc_2021_residential(sprinklered=True),
-    "IFC 2015 residential": ifc_2015_residential,
-    "no setbacks": no_setbacks,
-}
-_AS_IN_PROJECT = "as in the project"
 
 #: Figures the modules can be coloured by: column of the per-module table → (name in the
 #: menu, label on the colour bar, lower end of the scale or None for the smallest value shown).
@@ -125,67 +118,6 @@ def snap_length(metres: float, units: str) -> float:
     """Round a dragged position [m] to 1 cm (metric) or 1/4 in (imperial)."""
     step = SNAP_M.get(units, 0.01)
     return round(metres / step) * step
-
-
-def totals_text(totals: dict) -> str:
-    """Return the layout's annual figures as one line of HTML (from :attr:`Evaluation.totals`).
-
-    Shade loss is shown to 0.01 %, TSRF to 0.1 %, energy to 1 kWh.
-    """
-    basis = html.escape(str(totals.get("energy_basis", "DC")))
-    below = totals["modules_below_tsrf"]
-    threshold = totals["tsrf_threshold_pct"]
-    tsrf = totals["tsrf_pct"]
-    tsrf_text = "–" if not np.isfinite(tsrf) else f"{tsrf:.1f}"
-    return (
-        f"<span style='font-size:14px;color:{style.INK}'>"
-        f"<b>{totals['energy_kwh']:,.0f}</b> kWh a year ({basis}) · "
-        f"shade loss <b class='eaveline-shade-loss'>{totals['shade_loss_pct']:.2f}</b> % · "
-        f"mean TSRF <b>{tsrf_text}</b> %</span>"
-        f"<span style='font-size:12px;color:#5d6b6a'> · {below} "
-        f"{'module' if below == 1 else 'modules'} below {threshold:g} % TSRF "
-        f"(thick outline)</span>")
-
-
-def _band_columns(band) -> tuple[str, str]:
-    """Labels of the lowest and highest percentile of a loss range: ``("p5", "p95")``."""
-    return percentile_label(min(band.percentiles)), percentile_label(max(band.percentiles))
-
-
-def module_note(module_id: str, row, band: tuple[float, float] | None = None) -> str:
-    """Hover text of one module: its id and annual figures (a row of the module table).
-
-    ``band`` is the module's shade loss range [%] over the survey tolerances (low, high),
-    shown after its shade loss when given.
-    """
-    loss = f"shade loss {row.shade_loss_pct:.1f} %"
-    if band is not None:
-        loss += f" (range {band[0]:.1f} to {band[1]:.1f} %)"
-    return f"{module_id}: {row.energy_kwh:.0f} kWh, {loss}, TSRF {row.tsrf_pct:.1f} %"
-
-
-def band_text(band) -> str:
-    """One line of HTML with a layout's shade loss range (a :class:`ShadeLossRange`).
-
-    The band is the lowest to the highest percentile asked for (5th to 95th by default)
-    around the nominal readings' loss, with the energy lost, the draws and the seed.
-    """
-    low, high = _band_columns(band)
-    loss = band.totals.loc["shade_loss_pct"]
-    lost = band.totals.loc["energy_lost_kwh"]
-    seed = "none" if band.seed is None else str(band.seed)
-    notes = "".join(f"<br>{html.escape(n)}" for n in band.notes)
-    return (f"<span style='font-size:13px;color:{style.INK}'>Over the survey tolerances: "
-            f"shade loss <b class='eaveline-band'>{loss[low]:.2f} to {loss[high]:.2f}</b> % "
-            f"({low}–{high}) around {loss['nominal']:.2f} %; energy lost {lost[low]:,.1f} to "
-            f"{lost[high]:,.1f} kWh a year</span>"
-            f"<span style='font-size:12px;color:#5d6b6a'> · {band.samples} draws of the "
-            f"readings, seed {seed}, {band.distribution} errors{notes}</span>")
-
-
-def _html_lines(lines, *, colour: str = "#34403f") -> str:
-    items = "".join(f"<li>{html.escape(line)}</li>" for line in lines)
-    return f"<ul style='margin:2px 0 0 16px;padding:0;color:{colour};font-size:12px'>{items}</ul>"
 
 
 class Planner(w.VBox):
@@ -216,6 +148,16 @@ class Planner(w.VBox):
     preview_interval_s : float
         Least time between two live previews while an obstruction is dragged [s]
         (:attr:`PREVIEW_INTERVAL_S` by default).
+    compare_result : pandas.DataFrame or None
+        The last comparison's table (Compare tab), None before the tab was opened.
+    loss_range : layout.study.outlook.ShadeLossRange or None
+        The last loss range run (:meth:`run_loss_range`).
+    module_panel, objects, survey, sky_panel, hours_panel, compare_panel, file_panel
+        The side panel's tabs, in the order of :data:`TAB_NAMES`.
+    totals_panel : widgets.totals.TotalsPanel
+        The figures under the plan, with the loss range controls (``loss_panel``).
+    status_line : widgets.status_line.StatusLine
+        What the planner is doing or did.
 
     Notes
     -----
@@ -251,6 +193,8 @@ class Planner(w.VBox):
         self._base_dir = Path(path).expanduser().resolve().parent if path else None
         self._shadow_key = None
         self.shadows = None
+        self.loss_range = None
+        self._range_key = None
 
         self.plan = PlanView()
         self.plan.on_obstruction_moved(self._obstruction_moved)
@@ -274,21 +218,7 @@ class Planner(w.VBox):
                                             value=project.units, tooltip="Units shown and typed",
                                             style={"button_width": "70px"})
         self.units_toggle.observe(self._units_changed, names="value")
-        self.status = w.HTML()
-        self.status.add_class("eaveline-status")
-        self.progress = w.IntProgress(value=0, min=0, max=8, bar_style="",
-                                      layout=w.Layout(width="160px", visibility="hidden"))
-        self.progress.add_class("eaveline-progress")
-        self.count_label = w.HTML()
-        self.count_label.add_class("eaveline-count")
-        self.totals_label = w.HTML()
-        self.totals_label.add_class("eaveline-totals")
-        self.caveat_label = w.HTML()
-        self.caveat_label.add_class("eaveline-caveat")
-        self.module_readout = w.HTML()
-        self.module_readout.add_class("eaveline-module-readout")
-        self.last_move = w.HTML()
-        self.last_move.add_class("eaveline-last-move")
+        self.status_line = StatusLine()
         self.timeline = Timeline(year=TYPICAL_YEAR)
         self.timeline.on_change(lambda _: self._draw_shadows())
 
@@ -298,27 +228,22 @@ class Planner(w.VBox):
         self.survey.base_dir = self._base_dir
         self.survey.on_change(self._survey_edited)
         self.plan.on_surveyed_clicked(self._surveyed_clicked)
-        self.loss_range = None
-        self._range_key = None
-        self.range_button = w.Button(description="Loss range", layout=w.Layout(width="auto"),
-                                     tooltip="Draw the survey readings from their tolerances "
-                                             "and evaluate each draw: the 5th to 95th "
-                                             "percentile of the shade loss")
-        self.range_button.add_class("eaveline-loss-range")
-        self.range_button.on_click(lambda _: self.run_loss_range())
-        self.range_samples = w.BoundedIntText(value=DEFAULT_SAMPLES, min=2, max=5000,
-                                              description="Draws",
-                                              layout=w.Layout(width="150px"))
-        self.range_seed = w.IntText(value=0, description="Seed", layout=w.Layout(width="140px"))
-        self.band_label = w.HTML()
-        self.band_label.add_class("eaveline-loss-band")
-        self._build_module_tab()
-        self._build_sky_tab()
-        self._build_hours_tab()
-        self._build_compare_tab()
-        self._build_file_tab(path)
-        self.tabs = w.Tab(children=[self.module_tab, self.objects, self.survey, self.sky_tab,
-                                    self.hours_tab, self.compare_tab, self.file_tab],
+        self.loss_panel = LossRangePanel()
+        self.loss_panel.on_run(self.run_loss_range)
+        self.totals_panel = TotalsPanel(self.loss_panel)
+        self.module_panel = ModulePanel()
+        self.module_panel.on_change(self._module_tab_edited)
+        self.sky_panel = SkyPanel()
+        self.sky_panel.on_module_chosen(self._sky_module_chosen)
+        self.hours_panel = HoursPanel()
+        self.hours_panel.on_scope_changed(self._refresh_tab)
+        self.compare_panel = ComparePanel()
+        self.compare_panel.on_run(lambda: self._run_compare(force=True))
+        self.file_panel = FilePanel(path)
+        self.file_panel.on_load(self._file_loaded)
+        self.tabs = w.Tab(children=[self.module_panel, self.objects, self.survey,
+                                    self.sky_panel, self.hours_panel, self.compare_panel,
+                                    self.file_panel],
                           titles=TAB_NAMES,
                           layout=w.Layout(width="600px", min_width="480px"))
         self.tabs.add_class("eaveline-side")
@@ -328,13 +253,7 @@ class Planner(w.VBox):
             + "<br>".join(html.escape(c) for c in CAUTIONS) + "</div>")
         self.cautions.add_class("eaveline-cautions")
 
-        figures = w.VBox([self.count_label, self.totals_label,
-                          w.HBox([self.range_button, self.range_samples, self.range_seed],
-                                 layout=w.Layout(align_items="center")),
-                          self.band_label, self.module_readout,
-                          self.caveat_label, self.last_move,
-                          w.HBox([self.progress, self.status],
-                                 layout=w.Layout(align_items="center"))],
+        figures = w.VBox([self.totals_panel, self.status_line],
                          layout=w.Layout(width=f"{self.plan.width_px}px"))
         tools = w.HBox([self.colour_by, w.Label("Click a module to"), self.click_mode],
                        layout=w.Layout(align_items="center"))
@@ -347,7 +266,7 @@ class Planner(w.VBox):
         self.add_class("eaveline-planner")
         self.set_project(project)
         if self.array_layout is None:
-            raise InputError("project", self.status.value)
+            raise InputError("project", self.status_line.message.value)
         self.timeline.show_sun(None)
 
     # ================================================================= project changes
@@ -376,6 +295,7 @@ class Planner(w.VBox):
         result = self.analysis.result
         previous = self.project
         self.project, self.array_layout, self.areas = project, result.layout, result.areas
+        self.file_panel.show(project, result.layout)
         self._quiet_units(project.units)
         active = [m.id for m in result.modules]
         if self.selected_id not in active:
@@ -394,7 +314,7 @@ class Planner(w.VBox):
                           new_position=self._roof_middle())
         self.survey.show(project.survey, units=project.units)
         self._show_band()
-        self._show_module_fields()
+        self.module_panel.show(project)
         self._refresh_tab()
         self.last_recompute_s = time.perf_counter() - start
         self.last_timings = dict(self.analysis.timings)
@@ -409,23 +329,18 @@ class Planner(w.VBox):
     def _progress(self, stage: str, done: int, total: int) -> None:
         if time.perf_counter() - self._busy_since < self.progress_after_s:
             return  # quick so far: no stages to flicker past
-        with self.progress.hold_sync():
-            self.progress.max = total
-            self.progress.value = done + 1
-            self.progress.layout.visibility = "visible"
+        self.status_line.show_progress(done, total)
         self._status(f"Recomputing: {stage}…", busy=True)
 
     def _progress_done(self) -> None:
-        self.progress.layout.visibility = "hidden"
+        self.status_line.hide_progress()
+
+    def _status(self, text: str, *, busy: bool = False, error: bool = False) -> None:
+        self.status_line.say(text, busy=busy, error=error)
 
     def _roof_middle(self) -> tuple[float, float]:
         point = self.project.buildings[0].footprint.centroid
         return float(point.x), float(point.y)
-
-    def _status(self, text: str, *, busy: bool = False, error: bool = False) -> None:
-        colour = "#8a2d2d" if error else ("#2b7c79" if busy else "#5d6b6a")
-        self.status.value = (f"<span style='color:{colour};font-size:12px'>"
-                             f"{html.escape(text)}</span>")
 
     def _set_module_figures(self, *, redraw: bool = True) -> None:
         result = self.analysis.result
@@ -448,43 +363,19 @@ class Planner(w.VBox):
             self._set_module_figures()
 
     def _show_figures(self) -> None:
-        p, layout = self.project, self.array_layout
-        result = self.analysis.result
-        name = p.name or "untitled project"
+        name = self.project.name or "untitled project"
         self.title.value = f"<b style='font-size:15px;color:#34403f'>{html.escape(name)}</b>"
-        self.count_label.value = (
-            f"<span style='font-size:14px;color:#34403f'><b>{layout.count}</b> modules · "
-            f"<b>{layout.kwp(p.module):.2f}</b> kWp</span>")
-        self.totals_label.value = totals_text(result.totals)
-        caveat = result.weather.caveat if p.energy.weather_file is None else ""
-        self.caveat_label.value = ("" if not caveat else
-                                   f"<div style='font-size:11px;color:#5d6b6a;max-width:620px'>"
-                                   f"{html.escape(caveat)}</div>")
-        rules = [n for n in layout.notes if n.startswith("ridge setback")]
-        others = [n for n in layout.notes if not n.startswith("ridge setback")]
-        self.rule_label.value = (
-            f"<div style='font-size:13px;color:#34403f'><b>{layout.count}</b> modules · "
-            f"<b>{layout.kwp(p.module):.2f}</b> kWp · {html.escape(p.clearance.name)}</div>"
-            + _html_lines(rules or ["no ridge setback applies to these faces"])
-            + (_html_lines(others, colour="#5d6b6a") if others else ""))
+        self.totals_panel.show(self.project, self.analysis.result)
+        self.module_panel.show_rules(self.project, self.array_layout)
         self._show_selected()
 
     def _show_selected(self) -> None:
         table = self.analysis.result.table
         if self.selected_id is None or self.selected_id not in table.index:
-            self.module_readout.value = ""
+            self.totals_panel.show_selected(None)
             return
-        r = table.loc[self.selected_id]
-        band = self._module_bands().get(self.selected_id)
-        band_part = ("" if band is None else
-                     f" <span class='eaveline-module-band'>(range {band[0]:.2f} to "
-                     f"{band[1]:.2f} %)</span>")
-        self.module_readout.value = (
-            f"<span style='font-size:12px;color:{style.INK}'>Selected module "
-            f"<b>{html.escape(self.selected_id)}</b> (diamond): {r.energy_kwh:.0f} kWh · "
-            f"shade loss {r.shade_loss_pct:.2f} %{band_part} · solar access "
-            f"{r.solar_access_pct:.1f} % · TOF {r.tof_pct:.1f} % · TSRF {r.tsrf_pct:.1f} %"
-            f"</span>")
+        self.totals_panel.show_selected(self.selected_id, table.loc[self.selected_id],
+                                        self._module_bands().get(self.selected_id))
 
     def select_module(self, module_id: str) -> None:
         """Show one active module in the Sky and Hours tabs and mark it on the plan."""
@@ -531,7 +422,7 @@ class Planner(w.VBox):
                 self._set_module_figures(redraw=False)
                 self.plan.draw(plan_scene(preview, result.layout, result.areas),
                                units=preview.units, preview=True)
-            self.totals_label.value = totals_text(result.totals)
+            self.totals_panel.show_totals(result.totals)
             self._show_selected()
         finally:
             self._previewing = False
@@ -551,10 +442,8 @@ class Planner(w.VBox):
 
     def _obstruction_moved(self, index: int, x_m: float, y_m: float) -> None:
         project, label, place = self._moved_project(index, x_m, y_m)
-        text = f"{label} moved to {place}"
         if self.set_project(project):
-            self.last_move.value = (f"<span style='font-size:12px;color:#5d6b6a'>"
-                                    f"{html.escape(text)}</span>")
+            self.totals_panel.show_move(f"{label} moved to {place}")
         else:  # put the marker back where the project still has it
             self.plan.draw(plan_scene(self.project, self.array_layout, self.areas),
                            units=self.project.units)
@@ -574,6 +463,12 @@ class Planner(w.VBox):
         verb = "put back" if taken_out else "taken out"
         self.set_project(self.project.with_changes(removed=edited.removed),
                          message=f"Module {module_id} {verb}.")
+
+    # ----------------------------------------------------------------- panel edits
+    def _module_tab_edited(self, *, module, fill, clearance) -> bool:
+        return self.set_project(
+            self.project.with_changes(module=module, fill=fill, clearance=clearance),
+            message="Refilled with the Module tab's values.")
 
     def _obstructions_edited(self, obstructions, index) -> None:
         if self.set_project(self.project.with_changes(obstructions=tuple(obstructions))):
@@ -597,45 +492,36 @@ class Planner(w.VBox):
         self.show_tab("Survey")
         self.survey.select(index)
 
-    # ----------------------------------------------------------------- loss range
-    @staticmethod
-    def _range_key_of(project) -> tuple:
-        """Return what a loss range depends on: all but the units, name and notes."""
-        return (project.site, project.buildings, project.module, project.clearance,
-                project.fill, project.array_faces, project.obstructions, project.survey,
-                project.removed, project.pathways, project.energy)
+    def _sky_module_chosen(self, module_id: str) -> None:
+        if module_id != self.selected_id:
+            self.select_module(module_id)
 
+    def _file_loaded(self, project, path_text: str) -> bool:
+        return self.set_project(project, message=f"Loaded {path_text}")
+
+    def refill(self) -> bool:
+        """Read the Module tab, and refill when every field is valid.
+
+        Returns
+        -------
+        bool
+            True when the project changed or was already as typed.
+        """
+        return self.module_panel.refill()
+
+    # ----------------------------------------------------------------- loss range
     def _range_current(self) -> bool:
-        return self.loss_range is not None and self._range_key == self._range_key_of(
-            self.project)
+        return self.loss_range is not None and self._range_key == range_key(self.project)
 
     def _module_bands(self) -> dict:
         """Shade loss range [%] (low, high) per module id, when the loss range is current."""
         if self._previewing or not self._range_current():
             return {}
-        low, high = _band_columns(self.loss_range)
-        modules = self.loss_range.modules
-        return {mid: (float(a), float(b)) for mid, a, b in zip(
-            modules.index, modules[f"shade_loss_pct_{low}"],
-            modules[f"shade_loss_pct_{high}"], strict=True) if np.isfinite(a)}
+        return module_bands(self.loss_range)
 
     def _show_band(self) -> None:
-        p = self.project
-        self.range_button.disabled = not p.survey
-        if self._range_current():
-            self.band_label.value = band_text(self.loss_range)
-        elif self.loss_range is not None and p.survey:
-            self.band_label.value = (
-                "<span style='font-size:12px;color:#2b7c79'>The project changed since the "
-                "loss range: press <b>Loss range</b> to draw the readings again.</span>")
-        elif p.survey:
-            self.band_label.value = (
-                "<span style='font-size:12px;color:#5d6b6a'>Press <b>Loss range</b> for the "
-                "5th to 95th percentile of the shade loss over the survey tolerances.</span>")
-        else:
-            self.band_label.value = (
-                "<span style='font-size:12px;color:#5d6b6a'>A loss range needs surveyed "
-                "obstructions (Survey tab).</span>")
+        self.loss_panel.show(self.loss_range, current=self._range_current(),
+                             surveyed=bool(self.project.survey))
 
     def run_loss_range(self, *, samples: int | None = None, seed: int | None = ...):
         """Carry the survey tolerances to the shade loss and show the band.
@@ -660,13 +546,11 @@ class Planner(w.VBox):
             self._show_band()
             self._status("A loss range needs surveyed obstructions (Survey tab).")
             return None
-        samples = self.range_samples.value if samples is None else samples
-        seed = self.range_seed.value if seed is ... else seed
+        samples = self.loss_panel.range_samples.value if samples is None else samples
+        seed = self.loss_panel.range_seed.value if seed is ... else seed
+
         def progress(done: int, total: int) -> None:
-            with self.progress.hold_sync():
-                self.progress.max = total
-                self.progress.value = done + 1
-                self.progress.layout.visibility = "visible"
+            self.status_line.show_progress(done, total)
             what = f"draw {done + 1} of {total - 1}" if done < total - 1 else "the nominal readings"
             self._status(f"Loss range: {what}…", busy=True)
 
@@ -680,7 +564,7 @@ class Planner(w.VBox):
             self._status(f"No loss range: {err}", error=True)
             return None
         self._progress_done()
-        self.loss_range, self._range_key = band, self._range_key_of(p)
+        self.loss_range, self._range_key = band, range_key(p)
         self._show_band()
         self._set_module_figures()
         self._show_selected()
@@ -693,6 +577,11 @@ class Planner(w.VBox):
             shown = "feet and inches" if change["new"] == "imperial" else "metres"
             self.set_project(self.project.with_changes(units=change["new"]),
                              message=f"Lengths now shown and typed in {shown}.")
+
+    def _quiet_units(self, units: str) -> None:
+        self.units_toggle.unobserve(self._units_changed, names="value")
+        self.units_toggle.value = units
+        self.units_toggle.observe(self._units_changed, names="value")
 
     def show_module_figure(self, values=None, *, label: str = "") -> None:
         """Colour the modules by any per-module figure (a Series by module id), or clear it.
@@ -720,287 +609,22 @@ class Planner(w.VBox):
         self.plan.show_shadows(self.shadows.outline)
         self.timeline.show_sun(self.shadows)
 
-    # ================================================================= Sky and Hours tabs
-    def _build_sky_tab(self) -> None:
-        self.sky_module = w.Dropdown(description="Module", layout=w.Layout(width="300px"))
-        self.sky_module.observe(self._sky_module_chosen, names="value")
-        self.sky_chart = SkyChart(width_px=400, height_px=300)
-        self.sky_tab = w.VBox([
-            w.HTML("<div style='font-size:12px;color:#5d6b6a'>Choose a module here, or switch "
-                   "clicks to <i>select</i> and click it on the plan.</div>"),
-            self.sky_module, self.sky_chart])
-
-    def _build_hours_tab(self) -> None:
-        self.hours_scope = w.ToggleButtons(options=[("selected module", "module"),
-                                                    ("whole layout", "layout")],
-                                           value="module", style={"button_width": "120px"})
-        self.hours_scope.observe(lambda _: self._refresh_tab(), names="value")
-        self.heat_map = HoursHeatMap()
-        self.hours_tab = w.VBox([self.hours_scope, self.heat_map])
-
-    def _sky_module_chosen(self, change) -> None:
-        if self._quiet_sky or change["new"] is None or change["new"] == self.selected_id:
-            return
-        self.select_module(change["new"])
-
-    _quiet_sky = False
-
-    def _sync_module_choice(self) -> None:
-        ids = list(self.analysis.result.table.index)
-        self._quiet_sky = True
-        try:
-            if list(self.sky_module.options) != ids:
-                self.sky_module.options = ids
-            self.sky_module.value = self.selected_id if self.selected_id in ids else None
-        finally:
-            self._quiet_sky = False
+    # ================================================================= side panel
+    def _tab_changed(self, change) -> None:
+        self._refresh_tab(opened=True)
 
     def _refresh_tab(self, *, opened: bool = False) -> None:
         index = self.tabs.selected_index
         name = TAB_NAMES[index] if index is not None else ""
         if name == "Sky":
-            self._show_sky()
+            self.sky_panel.show(self.project, self.analysis.result, self.selected_id)
         elif name == "Hours":
-            self._show_hours()
+            self.hours_panel.show(self.analysis.result, self.selected_id)
         elif name == "Compare":
             if opened:
                 self._run_compare()
             elif self._compare_for is not self.project:  # a second or more: on request only
-                self.compare_note.value = (
-                    "<span style='font-size:12px;color:#2b7c79'>The project changed: press "
-                    "<b>Compare again</b> to refill and evaluate every option.</span>")
-
-    def _show_sky(self) -> None:
-        self._sync_module_choice()
-        result = self.analysis.result
-        if self.selected_id is None:
-            return
-        module = next(m for m in result.modules if m.id == self.selected_id)
-        self.sky_chart.show(site=self.project.site, casters=scene_casters(self.project),
-                            point=module.centre_3d, module_id=module.id,
-                            monthly=result.module_monthly(module.id),
-                            year=int(result.weather.data.index[0].year),
-                            basis=result.table.attrs.get("energy_basis", "DC"))
-
-    def _show_hours(self) -> None:
-        result = self.analysis.result
-        if self.hours_scope.value == "module" and self.selected_id is not None:
-            self.heat_map.show(result.module_month_hour(self.selected_id),
-                               what=f"module {self.selected_id}")
-        else:
-            self.heat_map.show(result.month_hour, what="the whole layout")
-
-    # ================================================================= Module tab
-    def _build_module_tab(self) -> None:
-        def text():
-            return w.Text(continuous_update=False)
-
-        self.module_rows = {
-            "length_m": FieldRow("length_m", "Module long side", text()),
-            "width_m": FieldRow("width_m", "Module short side", text()),
-            "power_w": FieldRow("power_w", "Power at STC [W]", text()),
-            "gap_along_eave_m": FieldRow("gap_along_eave_m", "Gap in a row", text()),
-            "gap_up_slope_m": FieldRow("gap_up_slope_m", "Gap between rows", text()),
-        }
-        self.orientation = w.ToggleButtons(options=list(FILL_ORIENTATIONS),
-                                           style={"button_width": "90px"})
-        self.rows_mode = w.ToggleButtons(options=[("one grid", "grid"),
-                                                  ("sliding rows", "sliding")],
-                                         style={"button_width": "110px"})
-        self.preset = w.Dropdown(options=[_AS_IN_PROJECT, *SETBACK_PRESETS],
-                                 value=_AS_IN_PROJECT, description="Setbacks",
-                                 layout=w.Layout(width="360px"))
-        self.preset.observe(self._preset_chosen, names="value")
-        self.setback_rows = {
-            "ridge": FieldRow("ridge", "Ridge", text()),
-            "ridge_setback_high_m": FieldRow("ridge_setback_high_m", "Ridge, large array",
-                                             text()),
-            "eave": FieldRow("eave", "Eave", text()),
-            "rake": FieldRow("rake", "Rake", text()),
-            "hip": FieldRow("hip", "Hip", text()),
-            "valley": FieldRow("valley", "Valley", text()),
-            "obstruction_clearance_m": FieldRow("obstruction_clearance_m",
-                                                "Ring around objects", text()),
-            "pathway_width_m": FieldRow("pathway_width_m", "Pathway width", text()),
-            "pathway_count": FieldRow("pathway_count", "Pathways needed", text()),
-        }
-        self.refill_button = w.Button(description="Refill", button_style="",
-                                      tooltip="Fill the roof again with these values")
-        self.refill_button.add_class("eaveline-refill")
-        self.refill_button.on_click(lambda _: self.refill())
-        self.rule_label = w.HTML()
-        self.rule_label.add_class("eaveline-rules")
-        self.module_message = w.HTML()
-        self._quiet_fields = False
-        for row in [*self.module_rows.values(), *self.setback_rows.values()]:
-            row.input.observe(self._field_edited, names="value")
-        self.orientation.observe(self._field_edited, names="value")
-        self.rows_mode.observe(self._field_edited, names="value")
-        heading = "<div style='margin-top:8px;color:#34403f'><b>{}</b></div>".format
-        self.module_tab = w.VBox([
-            self.rule_label,
-            w.HTML(heading("Module")), *self.module_rows.values(),
-            w.HBox([w.Label("Orientation", layout=w.Layout(width="150px")), self.orientation]),
-            w.HBox([w.Label("Rows", layout=w.Layout(width="150px")), self.rows_mode]),
-            w.HTML(heading("Setbacks and clearances (on the roof surface)")),
-            self.preset, *self.setback_rows.values(),
-            w.HBox([self.refill_button, self.module_message],
-                   layout=w.Layout(align_items="center")),
-        ])
-
-    def _field_edited(self, change) -> None:
-        if not self._quiet_fields:
-            self.refill()
-
-    def _show_module_fields(self, rules: ClearanceRules | None = None) -> None:
-        p = self.project
-        rules = rules or p.clearance
-        units = p.units
-        values = {
-            "length_m": length_text(p.module.length_m, units),
-            "width_m": length_text(p.module.width_m, units),
-            "power_w": f"{p.module.power_w:g}",
-            "gap_along_eave_m": length_text(p.fill.gap_along_eave_m, units),
-            "gap_up_slope_m": length_text(p.fill.gap_up_slope_m, units),
-        }
-        setbacks = {kind: length_text(rules.edge_setback_m[kind], units)
-                    for kind in ("ridge", "eave", "rake", "hip", "valley")}
-        setbacks["ridge_setback_high_m"] = ("" if rules.ridge_setback_high_m is None
-                                            else length_text(rules.ridge_setback_high_m, units))
-        setbacks["obstruction_clearance_m"] = length_text(rules.obstruction_clearance_m, units)
-        setbacks["pathway_width_m"] = length_text(rules.pathway_width_m, units)
-        setbacks["pathway_count"] = str(rules.pathway_count)
-        self._quiet_fields = True
-        try:
-            for key, value in values.items():
-                self.module_rows[key].input.value = value
-                self.module_rows[key].set_error(None)
-            for key, value in setbacks.items():
-                self.setback_rows[key].input.value = value
-                self.setback_rows[key].set_error(None)
-            self.orientation.value = p.fill.orientation
-            self.rows_mode.value = p.fill.rows
-        finally:
-            self._quiet_fields = False
-        self._base_rules = rules
-        self._shown_module = dict(values)
-        self._shown_setbacks = dict(setbacks)
-
-    def _preset_chosen(self, change) -> None:
-        if change["new"] == _AS_IN_PROJECT:
-            self._show_module_fields()
-        else:
-            self._show_module_fields(SETBACK_PRESETS[change["new"]]())
-        self.refill()
-
-    def _length(self, rows, shown, key, exact):
-        text = rows[key].input.value
-        if text == shown[key]:
-            return exact
-        return read_length(text, self.project.units, field=key)
-
-    def refill(self) -> bool:
-        """Read the Module tab, and refill when every field is valid.
-
-        Returns
-        -------
-        bool
-            True when the project changed or was already as typed.
-        """
-        p = self.project
-        rows, setback_rows = self.module_rows, self.setback_rows
-        for row in [*rows.values(), *setback_rows.values()]:
-            row.set_error(None)
-        bad = False
-
-        def attempt(row_map, key, make):
-            nonlocal bad
-            try:
-                return make()
-            except InputError as err:
-                target = row_map.get(err.field.split(".")[-1], row_map.get(key))
-                target.set_error(error_text(err))
-                bad = True
-                return None
-
-        sm, ss = self._shown_module, self._shown_setbacks
-        base = self._base_rules
-        length = attempt(rows, "length_m",
-                         lambda: self._length(rows, sm, "length_m", p.module.length_m))
-        width = attempt(rows, "width_m",
-                        lambda: self._length(rows, sm, "width_m", p.module.width_m))
-        power = attempt(rows, "power_w", lambda: _number(rows["power_w"].input.value,
-                                                         "power_w"))
-        gap_u = attempt(rows, "gap_along_eave_m", lambda: self._length(
-            rows, sm, "gap_along_eave_m", p.fill.gap_along_eave_m))
-        gap_v = attempt(rows, "gap_up_slope_m", lambda: self._length(
-            rows, sm, "gap_up_slope_m", p.fill.gap_up_slope_m))
-        edge = {}
-        for kind in ("ridge", "eave", "rake", "hip", "valley"):
-            edge[kind] = attempt(setback_rows, kind, lambda k=kind: self._length(
-                setback_rows, ss, k, base.edge_setback_m[k]))
-        high_text = setback_rows["ridge_setback_high_m"].input.value.strip()
-        high = None if not high_text else attempt(
-            setback_rows, "ridge_setback_high_m", lambda: self._length(
-                setback_rows, ss, "ridge_setback_high_m", base.ridge_setback_high_m))
-        ring = attempt(setback_rows, "obstruction_clearance_m", lambda: self._length(
-            setback_rows, ss, "obstruction_clearance_m", base.obstruction_clearance_m))
-        path_w = attempt(setback_rows, "pathway_width_m", lambda: self._length(
-            setback_rows, ss, "pathway_width_m", base.pathway_width_m))
-        path_n = attempt(setback_rows, "pathway_count", lambda: _whole(
-            setback_rows["pathway_count"].input.value, "pathway_count"))
-        if bad:
-            self.module_message.value = ""
-            return False
-        module = attempt(rows, "length_m", lambda: replace(
-            p.module, length_m=length, width_m=width, power_w=power))
-        fill = attempt(rows, "gap_along_eave_m", lambda: replace(
-            p.fill, gap_along_eave_m=gap_u, gap_up_slope_m=gap_v,
-            orientation=self.orientation.value, rows=self.rows_mode.value))
-        setbacks = dict(base.edge_setback_m)
-        setbacks.update(edge)
-        rules = attempt(setback_rows, "ridge", lambda: replace(
-            base, edge_setback_m=setbacks, ridge_setback_high_m=high,
-            obstruction_clearance_m=ring, pathway_width_m=path_w, pathway_count=path_n))
-        if bad:
-            return False
-        if rules != base and not rules.name.endswith("(edited)"):
-            rules = replace(rules, name=f"{rules.name} (edited)")
-        if rules == p.clearance and module == p.module and fill == p.fill:
-            return True
-        return self.set_project(p.with_changes(module=module, fill=fill, clearance=rules),
-                                message="Refilled with the Module tab's values.")
-
-    # ================================================================= Compare tab
-    def _build_compare_tab(self) -> None:
-        self.compare_html = w.HTML()
-        self.compare_html.add_class("eaveline-compare-table")
-        x = bq.OrdinalScale()
-        y = bq.LinearScale(min=0.0)
-        self.compare_bars = bq.Bars(x=[], y=[], scales={"x": x, "y": y},
-                                    colors=[style.FIGURE_SCALE[4]], padding=0.25)
-        self.compare_figure = bq.Figure(
-            marks=[self.compare_bars],
-            axes=[bq.Axis(scale=x, label="layout", tick_rotate=-25),
-                  bq.Axis(scale=y, side="left", orientation="vertical",
-                          label="annual energy [kWh]", tick_format=",.0f")],
-            fig_margin={"top": 16, "bottom": 96, "left": 72, "right": 16},
-            display_toolbar=False,
-            layout=w.Layout(width="560px", height="300px"))
-        self.compare_figure.add_class("eaveline-compare-chart")
-        self.compare_button = w.Button(description="Compare again")
-        self.compare_button.on_click(lambda _: self._run_compare(force=True))
-        self.compare_note = w.HTML()
-        self.compare_tab = w.VBox([
-            w.HTML("<div style='font-size:12px;color:#5d6b6a'>The same faces, setbacks, gaps "
-                   "and removals filled in each orientation, each also without its modules "
-                   "below the TSRF threshold; every option evaluated like the plan.</div>"),
-            self.compare_html, self.compare_figure,
-            w.HBox([self.compare_button, self.compare_note],
-                   layout=w.Layout(align_items="center"))])
-
-    def _tab_changed(self, change) -> None:
-        self._refresh_tab(opened=True)
+                self.compare_panel.show_stale()
 
     def _run_compare(self, *, force: bool = False) -> None:
         if self._compare_for is self.project and not force:
@@ -1015,124 +639,25 @@ class Planner(w.VBox):
             return
         finally:
             self._progress_done()
-        table = comparison.table
         self._compare_for = self.project
-        current = self.project.fill.orientation
-        rows = []
-        for option, r in table.iterrows():
-            weight = "bold" if option == current else "normal"
-            rows.append(
-                f"<tr style='font-weight:{weight}'><td>{html.escape(option)}</td>"
-                f"<td style='text-align:right'>{int(r.modules)}</td>"
-                f"<td style='text-align:right'>{r.power_kwp:.2f}</td>"
-                f"<td style='text-align:right'>{r.energy_kwh:,.0f}</td>"
-                f"<td style='text-align:right'>{r.specific_yield_kwh_per_kwp:,.0f}</td>"
-                f"<td style='text-align:right'>{r.shade_loss_pct:.2f}</td>"
-                f"<td style='text-align:right'>{r.tsrf_mean_pct:.1f}</td>"
-                f"<td style='text-align:right'>{int(r.dropped)}</td></tr>")
-        basis = html.escape(str(table.attrs.get("energy_basis", "DC")))
-        self.compare_html.value = (
-            "<table style='font-size:12px;border-collapse:collapse'>"
-            "<tr><th style='text-align:left'>layout</th><th>modules</th><th>kWp</th>"
-            f"<th>kWh a year ({basis})</th><th>kWh/kWp</th><th>shade loss %</th>"
-            "<th>mean TSRF %</th><th>dropped</th></tr>" + "".join(rows) + "</table>")
-        with self.compare_bars.hold_sync():
-            self.compare_bars.x = list(table.index)
-            self.compare_bars.y = table["energy_kwh"].astype(float).tolist()
-        threshold = comparison.limits.get("min_tsrf_pct")
-        self.compare_note.value = (
-            f"<span style='font-size:11px;color:#5d6b6a'>Dropped: modules below "
-            f"{threshold:g} % TSRF. {html.escape(comparison.caveat)}</span>"
-            if threshold is not None else "")
-        self.compare_result = table
+        self.compare_panel.show(comparison, current=self.project.fill.orientation)
+        self.compare_result = comparison.table
         self.comparison = comparison
         self._status("Ready.")
 
     # ================================================================= File tab
-    def _build_file_tab(self, path) -> None:
-        default = Path(path) if path else Path.home() / "eaveline" / f"project{FILE_SUFFIX}"
-        self.project_path = w.Text(value=str(default), description="Project file",
-                                   layout=w.Layout(width="500px"))
-        self.save_button = w.Button(description="Save")
-        self.load_button = w.Button(description="Load")
-        self.save_button.on_click(lambda _: self.save())
-        self.load_button.on_click(lambda _: self.load())
-        base = default.name[: -len(FILE_SUFFIX)] if default.name.endswith(FILE_SUFFIX) \
-            else default.stem
-        self.export_path = w.Text(value=str(default.with_name(f"{base}-modules")),
-                                  description="Export to", layout=w.Layout(width="500px"))
-        self.csv_button = w.Button(description="Module table (CSV)",
-                                   layout=w.Layout(width="auto"))
-        self.geojson_button = w.Button(description="Outlines (GeoJSON)",
-                                       layout=w.Layout(width="auto"))
-        self.csv_button.on_click(lambda _: self.export_csv())
-        self.geojson_button.on_click(lambda _: self.export_geojson())
-        self.file_message = w.HTML()
-        self.file_tab = w.VBox([
-            self.project_path, w.HBox([self.save_button, self.load_button]),
-            w.HTML("<div style='font-size:12px;color:#5d6b6a;margin-top:8px'>Exports use the "
-                   "site frame in metres (x east, y north, z up).</div>"),
-            self.export_path, w.HBox([self.csv_button, self.geojson_button]),
-            self.file_message])
-
-    def _file_note(self, text: str, *, error: bool = False) -> None:
-        colour = "#8a2d2d" if error else "#34403f"
-        self.file_message.value = (f"<pre style='font-size:12px;color:{colour};"
-                                   f"white-space:pre-wrap'>{html.escape(text)}</pre>")
-
     def save(self) -> Path | None:
         """Save the project to the path in the File tab; return the path written."""
-        try:
-            written = save_project(self.project, self.project_path.value)
-        except OSError as err:
-            self._file_note(f"Not saved: {err}", error=True)
-            return None
-        self.project_path.value = str(written)
-        self._file_note(f"Saved {written}")
-        return written
+        return self.file_panel.save()
 
     def load(self) -> bool:
         """Load the project named in the File tab; on problems keep the current one."""
-        try:
-            project = load_project(self.project_path.value)
-        except ProjectFileError as err:
-            self._file_note(str(err), error=True)
-            return False
-        if not self.set_project(project, message=f"Loaded {self.project_path.value}"):
-            self._file_note("The file was read but the roof cannot be filled; see the status "
-                            "line.", error=True)
-            return False
-        self._file_note(f"Loaded {self.project_path.value}")
-        return True
-
-    def _quiet_units(self, units: str) -> None:
-        self.units_toggle.unobserve(self._units_changed, names="value")
-        self.units_toggle.value = units
-        self.units_toggle.observe(self._units_changed, names="value")
+        return self.file_panel.load()
 
     def export_csv(self) -> Path:
         """Write the module table next to the export path; return the path."""
-        target = write_module_table(self.array_layout, self.export_path.value)
-        self._file_note(f"Wrote {target}")
-        return target
+        return self.file_panel.export_csv()
 
     def export_geojson(self) -> Path:
         """Write the module outlines as GeoJSON; return the path."""
-        target = write_layout_geojson(self.array_layout, self.export_path.value,
-                                      name=self.project.name)
-        self._file_note(f"Wrote {target}")
-        return target
-
-
-def _number(text: str, field: str) -> float:
-    try:
-        return float(str(text).strip())
-    except ValueError:
-        raise InputError(field, "must be a number", value=text) from None
-
-
-def _whole(text: str, field: str) -> int:
-    number = _number(text, field)
-    if not number.is_integer() or number < 0:
-        raise InputError(field, "must be a whole number", value=text, allowed="0, 1, 2, ...")
-    return int(number)
+        return self.file_panel.export_geojson()
