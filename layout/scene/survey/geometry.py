@@ -171,7 +171,7 @@ def height_range(entry) -> tuple[float, float]:
     Parameters
     ----------
     entry : SurveyEntry
-        The readings of one obstruction.
+        The readings of one obstruction, each with its tolerance.
 
     Returns
     -------

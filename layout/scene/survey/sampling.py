@@ -85,13 +85,7 @@ def sample_entry(entry, n: int, seed=None, *, distribution: str = "normal",
 
     Parameters
     ----------
-    entry : SurveyEntry
-        The readings of one obstruction.
-    n : int
-        Number of draws, at least 1.
-    seed : int, numpy.random.Generator or None
-        As in :func:`sample_readings`.
-    distribution : {"normal", "uniform"}, keyword-only
+    entry, n, seed, distribution
         As in :func:`sample_readings`.
     hemisphere : {"north", "south"}, keyword-only
         As in :func:`~layout.scene.survey.geometry.build_obstruction`.
