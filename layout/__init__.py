@@ -11,7 +11,7 @@ its stage, in the order data flows through them:
 - :mod:`layout.power`: irradiance with shade applied, electrical models, metrics;
 - :mod:`layout.project`: the saved project document;
 - :mod:`layout.study`: the incremental analysis, comparisons, outlooks, portfolios;
-- the command line (``python -m layout``).
+- :mod:`layout.cli`: the command line (``python -m layout``, the ``eaveline`` script).
 
 A module imports only from its own stage or earlier ones. Nothing in this package imports a
 widget or plotting library.
