@@ -21,14 +21,10 @@ from __future__ import annotations
 import math
 import time
 
-from layout.fill.clearance import (
-    ifc_2021_commercial,
-    ifc_2021_residential,
-    no_setbacks,
-    usable_area,
-)
 from layout.fill.faces import FillOptions, fill_face
 from layout.fill.racking import fill_racks, row_pitch_no_shade_window
+from layout.fill.rules import ifc_2021_commercial, ifc_2021_residential, no_setbacks
+from layout.fill.usable import usable_area
 from layout.scene.building import flat_roof
 from layout.scene.modules import generic_60_cell
 from layout.scene.roof import RoofFace

@@ -18,18 +18,18 @@ widget or plotting library.
 """
 
 from .errors import InputError
-from .fill.clearance import (
+from .fill.faces import FillOptions
+from .fill.placed import Layout, PlacedModule
+from .fill.placement import compare_orientations, fill_building
+from .fill.rules import (
     CAUTION,
     ClearanceRules,
     ifc_2015_residential,
     ifc_2021_commercial,
     ifc_2021_residential,
     no_setbacks,
-    usable_area,
 )
-from .fill.faces import FillOptions
-from .fill.placed import Layout, PlacedModule
-from .fill.placement import compare_orientations, fill_building
+from .fill.usable import usable_area
 from .project import Project, ProjectFileError, load_demo_project, load_project, save_project
 from .scene.building import (
     Building,

@@ -21,10 +21,11 @@ from importlib import resources
 from pathlib import Path
 
 from .errors import InputError
-from .fill.clearance import ClearanceRules, UsableArea
 from .fill.faces import FillOptions
 from .fill.placed import Layout
 from .fill.placement import fill_building_with_areas
+from .fill.rules import ClearanceRules
+from .fill.usable import UsableArea
 from .power.energy import EnergyOptions
 from .scene.building import Building
 from .scene.modules import ModuleSpec
@@ -109,7 +110,7 @@ class Project:
         :class:`layout.fill.placed.Layout`.
     pathways : dict or None
         Face name → edge index of each access pathway chosen by the user; None lets eaveline
-        choose (:func:`layout.fill.clearance.choose_pathway_faces`).
+        choose (:func:`layout.fill.usable.choose_pathway_faces`).
     energy : EnergyOptions
         Weather, models and electrical settings of the energy evaluation.
     units : {"metric", "imperial"}
@@ -182,7 +183,7 @@ class Project:
         -------
         layout : Layout
             Modules of every building, the removals still in force and the fill's notes.
-        areas : dict of str to layout.fill.clearance.UsableArea
+        areas : dict of str to layout.fill.usable.UsableArea
             Usable area, zones and notes of each array face, keyed by face name.
         """
         modules, removed, notes, areas = [], [], [], {}

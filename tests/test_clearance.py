@@ -1,5 +1,5 @@
-"""Tests for layout.fill.clearance: presets against the code text, exact per-edge setbacks, rings,
-pathways, the 33 % rule and the exemption.
+"""layout.fill.rules and layout.fill.usable: presets against the code text, exact per-edge
+setbacks, rings, pathways, the 33 % rule and the exemption.
 
 Outside sources: the 'Fire access setbacks' table of /work/shared/REFERENCES.md (IFC editions),
 the exact inch and foot (international yard and pound agreement, 1959), and closed-form
@@ -17,18 +17,20 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from layout.errors import InputError
-from layout.fill.clearance import (
-    ARC_SIDES,
+from layout.fill.rules import (
     CAUTION,
     ClearanceRules,
-    UsableArea,
     array_share,
-    choose_pathway_faces,
     ifc_2015_residential,
     ifc_2021_commercial,
     ifc_2021_residential,
     no_setbacks,
     ridge_setback_in_force,
+)
+from layout.fill.usable import (
+    ARC_SIDES,
+    UsableArea,
+    choose_pathway_faces,
     roof_mounted,
     usable_area,
     usable_areas,
@@ -42,7 +44,7 @@ ARC_SLACK = 1.0 / math.cos(math.pi / ARC_SIDES) - 1.0
 
 @dataclasses.dataclass(frozen=True)
 class Thing:
-    """Stand-in obstruction with the attributes layout.fill.clearance reads (duck typing)."""
+    """Stand-in obstruction with the attributes layout.fill.usable reads (duck typing)."""
 
     footprint: tuple
     top: float

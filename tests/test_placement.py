@@ -10,11 +10,12 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from layout.errors import InputError
-from layout.fill.clearance import ClearanceRules, ifc_2021_residential, no_setbacks, usable_area
 from layout.fill.faces import FillOptions, fill_area, fill_face
 from layout.fill.packing import FIT_TOLERANCE_M, pack_rectangles
 from layout.fill.placed import Layout, PlacedModule
 from layout.fill.placement import compare_orientations, fill_building
+from layout.fill.rules import ClearanceRules, ifc_2021_residential, no_setbacks
+from layout.fill.usable import usable_area
 from layout.scene.building import Building, flat_roof, gable_roof, hip_roof
 from layout.scene.modules import ModuleSpec, generic_60_cell, generic_72_cell
 from layout.scene.roof import EDGE_KINDS, RoofFace
@@ -467,7 +468,7 @@ def test_free_faces_count_as_access_pathways():
     # IFC 2021 §1205.2.1.1: two 36 in pathways from eave to ridge on separate roof planes.
     # On a gable with modules on the south plane only, the free north plane is one of them, so
     # exactly one strip is cut into the south plane; with both planes filled, each gets one.
-    from layout.fill.clearance import ifc_2021_residential
+    from layout.fill.rules import ifc_2021_residential
     from layout.scene.building import gable_roof
 
     house = gable_roof(12.0, 9.0, 30.0, 3.0)
@@ -487,8 +488,8 @@ def test_flat_faces_take_rack_rows_when_asked():
     # Rows spaced by the no-shade window (common practice; REFERENCES.md worked formula) or a
     # GCR; checked against layout.fill.racking, which is itself checked against pvlib's
     # shaded_fraction1d in tests/test_racking.py.
-    from layout.fill.clearance import ifc_2021_commercial
     from layout.fill.racking import row_pitch_from_gcr, row_pitch_no_shade_window
+    from layout.fill.rules import ifc_2021_commercial
     from layout.scene.building import flat_roof
 
     roof = flat_roof(30.0, 20.0, 8.0, parapet_height_m=0.6, name="warehouse")

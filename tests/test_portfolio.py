@@ -22,7 +22,7 @@ import shapely
 from layout import load_project
 from layout.cli import portfolio_main
 from layout.errors import InputError
-from layout.fill.clearance import roof_mounted
+from layout.fill.usable import roof_mounted
 from layout.project import project_to_dict
 from layout.scene.obstructions import Block, Tree
 from layout.study.analysis import evaluate

@@ -9,7 +9,6 @@ from pvlib.shading import shaded_fraction1d
 from pvlib.solarposition import solar_azimuth_analytical, solar_zenith_analytical
 
 from layout.errors import InputError
-from layout.fill.clearance import ifc_2021_commercial, usable_area
 from layout.fill.racking import (
     fill_racks,
     gcr_from_row_pitch,
@@ -17,6 +16,8 @@ from layout.fill.racking import (
     row_pitch_no_shade_window,
     sun_from_hour_angle,
 )
+from layout.fill.rules import ifc_2021_commercial
+from layout.fill.usable import usable_area
 from layout.scene.building import flat_roof
 from layout.scene.modules import generic_60_cell
 from layout.scene.roof import RoofFace

@@ -14,13 +14,13 @@ from dataclasses import replace
 import ipywidgets as w
 
 from layout.errors import InputError
-from layout.fill.clearance import (
+from layout.fill.faces import FILL_ORIENTATIONS
+from layout.fill.rules import (
     ClearanceRules,
     ifc_2015_residential,
     ifc_2021_residential,
     no_setbacks,
 )
-from layout.fill.faces import FILL_ORIENTATIONS
 
 from .forms import FieldRow, error_text, length_text, read_length
 from .quiet import Quiet

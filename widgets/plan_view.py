@@ -2,7 +2,7 @@
 
 Everything is drawn in the site frame (x east, y north) at true scale with equal axes, in
 metres or in feet as the project asks. The view only draws what the core computed
-(:meth:`layout.project.Project.layout` and the usable areas of :mod:`layout.fill.clearance`) and
+(:meth:`layout.project.Project.layout` and the usable areas of :mod:`layout.fill.usable`) and
 reports three gestures back to its owner: an obstruction marker dropped at a new place, a
 click on a module, and a click on a surveyed obstruction. It never changes the project itself.
 
@@ -90,7 +90,7 @@ class PlanScene:
     edges : tuple of (str, int, str, numpy.ndarray)
         Face name, edge index, edge kind and the two end points (2, 2) [m].
     zones : tuple of (str, str, str, shapely geometry)
-        Face name, zone key (as :attr:`layout.fill.clearance.UsableArea.zones`), zone category
+        Face name, zone key (as :attr:`layout.fill.usable.UsableArea.zones`), zone category
         (setback, pathway, clearance, obstruction) and the zone in plan [m].
     usable : tuple of (str, shapely geometry)
         Face name and usable area in plan [m].
@@ -141,7 +141,7 @@ def plan_scene(project, layout, areas: dict) -> PlanScene:
         The project drawn.
     layout : layout.fill.placed.Layout
         Its modules and removals, as the core filled them.
-    areas : dict of str to layout.fill.clearance.UsableArea
+    areas : dict of str to layout.fill.usable.UsableArea
         Usable area of each array face, in roof-plane coordinates (mapped to plan here with
         :meth:`layout.scene.roof.RoofFace.roof_to_plan`).
 

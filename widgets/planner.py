@@ -139,7 +139,7 @@ class Planner(w.VBox):
         The one analysis of the project; every edit goes through its ``update``.
     array_layout : layout.fill.placed.Layout
         Its modules as the core placed them (``analysis.result.layout``).
-    areas : dict of str to layout.fill.clearance.UsableArea
+    areas : dict of str to layout.fill.usable.UsableArea
         Usable area of each array face.
     selected_id : str or None
         The module shown in the Sky and Hours tabs.

@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
-from ..fill.clearance import CAUTION
 from ..fill.placement import compare_orientations
+from ..fill.rules import CAUTION
 from ..project import Project
 from ..units import format_length
 from .project_input import load_command_project

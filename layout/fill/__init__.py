@@ -2,7 +2,8 @@
 
 The second stage of the flow, in the order its modules build on one another:
 
-- :mod:`.clearance`: setback and clearance rules and code-edition presets; a face's usable area;
+- :mod:`.rules`: setback and clearance rules, code-edition presets, the 33 % rule;
+- :mod:`.usable`: a face's usable area within its setbacks, clearance rings and pathways;
 - :mod:`.placed`: what a fill produces: :class:`~.placed.PlacedModule`, and
   :class:`~.placed.Layout`, the placed modules of a building with the user's removals;
 - :mod:`.packing`: equal rectangles in a region, on a fine lattice, one grid or sliding rows;

@@ -170,7 +170,7 @@ def fill_area(usable, module: ModuleSpec, options: FillOptions | None = None) ->
     ----------
     usable : shapely geometry or usable-area result
         Usable area in the face's roof-plane coordinates [m] (for instance
-        ``layout.fill.clearance.usable_area(...).polygon``).
+        ``layout.fill.usable.usable_area(...).polygon``).
     module : ModuleSpec
         The module to place.
     options : FillOptions, optional

@@ -1,7 +1,7 @@
 """Filling whole buildings: every array face within its setbacks, racks on flat faces.
 
 :func:`fill_building` is the entry point of the fill stage. It computes each face's usable
-area (:mod:`layout.fill.clearance`), fills pitched faces flush (:mod:`layout.fill.faces`) and
+area (:mod:`layout.fill.usable`), fills pitched faces flush (:mod:`layout.fill.faces`) and
 flat faces with rack rows when asked (:mod:`layout.fill.racking`), applies the user's
 removals, and returns one :class:`~layout.fill.placed.Layout`. :func:`compare_orientations`
 fills the same roof in every orientation and row mode and tabulates the counts.
@@ -18,11 +18,12 @@ import pandas as pd
 from ..errors import InputError
 from ..scene.modules import ModuleSpec
 from ..scene.roof import RoofFace
-from .clearance import array_share, choose_pathway_faces, ridge_setback_in_force, usable_area
 from .faces import FILL_ORIENTATIONS, FLAT_FACE_MAX_PITCH_DEG, FillOptions, fill_face
 from .packing import ROW_MODES, as_region, pack_rectangles
 from .placed import ORIENTATIONS, Layout, module_footprint, removal_entry
 from .racking import fill_racks, row_pitch_from_gcr, row_pitch_no_shade_window
+from .rules import array_share, ridge_setback_in_force
+from .usable import choose_pathway_faces, usable_area
 
 __all__ = ["compare_orientations", "fill_building", "fill_building_with_areas"]
 
@@ -108,7 +109,7 @@ def fill_building_with_areas(building, module: ModuleSpec, rules,
     -------
     layout : Layout
         As :func:`fill_building` returns it.
-    areas : dict of str to layout.fill.clearance.UsableArea
+    areas : dict of str to layout.fill.usable.UsableArea
         Usable area, zones and notes of each array face, as the fill used them (for drawing).
     """
     options = options or FillOptions()
@@ -226,7 +227,7 @@ def fill_building(building, module: ModuleSpec, rules, options: FillOptions | No
         The roof faces.
     module : ModuleSpec
         The module.
-    rules : layout.fill.clearance.ClearanceRules
+    rules : layout.fill.rules.ClearanceRules
         Setbacks, clearances and pathways.
     options : FillOptions, optional
         Orientation, gaps and row mode; defaults to ``FillOptions()``.
@@ -238,7 +239,7 @@ def fill_building(building, module: ModuleSpec, rules, options: FillOptions | No
         faces of other buildings are ignored.
     pathway_faces : dict of str to int, optional
         Face name → edge index of each access pathway; None lets
-        :func:`layout.fill.clearance.choose_pathway_faces` choose.
+        :func:`layout.fill.usable.choose_pathway_faces` choose.
     latitude : float, optional
         Site latitude [degrees]; needed when the pathways are chosen automatically.
     array_faces : iterable of str, optional
@@ -279,7 +280,7 @@ def compare_orientations(target, module: ModuleSpec, *, usable=None, rules=None,
         The module.
     usable : shapely geometry or usable-area result, optional
         For a face: its usable area. Give this or ``rules``.
-    rules : layout.fill.clearance.ClearanceRules, optional
+    rules : layout.fill.rules.ClearanceRules, optional
         Setback rules; required for a building.
     options : FillOptions, optional
         Gaps and search resolution; orientation and row mode are varied.

@@ -30,8 +30,8 @@ import numpy as np
 import pandas as pd
 
 from ..errors import InputError
-from ..fill.clearance import roof_mounted
 from ..fill.placed import Layout, PlacedModule
+from ..fill.usable import roof_mounted
 from ..power.electrical import DcPower, dc_power
 from ..power.energy import SunSteps, load_weather, scene_casters, sky_view_ratio, sun_steps
 from ..power.irradiance import ModuleIrradiance, module_irradiance
@@ -62,7 +62,7 @@ class Evaluation:
         The project evaluated.
     layout : layout.fill.placed.Layout
         The fill, removed modules included.
-    areas : dict of str to layout.fill.clearance.UsableArea
+    areas : dict of str to layout.fill.usable.UsableArea
         Usable area of each array face.
     modules : tuple of PlacedModule
         The active modules, in the row order of :attr:`table` and the column order of the

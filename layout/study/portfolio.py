@@ -730,7 +730,7 @@ def synthetic_portfolio(n_projects: int, *, seed: int = 0, n_sites: int | None =
     -------
     list of layout.project.Project
     """
-    from ..fill.clearance import ifc_2021_residential
+    from ..fill.rules import ifc_2021_residential
     from ..power.energy import EnergyOptions
     from ..project import Project
     from ..scene.building import gable_roof, hip_roof
