@@ -210,7 +210,7 @@ def test_a_bottom_edge_shadow_favours_landscape_only_with_bypass_diodes(row_edge
     # the eave and the band darkens only the bottom one, which is bypassed. Irradiance-only
     # power follows the shaded area, which is the same both ways (square cells, same band).
     # The bypass-diode model itself is checked against pvlib.shading.direct_martinez
-    # (Martínez-Moreno et al. 2010) and a bishop88 I-V solution in tests/test_electrical.py.
+    # (Martínez-Moreno et al. 2010) and a bishop88 I-V solution in tests/power/test_electrical.py.
     project, analysis = row_edge
     energy = replace(project.energy, electrical=ElectricalOptions(shade_model=model))
     comparison = compare_layouts(project.with_changes(energy=energy),

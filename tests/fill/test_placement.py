@@ -487,7 +487,7 @@ def test_free_faces_count_as_access_pathways():
 def test_flat_faces_take_rack_rows_when_asked():
     # Rows spaced by the no-shade window (common practice; REFERENCES.md worked formula) or a
     # GCR; checked against layout.fill.racking, which is itself checked against pvlib's
-    # shaded_fraction1d in tests/test_racking.py.
+    # shaded_fraction1d in tests/fill/test_racking.py.
     from layout.fill.racking import row_pitch_from_gcr, row_pitch_no_shade_window
     from layout.fill.rules import ifc_2021_commercial
     from layout.scene.building import flat_roof

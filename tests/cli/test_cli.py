@@ -2,7 +2,7 @@
 
 The outside reference of the JSON report is the evaluation itself
 (``layout.study.analysis.evaluate``, tested against pvlib and closed forms in
-tests/test_analysis.py): the command line must print exactly its figures, once through a real
+tests/study/test_analysis.py): the command line must print exactly its figures, once through a real
 subprocess as outside checks call it.
 """
 
@@ -175,7 +175,7 @@ def test_weather_file_from_the_working_directory(tmp_path, monkeypatch, capsys, 
     assert weather["clear_sky"] is False and "723170TYA.CSV" in weather["source"]
     assert "typical year" in weather["caveat"].lower()
     # The file's own annual GHI (its column sum; our reader is checked against the file's rows
-    # in tests/test_weather.py::test_tmy3_annual_totals_match_the_files_own_sums).
+    # in tests/sky/test_weather.py::test_tmy3_annual_totals_match_the_files_own_sums).
     assert weather["ghi_kwh_m2"] == pytest.approx(1566.203, abs=1e-3)
     assert not any("km from the site" in note for note in weather["notes"])
     totals = report["totals"]

@@ -56,7 +56,7 @@ from layout.scene.survey import (
 from layout.shading import shaded
 from layout.units import FOOT_M, feet_to_m, m_to_feet
 
-DATA = Path(__file__).parent / "data"
+DATA = Path(__file__).resolve().parents[1] / "data"
 
 
 def tree_entry(**kw):
