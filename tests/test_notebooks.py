@@ -37,3 +37,17 @@ def test_there_are_example_notebooks_and_the_planner_is_packaged():
     assert PLANNER.is_file()
     assert PLANNER.parent.parent.name == "widgets"
     assert not (PLANNER.parents[2] / "example_notebooks" / "planner.ipynb").exists()
+
+
+def test_the_planner_notebook_works_in_the_folder_the_command_names(tmp_path, monkeypatch):
+    # Voila starts the kernel in the notebook's folder (inside the installed package); the
+    # notebook must move to the folder python -m widgets was started in, which it is told
+    # through EAVELINE_WORKDIR, so that relative paths typed in the planner land there.
+    monkeypatch.setenv("EAVELINE_WORKDIR", str(tmp_path))
+    notebook = nbformat.read(PLANNER, as_version=4)
+    notebook.cells.append(nbformat.v4.new_code_cell("import os; print(os.getcwd())"))
+    client = NotebookClient(notebook, timeout=600, kernel_name="python3",
+                            resources={"metadata": {"path": str(PLANNER.parent)}})
+    client.execute()
+    printed = notebook.cells[-1].outputs[0]["text"].strip()
+    assert Path(printed).resolve() == tmp_path.resolve()

@@ -6,6 +6,7 @@ Every figure the planner shows is compared with the core's own result for the ne
 
 import json
 import math
+import os
 import re
 from dataclasses import replace
 
@@ -456,6 +457,8 @@ def test_app_serves_the_packaged_notebook(no_exec, demo, capsys):
     assert executable == app.sys.executable
     assert command == voila_command(packaged, port=9999)  # from a folder package: the file
     assert "EAVELINE_PROJECT" not in env
+    # the kernel starts in the notebook's folder; the notebook moves to where the user was
+    assert env[app.WORKDIR_VARIABLE] == os.getcwd()
     assert "http://127.0.0.1:9999/" in capsys.readouterr().out
     app.main([str(demo_project_path()), "--open"])
     _, command, env = no_exec.pop()

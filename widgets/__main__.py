@@ -27,6 +27,8 @@ from importlib.resources.abc import Traversable
 from pathlib import Path
 
 DEFAULT_PORT = 8866
+#: The folder relative paths typed in the planner are taken from (see :func:`voila_environment`).
+WORKDIR_VARIABLE = "EAVELINE_WORKDIR"
 #: Where the planner notebook lies inside the ``widgets`` package (package data).
 NOTEBOOK_PARTS = ("app", "planner.ipynb")
 
@@ -223,10 +225,15 @@ def voila_environment(environ=None) -> dict:
     """Return the environment the Voila server and its kernels run with.
 
     The caller's environment, with numpy's huge-page advice off unless the user chose
-    (``NUMPY_MADVISE_HUGEPAGE``; see :mod:`layout.runtime` for why and what it measured).
+    (``NUMPY_MADVISE_HUGEPAGE``; see :mod:`layout.runtime` for why and what it measured), and
+    ``EAVELINE_WORKDIR`` set to the folder the command was started in (unless set already):
+    Voila starts the kernel in the notebook's own folder, inside the installed package, and
+    the planner notebook moves to this folder first, so that a relative path typed in the
+    planner (a project to save, a survey CSV, an export) means what the user expects.
     """
     env = dict(os.environ if environ is None else environ)
     env.setdefault("NUMPY_MADVISE_HUGEPAGE", "0")
+    env.setdefault(WORKDIR_VARIABLE, os.getcwd())
     return env
 
 
