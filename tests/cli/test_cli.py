@@ -324,7 +324,7 @@ def test_commands_turn_numpy_hugepage_advice_off_unless_the_user_chose():
     import numpy as np
 
     from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
-    from widgets.__main__ import voila_environment
+    from widgets.__main__ import WORKDIR_VARIABLE, voila_environment
 
     before = hugepage_advice()
     try:
@@ -337,5 +337,5 @@ def test_commands_turn_numpy_hugepage_advice_off_unless_the_user_chose():
     finally:
         np._core.multiarray._set_madvise_hugepage(before)
     assert voila_environment({})[HUGEPAGE_VARIABLE] == "0"
-    assert voila_environment({HUGEPAGE_VARIABLE: "1", "A": "b"}) == {HUGEPAGE_VARIABLE: "1",
-                                                                   "A": "b"}
+    assert voila_environment({HUGEPAGE_VARIABLE: "1", "A": "b"}) == {
+        HUGEPAGE_VARIABLE: "1", "A": "b", WORKDIR_VARIABLE: os.getcwd()}
