@@ -7,9 +7,10 @@ the first time is slow. Measured on the development machine (2 cores, Debian 13,
 a 500-module evaluation 17.4 s with the advice and 5.3 s without; the first drag in the
 planner 160-220 ms and 76-80 ms; the steady drag of a tree no different (about 60 ms).
 
-``python -m layout`` and ``python -m widgets`` therefore turn the advice off for themselves
-and the processes they start (Voila kernels, Dask workers) through numpy's own switch, the
-environment variable ``NUMPY_MADVISE_HUGEPAGE`` -- unless the user has set it. Library use
+``python -m layout`` (and the ``eaveline`` script), ``python -m widgets`` (and
+``eaveline-planner``) therefore turn the advice off for themselves and the processes they start
+(Voila kernels, Dask workers) through numpy's own switch, the environment variable
+``NUMPY_MADVISE_HUGEPAGE`` -- unless the user has set it. Library use
 (``import layout`` in a notebook) changes nothing; set ``NUMPY_MADVISE_HUGEPAGE=0`` before
 starting Python to get the same there.
 """
