@@ -13,10 +13,16 @@ tested in one :func:`shapely.covers` call against the prepared usable area. A gr
 ``rows="grid"`` keeps one rigid grid and picks the offset with the most modules. Ties go to the
 offset whose modules' bounding box is most centred in the usable area's bounding box (smallest
 sum of the distances between the two centres along ``u`` and along ``v``), then to the
-smallest offset. ``rows="sliding"`` lets each
-row pick its own offset along the eave, the one that fits most modules in that row; a tie goes
-to the offset that centres the row's modules on the span where that row can hold modules.
-Each connected piece of the usable area is filled on its own with sliding rows.
+smallest offset.
+
+``rows="sliding"`` places each row exactly along the eave: rows start on the same lattice
+along ``v``, and for each row :func:`row_free_intervals` finds the exact stretches along ``u``
+where a module of the row's height fits (the row's band minus the region, one vectorised
+:func:`shapely.difference` for all rows). A stretch of length ``L`` holds
+``floor((L + gap) / (size + gap))`` modules, the most any placement can put there; they are
+centred in the stretch (pushed to one end with ``anchor``). The rows' offset along ``v`` is the
+one whose rows hold the most modules in all. Each connected piece of the usable area is filled
+on its own with sliding rows.
 
 Candidate rectangles are shrunk by :data:`FIT_TOLERANCE_M` on every side before the fit test,
 so that a module that fits exactly is not lost to rounding.
@@ -31,12 +37,22 @@ import shapely
 
 from ..errors import InputError
 
-__all__ = ["ANCHORS", "FIT_TOLERANCE_M", "ROW_MODES", "as_region", "number_rows", "pack_rectangles"]
+__all__ = [
+    "ANCHORS",
+    "FIT_TOLERANCE_M",
+    "ROW_MODES",
+    "as_region",
+    "number_rows",
+    "pack_rectangles",
+    "row_free_intervals",
+]
 
 #: Row modes: one rigid grid, or rows sliding independently along the eave.
 ROW_MODES = ("grid", "sliding")
 #: Slack given to the fit test on every side of a candidate [m].
 FIT_TOLERANCE_M = 1e-7
+# Outside parts of a row band narrower or lower than this [m] are floating-point slivers.
+_SLIVER_M = 1e-9
 
 
 def as_region(usable) -> shapely.Geometry:
@@ -96,7 +112,14 @@ def _anchor_cost(lo, hi, box_lo, box_hi, anchor: str):
 
 
 def _pack_piece(region, size_u, size_v, gap_u, gap_v, rows, steps, anchor) -> np.ndarray:
-    """Pack one region (lattice anchored at its bounds); returns (n, 4) rectangles."""
+    """Pack one region; returns (n, 4) rectangles."""
+    if rows == "sliding":
+        return _pack_sliding_rows(region, size_u, size_v, gap_u, gap_v, steps, anchor)
+    return _pack_grid(region, size_u, size_v, gap_u, gap_v, steps, anchor)
+
+
+def _pack_grid(region, size_u, size_v, gap_u, gap_v, steps, anchor) -> np.ndarray:
+    """One rigid grid: the lattice offset (i, j) that fits the most rectangles."""
     fits, u_lo, v_lo, du, dv = _lattice_fits(region, size_u, size_v, size_u + gap_u,
                                              size_v + gap_v, steps)
     if not fits.any():
@@ -105,54 +128,120 @@ def _pack_piece(region, size_u, size_v, gap_u, gap_v, rows, steps, anchor) -> np
     nv, nu = fits.shape
     big_r, big_c = nv // steps, nu // steps
     bu0, bv0, bu1, bv1 = region.bounds
-    if rows == "grid":
-        f4 = fits.reshape(big_r, steps, big_c, steps)  # (R, j, C, i)
-        count = f4.sum(axis=(0, 2))  # (j, i)
-        c_first, c_last = _first_last(f4.any(axis=0), axis=1)  # (j, i)
-        r_first, r_last = _first_last(f4.any(axis=2), axis=0)  # (j, i)
-        jj, ii = np.meshgrid(np.arange(steps), np.arange(steps), indexing="ij")
-        u_min = u_lo + (c_first * steps + ii) * du
-        u_max = u_lo + (c_last * steps + ii) * du + size_u
-        v_min = v_lo + (r_first * steps + jj) * dv
-        v_max = v_lo + (r_last * steps + jj) * dv + size_v
-        cost = (_anchor_cost(u_min, u_max, bu0, bu1, anchor_u)
-                + _anchor_cost(v_min, v_max, bv0, bv1, anchor_v))
-        cost = np.where(count == count.max(), np.round(cost, 9), np.inf)
-        j, i = np.unravel_index(int(np.argmin(cost)), count.shape)
-        big_rows, big_cols = np.nonzero(f4[:, j, :, i])
-        n_index = big_rows * steps + j
-        m_index = big_cols * steps + i
-    else:
-        f3 = fits.reshape(nv, big_c, steps)  # (n, C, i)
-        row_count = f3.sum(axis=1)  # (n, i)
-        c_first, c_last = _first_last(f3, axis=1)  # (n, i)
-        # the span where each row can hold a module at any offset
-        m_first, m_last = _first_last(fits, axis=1)  # (n,)
-        span_lo = (u_lo + m_first * du)[:, None]
-        span_hi = (u_lo + m_last * du + size_u)[:, None]
-        ii = np.arange(steps)[None, :]
-        u_min = u_lo + (c_first * steps + ii) * du
-        u_max = u_lo + (c_last * steps + ii) * du + size_u
-        cost = np.round(_anchor_cost(u_min, u_max, span_lo, span_hi, anchor_u), 9)
-        best = row_count.max(axis=1)
-        cost = np.where(row_count == best[:, None], cost, np.inf)
-        best_i = np.argmin(cost, axis=1)  # (n,)
-        # the row offset j: total of the rows n ≡ j (mod steps)
-        per_j = best.reshape(big_r, steps)  # (R, j)
-        total = per_j.sum(axis=0)
-        r_first, r_last = _first_last(per_j > 0, axis=0)  # (j,)
-        jj = np.arange(steps)
-        v_min = v_lo + (r_first * steps + jj) * dv
-        v_max = v_lo + (r_last * steps + jj) * dv + size_v
-        cost_v = np.round(_anchor_cost(v_min, v_max, bv0, bv1, anchor_v), 9)
-        j = int(np.argmin(np.where(total == total.max(), cost_v, np.inf)))
-        chosen_rows = np.arange(j, nv, steps)
-        pick = f3[chosen_rows, :, best_i[chosen_rows]]  # (rows, C)
-        rr, big_cols = np.nonzero(pick)
-        n_index = chosen_rows[rr]
-        m_index = big_cols * steps + best_i[n_index]
-    u_min = u_lo + m_index * du
-    v_min = v_lo + n_index * dv
+    f4 = fits.reshape(big_r, steps, big_c, steps)  # (R, j, C, i)
+    count = f4.sum(axis=(0, 2))  # (j, i)
+    c_first, c_last = _first_last(f4.any(axis=0), axis=1)  # (j, i)
+    r_first, r_last = _first_last(f4.any(axis=2), axis=0)  # (j, i)
+    jj, ii = np.meshgrid(np.arange(steps), np.arange(steps), indexing="ij")
+    u_min = u_lo + (c_first * steps + ii) * du
+    u_max = u_lo + (c_last * steps + ii) * du + size_u
+    v_min = v_lo + (r_first * steps + jj) * dv
+    v_max = v_lo + (r_last * steps + jj) * dv + size_v
+    cost = (_anchor_cost(u_min, u_max, bu0, bu1, anchor_u)
+            + _anchor_cost(v_min, v_max, bv0, bv1, anchor_v))
+    cost = np.where(count == count.max(), np.round(cost, 9), np.inf)
+    j, i = np.unravel_index(int(np.argmin(cost)), count.shape)
+    big_rows, big_cols = np.nonzero(f4[:, j, :, i])
+    u_min = u_lo + (big_cols * steps + i) * du
+    v_min = v_lo + (big_rows * steps + j) * dv
+    return np.stack([u_min, v_min, u_min + size_u, v_min + size_v], axis=1)
+
+
+def row_free_intervals(region, v_starts, size_v: float) -> list[np.ndarray]:
+    """Exact stretches along ``u`` where a rectangle of height ``size_v`` fits, per row.
+
+    Parameters
+    ----------
+    region : shapely.Polygon or shapely.MultiPolygon
+        The region in roof-plane coordinates [m].
+    v_starts : array_like of float, shape (n,)
+        Lower edge ``v`` of each row [m].
+    size_v : float
+        Height of the rows [m].
+
+    Returns
+    -------
+    list of numpy.ndarray, each shape (k, 2)
+        For each row, the free intervals ``(u_start, u_end)`` [m], sorted along ``u``: a
+        rectangle ``[u0, u1] × [v, v + size_v]`` lies in the region exactly when ``[u0, u1]``
+        lies in one of them (up to :data:`FIT_TOLERANCE_M` on every side).
+
+    Notes
+    -----
+    The row's band, lowered and raised by the tolerance, minus the region leaves the parts of
+    the band outside it. Each part is connected and spans the band's whole height wherever a
+    rectangle of the band's height would meet it, so it blocks exactly the ``u`` range of its
+    bounding box; the free intervals are the gaps between the merged blocked ranges. One
+    vectorised :func:`shapely.difference` serves all rows.
+    """
+    v_starts = np.asarray(v_starts, dtype=float)
+    if len(v_starts) == 0:
+        return []
+    tol = FIT_TOLERANCE_M
+    u_lo, _, u_hi, _ = region.bounds
+    margin = 1.0 + size_v  # the band reaches past the region on both sides: always blocked there
+    bands = shapely.box(u_lo - margin, v_starts + tol, u_hi + margin, v_starts + size_v - tol)
+    shapely.prepare(region)
+    outside = shapely.difference(bands, region)
+    parts, index = shapely.get_parts(outside, return_index=True)
+    bounds = shapely.bounds(parts)
+    # floating-point slivers along an edge the band shares with the region block nothing
+    real = ((bounds[:, 2] - bounds[:, 0]) > _SLIVER_M) & ((bounds[:, 3] - bounds[:, 1]) > _SLIVER_M)
+    index, lo, hi = index[real], bounds[real, 0], bounds[real, 2]
+    order = np.lexsort((lo, index))
+    index, lo, hi = index[order], lo[order], hi[order]
+    out = []
+    for row in range(len(v_starts)):
+        sel = slice(*np.searchsorted(index, [row, row + 1]))
+        row_lo, row_hi = lo[sel], hi[sel]
+        reach = np.maximum.accumulate(row_hi)  # merged blocked ranges: a gap opens where the
+        gaps = row_lo[1:] > reach[:-1]  # next range starts beyond all before it
+        out.append(np.stack([reach[:-1][gaps], row_lo[1:][gaps]], axis=1))
+    return out
+
+
+def _pack_sliding_rows(region, size_u, size_v, gap_u, gap_v, steps, anchor) -> np.ndarray:
+    """Rows on a lattice along ``v``; in each row, the most rectangles its free stretches hold."""
+    tol = FIT_TOLERANCE_M
+    pitch_u, pitch_v = size_u + gap_u, size_v + gap_v
+    u_lo, v_lo, u_hi, v_hi = region.bounds
+    dv = pitch_v / steps
+    span_v = v_hi - v_lo - size_v + 2 * tol
+    if span_v < 0 or u_hi - u_lo - size_u + 2 * tol < 0:
+        return np.zeros((0, 4))
+    nv = -(-(math.floor(span_v / dv) + 1) // steps) * steps  # a whole number of pitches
+    v_starts = v_lo + np.arange(nv) * dv
+    intervals = row_free_intervals(region, v_starts, size_v)
+    anchor_u, anchor_v = anchor
+    placed_u = []
+    for free in intervals:
+        width = free[:, 1] - free[:, 0]
+        n = np.floor((width + 2 * tol + gap_u) / pitch_u).astype(int)
+        n = np.maximum(n, 0)
+        group = n * size_u + np.maximum(n - 1, 0) * gap_u
+        slack = width - group
+        if anchor_u == "low":
+            start = np.where(slack >= 0, free[:, 0], free[:, 0] + slack / 2)
+        elif anchor_u == "high":
+            start = np.where(slack >= 0, free[:, 1] - group, free[:, 0] + slack / 2)
+        else:
+            start = free[:, 0] + slack / 2
+        placed_u.append(np.concatenate(
+            [s + np.arange(k) * pitch_u for s, k in zip(start, n, strict=True)] or [np.zeros(0)]))
+    per_row = np.array([len(u) for u in placed_u])
+    per_j = per_row.reshape(nv // steps, steps)  # (R, j)
+    total = per_j.sum(axis=0)
+    if total.max() == 0:
+        return np.zeros((0, 4))
+    r_first, r_last = _first_last(per_j > 0, axis=0)  # (j,)
+    jj = np.arange(steps)
+    row_lo = v_lo + (r_first * steps + jj) * dv
+    row_hi = v_lo + (r_last * steps + jj) * dv + size_v
+    cost_v = np.round(_anchor_cost(row_lo, row_hi, v_lo, v_hi, anchor_v), 9)
+    j = int(np.argmin(np.where(total == total.max(), cost_v, np.inf)))
+    rows = np.arange(j, nv, steps)
+    u_min = np.concatenate([placed_u[r] for r in rows])
+    v_min = np.repeat(v_starts[rows], per_row[rows])
     return np.stack([u_min, v_min, u_min + size_u, v_min + size_v], axis=1)
 
 
