@@ -22,6 +22,7 @@ import math
 import time
 
 from layout.fill.faces import FillOptions, fill_face
+from layout.fill.placement import area_bound
 from layout.fill.racking import fill_racks, row_pitch_no_shade_window
 from layout.fill.rules import ifc_2021_commercial, ifc_2021_residential, no_setbacks
 from layout.fill.usable import usable_area
@@ -67,14 +68,16 @@ def main() -> None:
         for rows in ("grid", "sliding"):
             seconds, count = best_of(lambda o=orientation, r=rows: fill_face(
                 face, usable, MODULE, FillOptions(orientation=o, rows=r)))
-            print(f"  {orientation:9s} {rows:7s}: {count:4d} modules in {seconds * 1e3:7.2f} ms")
+            print(f"  {orientation:9s} {rows:7s}: {count:4d} modules in {seconds * 1e3:7.2f} ms"
+                  f"  ({count} / {area_bound(usable.area_m2, MODULE)} of the area bound)")
 
     face, usable = flat(500.0)
     print(f"\n500 m² flat roof (usable {usable.area_m2:.1f} m²)")
     for orientation in ("portrait", "landscape"):
         seconds, count = best_of(lambda o=orientation: fill_face(
             face, usable, MODULE, FillOptions(orientation=o)))
-        print(f"  flush {orientation:9s}: {count:4d} modules in {seconds * 1e3:7.2f} ms")
+        print(f"  flush {orientation:9s}: {count:4d} modules in {seconds * 1e3:7.2f} ms"
+              f"  ({count} / {area_bound(usable.area_m2, MODULE)} of the area bound)")
     for orientation in ("portrait", "landscape"):
         slant = MODULE.length_m if orientation == "portrait" else MODULE.width_m
         pitch = row_pitch_no_shade_window(slant, 10.0, 40.0)

@@ -60,9 +60,10 @@ def project_summary(project: Project) -> str:
                                      array_faces=project.array_faces_of(building))
         for record in table.itertuples():
             rows.append((building.name or "building", record.option, record.modules,
-                         f"{record.power_kwp:.2f}", f"{record.usable_use_pct:.0f} %"))
-    out.append(text_table(("building", "option", "modules", "kWp", "usable area used"), rows,
-                          "llrrr"))
+                         f"{record.power_kwp:.2f}", f"{record.usable_use_pct:.0f} %",
+                         f"{record.modules} / {record.area_bound}"))
+    out.append(text_table(("building", "option", "modules", "kWp", "usable area used",
+                           "of the area bound"), rows, "llrrrr"))
     layout = project.layout()
     by_face: dict[str, int] = {}
     for module in layout.active_modules:

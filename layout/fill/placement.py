@@ -25,7 +25,7 @@ from .racking import fill_racks, row_pitch_from_gcr, row_pitch_no_shade_window
 from .rules import array_share, ridge_setback_in_force
 from .usable import choose_pathway_faces, usable_area
 
-__all__ = ["compare_orientations", "fill_building", "fill_building_with_areas"]
+__all__ = ["area_bound", "compare_orientations", "fill_building", "fill_building_with_areas"]
 
 
 # =========================================================================== buildings
@@ -266,6 +266,18 @@ def fill_building(building, module: ModuleSpec, rules, options: FillOptions | No
 
 
 # =========================================================================== comparison
+def area_bound(usable_area_m2: float, module: ModuleSpec) -> int:
+    """Most modules an area could hold by area alone: ``floor(area / module area)``.
+
+    Modules do not overlap and each covers its own true area, so no fill of a usable area of
+    ``usable_area_m2`` [m², true area on the roof plane] can place more; a fill's count over
+    this bound says how close it comes (a rectangle whose sides are whole multiples of the
+    module reaches it with no gaps).
+    """
+    # the tolerance keeps an exact multiple from losing one module to rounding
+    return max(0, math.floor(usable_area_m2 / module.area_m2 + 1e-9))
+
+
 def compare_orientations(target, module: ModuleSpec, *, usable=None, rules=None,
                          options: FillOptions | None = None, obstructions: Iterable = (),
                          pathway_faces: dict | None = None, latitude: float | None = None,
@@ -293,8 +305,10 @@ def compare_orientations(target, module: ModuleSpec, *, usable=None, rules=None,
         One row per option (portrait, landscape and mixed, each with a rigid grid and with
         sliding rows): ``option``, ``orientation``, ``rows``, ``modules``,
         ``portrait_modules``, ``landscape_modules``, ``power_kwp`` [kWp], ``module_area_m2``
-        [m², true area], ``usable_area_m2`` [m², true area] and ``usable_use_pct`` (module
-        area over usable area [%]).
+        [m², true area], ``usable_area_m2`` [m², true area], ``usable_use_pct`` (module
+        area over usable area [%]) and ``area_bound``, the most modules the usable area could
+        hold by area alone, ``floor(usable area / module area)``: no fill can place more, so
+        ``modules / area_bound`` tells how close a fill comes to it.
     """
     base = options or FillOptions()
     is_face = isinstance(target, RoofFace)
@@ -326,5 +340,6 @@ def compare_orientations(target, module: ModuleSpec, *, usable=None, rules=None,
                 "power_kwp": n * module.power_w / 1000.0,
                 "module_area_m2": n * module.area_m2, "usable_area_m2": area,
                 "usable_use_pct": 100.0 * n * module.area_m2 / area if area > 0 else 0.0,
+                "area_bound": area_bound(area, module),
             })
     return pd.DataFrame.from_records(records)

@@ -118,3 +118,25 @@ def test_rows_outside_the_region_have_no_free_stretch():
     free = row_free_intervals(region, [-2.0, 0.0, 2.5], SIZE_V)
     assert len(free[0]) == 0 and len(free[2]) == 0
     np.testing.assert_allclose(free[1], [[0.0, 6.0]], atol=1e-12)
+
+
+def test_the_area_bound_holds_and_is_reached_where_modules_tile_the_area():
+    from layout import FillOptions, RoofFace, compare_orientations, generic_60_cell
+    from layout.fill.placement import area_bound
+
+    module = generic_60_cell(330)
+    # a rectangle of exactly 4 × 3 portrait modules: with no gaps they tile it (closed form)
+    w, h = 4 * module.width_m, 3 * module.length_m
+    face = RoofFace(outline=[(0, 0), (w, 0), (w, h), (0, h)], pitch_deg=20, azimuth_deg=180,
+                    eave_height_m=3, name="tiled")
+    table = compare_orientations(face, module, usable=shapely.box(0, 0, w, h),
+                                 options=FillOptions(gap_along_eave_m=0, gap_up_slope_m=0))
+    assert (table["area_bound"] == 12).all()
+    assert table.set_index("option").loc["portrait, grid", "modules"] == 12
+    # anywhere else the fill stays at or under the bound
+    for region in _shapes(7, 6):
+        bound = area_bound(region.area, module)
+        for rows in ("grid", "sliding"):
+            rects = pack_rectangles(region, module.width_m, module.length_m, gap_u=0.02,
+                                    gap_v=0.02, rows=rows)
+            assert len(rects) <= bound
