@@ -53,6 +53,8 @@ ROW_MODES = ("grid", "sliding")
 FIT_TOLERANCE_M = 1e-7
 # Outside parts of a row band narrower or lower than this [m] are floating-point slivers.
 _SLIVER_M = 1e-9
+# Turn of the outline [degrees] above which a vertex is a corner that row offsets are tried at.
+_CORNER_TURN_DEG = 10.0
 
 
 def as_region(usable) -> shapely.Geometry:
@@ -200,24 +202,60 @@ def row_free_intervals(region, v_starts, size_v: float) -> list[np.ndarray]:
     return out
 
 
+def _corners(region) -> np.ndarray:
+    """Vertices where the outline turns by more than :data:`_CORNER_TURN_DEG`, shape (n, 2).
+
+    The many short sides of a clearance ring's rounded ends (a polygon standing in for an arc)
+    turn a few degrees each and are left out: offsets at each of them would multiply the work
+    for gains of a fraction of a millimetre.
+    """
+    found = []
+    for ring in shapely.get_rings(region):
+        xy = shapely.get_coordinates(ring)[:-1]
+        if len(xy) < 3:
+            continue
+        before = xy - np.roll(xy, 1, axis=0)
+        after = np.roll(xy, -1, axis=0) - xy
+        turn = np.abs(np.arctan2(before[:, 0] * after[:, 1] - before[:, 1] * after[:, 0],
+                                 np.einsum("ij,ij->i", before, after)))
+        found.append(xy[turn > math.radians(_CORNER_TURN_DEG)])
+    return np.concatenate(found) if found else np.zeros((0, 2))
+
+
+def _row_offsets(region, size_v: float, pitch_v: float, steps: int) -> np.ndarray:
+    """Offsets of the first row above the region's lowest point to try, in [0, pitch_v) [m].
+
+    How many modules a set of rows holds changes only where a row's lower or upper edge
+    crosses a vertex of the region, so the best offset is among those where an edge touches a
+    vertex (taken modulo the row pitch). The corners (:func:`_corners`) are tried, and the
+    lattice ``pitch_v / steps`` beside them, which also serves the tie rule.
+    """
+    _, v_lo, _, _ = region.bounds
+    corners_v = _corners(region)[:, 1] - v_lo
+    events = np.mod(np.concatenate([corners_v, corners_v - size_v]), pitch_v)
+    lattice = np.arange(steps) * (pitch_v / steps)
+    offsets = np.unique(np.round(np.concatenate([lattice, events]), 9))
+    return offsets[offsets < pitch_v]
+
+
 def _pack_sliding_rows(region, size_u, size_v, gap_u, gap_v, steps, anchor) -> np.ndarray:
-    """Rows on a lattice along ``v``; in each row, the most rectangles its free stretches hold."""
+    """Rows at the best offset up the slope; in each row, the most its free stretches hold."""
     tol = FIT_TOLERANCE_M
     pitch_u, pitch_v = size_u + gap_u, size_v + gap_v
     u_lo, v_lo, u_hi, v_hi = region.bounds
-    dv = pitch_v / steps
-    span_v = v_hi - v_lo - size_v + 2 * tol
-    if span_v < 0 or u_hi - u_lo - size_u + 2 * tol < 0:
+    if v_hi - v_lo - size_v + 2 * tol < 0 or u_hi - u_lo - size_u + 2 * tol < 0:
         return np.zeros((0, 4))
-    nv = -(-(math.floor(span_v / dv) + 1) // steps) * steps  # a whole number of pitches
-    v_starts = v_lo + np.arange(nv) * dv
-    intervals = row_free_intervals(region, v_starts, size_v)
+    offsets = _row_offsets(region, size_v, pitch_v, steps)
+    n_rows = np.floor((v_hi - v_lo - offsets - size_v + 2 * tol) / pitch_v).astype(int) + 1
+    n_rows = np.maximum(n_rows, 0)
+    which = np.repeat(np.arange(len(offsets)), n_rows)  # the offset of each row
+    k = np.arange(len(which)) - np.repeat(np.cumsum(n_rows) - n_rows, n_rows)
+    v_starts = v_lo + offsets[which] + k * pitch_v
     anchor_u, anchor_v = anchor
     placed_u = []
-    for free in intervals:
+    for free in row_free_intervals(region, v_starts, size_v):
         width = free[:, 1] - free[:, 0]
-        n = np.floor((width + 2 * tol + gap_u) / pitch_u).astype(int)
-        n = np.maximum(n, 0)
+        n = np.maximum(np.floor((width + 2 * tol + gap_u) / pitch_u).astype(int), 0)
         group = n * size_u + np.maximum(n - 1, 0) * gap_u
         slack = width - group
         if anchor_u == "low":
@@ -227,19 +265,22 @@ def _pack_sliding_rows(region, size_u, size_v, gap_u, gap_v, steps, anchor) -> n
         else:
             start = free[:, 0] + slack / 2
         placed_u.append(np.concatenate(
-            [s + np.arange(k) * pitch_u for s, k in zip(start, n, strict=True)] or [np.zeros(0)]))
-    per_row = np.array([len(u) for u in placed_u])
-    per_j = per_row.reshape(nv // steps, steps)  # (R, j)
-    total = per_j.sum(axis=0)
+            [s + np.arange(c) * pitch_u for s, c in zip(start, n, strict=True)] or [np.zeros(0)]))
+    per_row = np.array([len(u) for u in placed_u], dtype=int)
+    total = np.bincount(which, weights=per_row, minlength=len(offsets))
     if total.max() == 0:
         return np.zeros((0, 4))
-    r_first, r_last = _first_last(per_j > 0, axis=0)  # (j,)
-    jj = np.arange(steps)
-    row_lo = v_lo + (r_first * steps + jj) * dv
-    row_hi = v_lo + (r_last * steps + jj) * dv + size_v
-    cost_v = np.round(_anchor_cost(row_lo, row_hi, v_lo, v_hi, anchor_v), 9)
-    j = int(np.argmin(np.where(total == total.max(), cost_v, np.inf)))
-    rows = np.arange(j, nv, steps)
+    # tie rule: the rows that hold modules, placed as the anchor wants them up the slope
+    used = per_row > 0
+    low = np.full(len(offsets), np.inf)
+    high = np.full(len(offsets), -np.inf)
+    np.minimum.at(low, which[used], v_starts[used])
+    np.maximum.at(high, which[used], v_starts[used] + size_v)
+    empty = ~np.isfinite(low)  # offsets whose rows hold nothing: never chosen (total < max)
+    low[empty], high[empty] = v_lo, v_hi
+    cost = np.round(_anchor_cost(low, high, v_lo, v_hi, anchor_v), 9)
+    best = int(np.argmin(np.where(total == total.max(), cost, np.inf)))
+    rows = np.flatnonzero(which == best)
     u_min = np.concatenate([placed_u[r] for r in rows])
     v_min = np.repeat(v_starts[rows], per_row[rows])
     return np.stack([u_min, v_min, u_min + size_u, v_min + size_v], axis=1)

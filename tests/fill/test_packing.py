@@ -109,8 +109,10 @@ def test_a_row_whose_span_holds_three_with_millimetres_to_spare_gets_three():
         rects = pack_rectangles(region, SIZE_U, SIZE_V, gap_u=GAP_U, gap_v=GAP_V,
                                 rows="sliding", offset_steps=8)
         assert len(rects) == 3
-        # centred in the span: 5.5 mm spare on each side
-        assert rects[0, 0] - left == pytest.approx((5.217 - 5.206) / 2, abs=1e-6)
+        # centred in the row's free stretch, whichever height the row was given
+        (free,) = row_free_intervals(region, [rects[0, 1]], SIZE_V)
+        assert len(free) == 1
+        assert rects[0, 0] - free[0, 0] == pytest.approx(free[0, 1] - rects[-1, 2], abs=1e-9)
 
 
 def test_rows_outside_the_region_have_no_free_stretch():
@@ -140,3 +142,17 @@ def test_the_area_bound_holds_and_is_reached_where_modules_tile_the_area():
             rects = pack_rectangles(region, module.width_m, module.length_m, gap_u=0.02,
                                     gap_v=0.02, rows=rows)
             assert len(rects) <= bound
+
+
+def test_rows_find_a_band_that_only_one_height_fits():
+    # A strip exactly one module high, 5 cm above the region's lowest point (a narrow spike
+    # reaches down there): only rows starting at v = 0.05 m hold modules. Row starts on a
+    # lattice of 1/8 pitch from the lowest point (0, 0.144, ... m) miss it; the offsets where
+    # a row's edge touches a corner of the region include it.
+    strip = shapely.box(0, 0.05, 6, 0.05 + SIZE_V)
+    spike = shapely.box(6, 0, 6.1, 0.05 + SIZE_V)
+    region = shapely.union(strip, spike)
+    rects = pack_rectangles(region, SIZE_U, SIZE_V, gap_u=GAP_U, gap_v=GAP_V, rows="sliding",
+                            offset_steps=8)
+    assert len(rects) == 3  # floor((6 + 0.02) / 1.742)
+    np.testing.assert_allclose(rects[:, 1], 0.05, atol=1e-9)
