@@ -6,7 +6,7 @@ The second stage of the flow, in the order its modules build on one another:
 - :mod:`.usable`: a face's usable area within its setbacks, clearance rings and pathways;
 - :mod:`.placed`: what a fill produces: :class:`~.placed.PlacedModule`, and
   :class:`~.placed.Layout`, the placed modules of a building with the user's removals;
-- :mod:`.packing`: equal rectangles in a region, on a fine lattice, one grid or sliding rows;
+- :mod:`.packing`: equal rectangles in a region: one grid on a fine lattice, or exact rows;
 - :mod:`.faces`: :class:`~.faces.FillOptions`; filling one usable area or face, mixed orientation;
 - :mod:`.racking`: tilted rack rows on flat faces, row pitch from the GCR or the solstice window;
 - :mod:`.placement`: filling a whole building (the stage's entry point) and comparing the
