@@ -196,8 +196,10 @@ def row_free_intervals(region, v_starts, size_v: float) -> list[np.ndarray]:
     for row in range(len(v_starts)):
         sel = slice(*np.searchsorted(index, [row, row + 1]))
         row_lo, row_hi = lo[sel], hi[sel]
-        reach = np.maximum.accumulate(row_hi)  # merged blocked ranges: a gap opens where the
-        gaps = row_lo[1:] > reach[:-1]  # next range starts beyond all before it
+        # blocked ranges merged: a free stretch opens where a range starts beyond the reach
+        # of all ranges before it
+        reach = np.maximum.accumulate(row_hi)
+        gaps = row_lo[1:] > reach[:-1]
         out.append(np.stack([reach[:-1][gaps], row_lo[1:][gaps]], axis=1))
     return out
 
