@@ -4,7 +4,7 @@
     .venv/bin/python benchmarks/portfolio.py --with-800    # also 800 (several minutes)
     .venv/bin/python benchmarks/portfolio.py --growth-only --with-800   # 50, 200, 800 only
 
-Synthetic projects (``layout.study.portfolio.synthetic_portfolio``, seed 0, about one site per ten
+Invented projects (``layout.study.synthetic_portfolio``, seed 0, about one site per ten
 projects, hourly clear sky, default module and rules). Every run writes into a fresh folder, so
 nothing is skipped. The Dask timings include starting and stopping the local cluster (one
 single-threaded worker process per core, 127.0.0.1 only). On a shared machine the load average
@@ -21,7 +21,8 @@ import time
 from pathlib import Path
 
 from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
-from layout.study.portfolio import run_portfolio, write_synthetic_portfolio
+from layout.study.portfolio import run_portfolio
+from layout.study.synthetic_portfolio import write_synthetic_portfolio
 
 
 def _cpu_seconds() -> float:

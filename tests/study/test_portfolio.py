@@ -35,9 +35,8 @@ from layout.study.portfolio import (
     _rows_of_a_lost_task,
     find_projects,
     run_portfolio,
-    synthetic_portfolio,
-    write_synthetic_portfolio,
 )
+from layout.study.synthetic_portfolio import synthetic_portfolio, write_synthetic_portfolio
 
 N_PROJECTS = 4
 SMALL = {"n_sites": 2, "size_m": (6.0, 8.5), "sky_directions": 128}
