@@ -23,7 +23,7 @@ if [ -n "$extras" ] && ! command -v chromium >/dev/null 2>&1; then
   echo "setup: installing Debian's chromium for the browser tests (about a minute)"
   if ! { $sudo apt-get update -qq && DEBIAN_FRONTEND=noninteractive \
          $sudo apt-get install -y -qq chromium >/dev/null; }; then
-    echo "setup: could not install chromium; browser tests skip outside CI and fail in CI" >&2
+    echo "setup: could not install chromium; the browser tests will fail" >&2
   fi
 fi
 
