@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import textwrap
+
 from ..fill.placement import compare_orientations
 from ..fill.rules import CAUTION
 from ..project import Project
@@ -61,9 +63,12 @@ def project_summary(project: Project) -> str:
         for record in table.itertuples():
             rows.append((building.name or "building", record.option, record.modules,
                          f"{record.power_kwp:.2f}", f"{record.usable_use_pct:.0f} %",
-                         f"{record.modules} / {record.area_bound}"))
+                         f"{record.modules} / {record.bound}"))
     out.append(text_table(("building", "option", "modules", "kWp", "usable area used",
-                           "of the area bound"), rows, "llrrrr"))
+                           "of the bound"), rows, "llrrrr"))
+    out += textwrap.wrap("The bound is the most modules the usable areas could hold with the "
+                         "same orientation and gaps, by area and by the lines every module "
+                         "must cross: no fill can place more.", 96)
     layout = project.layout()
     by_face: dict[str, int] = {}
     for module in layout.active_modules:

@@ -8,6 +8,7 @@ the portrait fill leaves.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Iterable
 from dataclasses import dataclass, field
 
@@ -17,7 +18,7 @@ import shapely
 from ..errors import InputError, check_fields, check_range
 from ..scene.modules import ModuleSpec
 from ..scene.roof import RoofFace
-from .packing import ANCHORS, ROW_MODES, as_region, number_rows, pack_rectangles
+from .packing import ANCHORS, ROW_MODES, as_region, number_rows, pack_rectangles, rectangle_bound
 from .placed import PlacedModule, module_footprint, removal_entry
 
 __all__ = [
@@ -26,6 +27,7 @@ __all__ = [
     "AreaFill",
     "FillOptions",
     "fill_area",
+    "fill_bound",
     "fill_face",
 ]
 
@@ -220,6 +222,37 @@ def fill_area(usable, module: ModuleSpec, options: FillOptions | None = None) ->
     order, row, column = number_rows(rects)
     return AreaFill(rects=rects[order], orientation=tuple(kinds[k] for k in order), row=row,
                     column=column)
+
+
+def fill_bound(usable, module: ModuleSpec, options: FillOptions | None = None) -> int:
+    """Most flush modules any fill of a usable area could place with these options.
+
+    Parameters
+    ----------
+    usable : shapely geometry or usable-area result
+        Usable area in a face's roof-plane coordinates [m].
+    module : ModuleSpec
+        The module.
+    options : FillOptions, optional
+        Orientation and gaps (row mode and search resolution do not matter: the bound holds for
+        every placement); defaults to ``FillOptions()``.
+
+    Returns
+    -------
+    int
+        An upper bound on the count (:func:`layout.fill.packing.rectangle_bound`). For
+        ``"mixed"``, every module is at least a module width along each axis, so the line
+        bounds are taken with width-by-width squares, beside the area bound of whole modules.
+        ``count / bound`` says how close a fill comes to the most that could fit.
+    """
+    options = options or FillOptions()
+    gaps = {"gap_u": options.gap_along_eave_m, "gap_v": options.gap_up_slope_m}
+    if options.orientation != "mixed":
+        return rectangle_bound(usable, *module_footprint(module, options.orientation), **gaps)
+    area = as_region(usable).area
+    side = min(module.width_m, module.length_m)
+    return min(math.floor(area / module.area_m2 + 1e-9),
+               rectangle_bound(usable, side, side, **gaps))
 
 
 def fill_face(face: RoofFace, usable, module: ModuleSpec, options: FillOptions | None = None,

@@ -21,11 +21,20 @@ where a module of the row's height fits (the row's band minus the region, one ve
 :func:`shapely.difference` for all rows). A stretch of length ``L`` holds
 ``floor((L + gap) / (size + gap))`` modules, the most any placement can put there; they are
 centred in the stretch (pushed to one end with ``anchor``). The rows' offset along ``v`` is the
-one whose rows hold the most modules in all. Each connected piece of the usable area is filled
-on its own with sliding rows.
+one whose rows hold the most modules in all; where rows from different offsets, at least a row
+pitch apart, hold more (a hole or notch favours other heights above and below it), that set of
+rows is taken instead (a longest-path recursion over the rows sorted by height). Each connected
+piece of the usable area is filled on its own. The pockets the rows leave (beside a ring, in a
+notch) are then filled with rows of their own height. Last, the same search runs with the axes
+swapped (columns sliding up the slope) and wins when it places more, as on long diagonal faces.
 
 Candidate rectangles are shrunk by :data:`FIT_TOLERANCE_M` on every side before the fit test,
 so that a module that fits exactly is not lost to rounding.
+
+Bound
+-----
+:func:`rectangle_bound` gives the most rectangles that any placement could fit, by area and by
+the lines every rectangle must cross, so that a fill's count can be read against it.
 """
 
 from __future__ import annotations
@@ -42,8 +51,10 @@ __all__ = [
     "FIT_TOLERANCE_M",
     "ROW_MODES",
     "as_region",
+    "line_capacity",
     "number_rows",
     "pack_rectangles",
+    "rectangle_bound",
     "row_free_intervals",
 ]
 
@@ -113,11 +124,12 @@ def _anchor_cost(lo, hi, box_lo, box_hi, anchor: str):
     return box_hi - hi
 
 
-def _pack_piece(region, size_u, size_v, gap_u, gap_v, rows, steps, anchor) -> np.ndarray:
-    """Pack one region; returns (n, 4) rectangles."""
-    if rows == "sliding":
-        return _pack_sliding_rows(region, size_u, size_v, gap_u, gap_v, steps, anchor)
-    return _pack_grid(region, size_u, size_v, gap_u, gap_v, steps, anchor)
+def _pack_sliding(region, size_u, size_v, gap_u, gap_v, steps, anchor) -> np.ndarray:
+    """Sliding rows in each connected piece, then rows in the pockets they leave."""
+    rects = [_pack_sliding_rows(piece, size_u, size_v, gap_u, gap_v, steps, anchor)
+             for piece in shapely.get_parts(region)]
+    out = np.concatenate(rects, axis=0) if rects else np.zeros((0, 4))
+    return _fill_pockets(region, out, size_u, size_v, gap_u, gap_v, steps, anchor)
 
 
 def _pack_grid(region, size_u, size_v, gap_u, gap_v, steps, anchor) -> np.ndarray:
@@ -240,6 +252,34 @@ def _row_offsets(region, size_v: float, pitch_v: float, steps: int) -> np.ndarra
     return offsets[offsets < pitch_v]
 
 
+def _best_row_set(v_starts: np.ndarray, counts: np.ndarray, pitch_v: float) -> np.ndarray:
+    """Rows, at least a pitch apart, that hold the most modules in all; returns their indices.
+
+    A longest-path recursion over the rows sorted by height: the best set ending with row
+    ``i`` is row ``i`` on top of the best set among the rows at least ``pitch_v`` below it.
+    """
+    order = np.argsort(v_starts, kind="stable")
+    v, c = v_starts[order], counts[order]
+    below = np.searchsorted(v, v - pitch_v + 1e-9, side="right") - 1  # last row a pitch below
+    best = np.zeros(len(v))
+    best_upto = np.zeros(len(v))  # best set among rows 0..i
+    arg_upto = np.zeros(len(v), dtype=int)
+    for i in range(len(v)):
+        j = below[i]
+        best[i] = c[i] + (best_upto[j] if j >= 0 else 0.0)
+        if i and best_upto[i - 1] >= best[i]:
+            best_upto[i], arg_upto[i] = best_upto[i - 1], arg_upto[i - 1]
+        else:
+            best_upto[i], arg_upto[i] = best[i], i
+    chosen = []
+    i = arg_upto[-1] if len(v) else -1
+    while i >= 0 and best[i] > 0:
+        chosen.append(i)
+        j = below[i]
+        i = arg_upto[j] if j >= 0 and best_upto[j] > 0 else -1
+    return order[np.array(chosen[::-1], dtype=int)]
+
+
 def _pack_sliding_rows(region, size_u, size_v, gap_u, gap_v, steps, anchor) -> np.ndarray:
     """Rows at the best offset up the slope; in each row, the most its free stretches hold."""
     tol = FIT_TOLERANCE_M
@@ -283,9 +323,159 @@ def _pack_sliding_rows(region, size_u, size_v, gap_u, gap_v, steps, anchor) -> n
     cost = np.round(_anchor_cost(low, high, v_lo, v_hi, anchor_v), 9)
     best = int(np.argmin(np.where(total == total.max(), cost, np.inf)))
     rows = np.flatnonzero(which == best)
+    # rows need not share one phase: where a hole or notch favours other heights above and
+    # below it, a set of rows from different offsets can hold more
+    mixed = _best_row_set(v_starts, per_row, pitch_v)
+    if per_row[mixed].sum() > total[best]:
+        rows = mixed
     u_min = np.concatenate([placed_u[r] for r in rows])
     v_min = np.repeat(v_starts[rows], per_row[rows])
     return np.stack([u_min, v_min, u_min + size_u, v_min + size_v], axis=1)
+
+
+def line_capacity(region, v_levels, size_u: float, gap_u: float) -> np.ndarray:
+    """Most rectangles that can cross each horizontal line of a region side by side.
+
+    Parameters
+    ----------
+    region : shapely.Polygon or shapely.MultiPolygon
+        The region [m].
+    v_levels : array_like of float, shape (n,)
+        Heights ``v`` of the lines [m].
+    size_u, gap_u : float
+        Rectangle length along the line and least gap between neighbours on it [m].
+
+    Returns
+    -------
+    numpy.ndarray of int, shape (n,)
+        For each line, the sum over the stretches where it runs inside the region of
+        ``floor((L + gap_u) / (size_u + gap_u))``: rectangles inside the region that cross the
+        line each lie along it in one stretch, side by side and ``gap_u`` apart, so no more
+        of them can cross it.
+    """
+    v_levels = np.asarray(v_levels, dtype=float)
+    if len(v_levels) == 0:
+        return np.zeros(0, dtype=int)
+    u_lo, _, u_hi, _ = region.bounds
+    starts = np.stack([np.full_like(v_levels, u_lo - 1.0), v_levels], axis=1)
+    ends = np.stack([np.full_like(v_levels, u_hi + 1.0), v_levels], axis=1)
+    chords = shapely.intersection(shapely.linestrings(np.stack([starts, ends], axis=1)), region)
+    parts, index = shapely.get_parts(chords, return_index=True)
+    bounds = shapely.bounds(parts)
+    real = np.isfinite(bounds[:, 0])  # lines that miss the region give empty parts
+    bounds, index = bounds[real], index[real]
+    if len(index) == 0:
+        return np.zeros(len(v_levels), dtype=int)
+    # pieces of one chord that touch are one stretch: merge them (a part that starts beyond the
+    # reach of the parts before it on its line opens a new stretch)
+    shift = (u_hi - u_lo + 4.0) * index  # lines laid end to end with room between them
+    lo, hi = bounds[:, 0] + shift, bounds[:, 2] + shift
+    order = np.argsort(lo, kind="stable")
+    lo, hi, index = lo[order], hi[order], index[order]
+    reach = np.maximum.accumulate(hi)
+    opens = np.r_[True, lo[1:] > reach[:-1] + _SLIVER_M]
+    stretch_hi = np.maximum.reduceat(hi, np.flatnonzero(opens))
+    fits = np.floor((stretch_hi - lo[opens] + gap_u) / (size_u + gap_u) + 1e-9)
+    return np.bincount(index[opens], weights=fits, minlength=len(v_levels)).astype(int)
+
+
+def _crossing_bound(region, size_u: float, size_v: float, gap_u: float, offsets: int) -> int:
+    """Bound from lines along ``u`` spaced ``size_v`` apart (see :func:`rectangle_bound`)."""
+    _, v_lo, _, v_hi = region.bounds
+    n_lines = math.floor((v_hi - v_lo) / size_v) + 2
+    corners = np.mod(_corners(region)[:, 1] - v_lo, size_v)
+    starts = np.unique(np.concatenate([np.arange(offsets) * (size_v / offsets), corners]))
+    starts = starts[starts < size_v]
+    v = v_lo + starts[:, None] + np.arange(n_lines)[None, :] * size_v  # (offsets, lines)
+    per_line = line_capacity(region, v.ravel(), size_u, gap_u)
+    return int(per_line.reshape(v.shape).sum(axis=1).min())
+
+
+def rectangle_bound(usable, size_u: float, size_v: float, *, gap_u: float = 0.0,
+                    gap_v: float = 0.0, offsets: int = 64) -> int:
+    """Most equal axis-aligned rectangles any placement could fit in a region (upper bound).
+
+    Parameters
+    ----------
+    usable : shapely geometry or usable-area result
+        Region (Polygon or MultiPolygon) [m].
+    size_u, size_v : float
+        Rectangle size along ``u`` and ``v`` [m].
+    gap_u, gap_v : float, default 0
+        Least clear gap between rectangles side by side along ``u`` and one above the other
+        along ``v`` [m].
+    offsets : int, default 64
+        Positions of the family of lines tried per rectangle height (more give a bound as
+        tight or tighter; each one alone is a valid bound).
+
+    Returns
+    -------
+    int
+        The smallest of three bounds, none of which any placement of the rectangles in the
+        region (rows or not, same orientation, same gaps) can exceed:
+
+        * area: ``floor(region area / (size_u · size_v))``;
+        * lines along ``u``: lines ``v = c + k · size_v`` (every whole ``k``) are one
+          rectangle height apart, so each rectangle ``[v, v + size_v)`` crosses exactly one
+          of them. Along that line it lies in one stretch where the line is inside the
+          region, and rectangles crossing the same line sit side by side, at least ``gap_u``
+          apart, so a stretch of length ``L`` meets at most ``floor((L + gap_u) / (size_u +
+          gap_u))`` of them. The sum over the lines bounds the count for every ``c``; the
+          least sum over the ``c`` tried is taken;
+        * lines along ``v``, the same with the axes swapped.
+
+    Notes
+    -----
+    The rectangles' slack of :data:`FIT_TOLERANCE_M` is given to the region (grown by it)
+    before the lines are cut, so a fill's count never exceeds its bound by rounding. The
+    bound is reached where the region is a rectangle whose sides are whole numbers of
+    rectangle pitches (plus one gap's fewer); on sloping edges it stays above the best fill.
+    """
+    region = as_region(usable)
+    if region.is_empty:
+        return 0
+    for name, value in (("size_u", size_u), ("size_v", size_v)):
+        if not value > 0:
+            raise InputError(name, "must be positive", value=value, allowed="> 0 m")
+    grown = shapely.buffer(region, FIT_TOLERANCE_M, join_style="mitre")
+    by_area = math.floor(region.area / (size_u * size_v) + 1e-9)
+    along_u = _crossing_bound(grown, size_u, size_v, gap_u, offsets)
+    swapped = shapely.transform(grown, lambda xy: xy[:, ::-1])
+    along_v = _crossing_bound(swapped, size_v, size_u, gap_v, offsets)
+    return int(min(by_area, along_u, along_v))
+
+
+def _fill_pockets(region, rects, size_u, size_v, gap_u, gap_v, steps, anchor,
+                  passes: int = 2) -> np.ndarray:
+    """Add rows in what the rows leave: pockets beside holes and notches, at their own heights.
+
+    Rows share their heights across the whole region, so a pocket above a chimney's ring or in
+    a notch, between two rows, can hold a module that no row reaches. The region minus the
+    placed rectangles grown by the gaps is filled again with sliding rows, piece by piece
+    (pieces with no room for one rectangle are skipped without a search), until nothing is
+    added or after ``passes`` rounds.
+    """
+    tol = FIT_TOLERANCE_M
+    for _ in range(passes):
+        if len(rects) == 0:
+            break
+        grown = shapely.box(rects[:, 0] - gap_u, rects[:, 1] - gap_v, rects[:, 2] + gap_u,
+                            rects[:, 3] + gap_v)
+        rest = as_region(shapely.difference(region, shapely.union_all(grown)))
+        pieces = [p for p in shapely.get_parts(rest) if not p.is_empty]
+        if not pieces:
+            break
+        # a rectangle holds a disc of half its shorter side: a piece that the disc's erosion
+        # empties has no room for one
+        roomy = ~shapely.is_empty(shapely.buffer(pieces, -(0.5 * min(size_u, size_v) - tol),
+                                                 quad_segs=2))
+        extra = [_pack_sliding_rows(p, size_u, size_v, gap_u, gap_v, steps, anchor)
+                 for p, ok in zip(pieces, roomy, strict=True) if ok]
+        extra = [e for e in extra if len(e)]
+        if not extra:
+            break
+        rects = np.concatenate([rects, *extra], axis=0)
+    return rects
 
 
 ANCHORS = ("centre", "low", "high")
@@ -293,7 +483,8 @@ ANCHORS = ("centre", "low", "high")
 
 def pack_rectangles(usable, size_u: float, size_v: float, *, gap_u: float = 0.0,
                     gap_v: float = 0.0, rows: str = "grid", offset_steps: int = 8,
-                    anchor: tuple[str, str] = ("centre", "centre")) -> np.ndarray:
+                    anchor: tuple[str, str] = ("centre", "centre"),
+                    columns: bool = True) -> np.ndarray:
     """Place as many equal axis-aligned rectangles as fit inside a region.
 
     Parameters
@@ -315,6 +506,10 @@ def pack_rectangles(usable, size_u: float, size_v: float, *, gap_u: float = 0.0,
         smaller coordinate, ``"high"`` toward the larger. With two centred axes the offset
         with the smallest sum of the two centre distances wins; remaining ties go to the
         smallest offset.
+    columns : bool, default True
+        With sliding rows, also try the same search with the axes swapped (columns that slide
+        up the slope, each at its own height) and keep it when it places more. Rack rows pass
+        False: their rows must stay rows.
 
     Returns
     -------
@@ -329,10 +524,18 @@ def pack_rectangles(usable, size_u: float, size_v: float, *, gap_u: float = 0.0,
     if len(anchor) != 2 or any(a not in ANCHORS for a in anchor):
         raise InputError("anchor", "must be two of centre, low, high", value=anchor,
                          allowed="(u anchor, v anchor), each centre, low or high")
-    pieces = [region] if rows == "grid" else list(shapely.get_parts(region))
-    rects = [_pack_piece(piece, size_u, size_v, gap_u, gap_v, rows, offset_steps, tuple(anchor))
-             for piece in pieces]
-    out = np.concatenate(rects, axis=0) if rects else np.zeros((0, 4))
+    if rows == "grid":
+        out = _pack_grid(region, size_u, size_v, gap_u, gap_v, offset_steps, tuple(anchor))
+    else:
+        out = _pack_sliding(region, size_u, size_v, gap_u, gap_v, offset_steps, tuple(anchor))
+        if columns:
+            # the same search with the axes swapped: columns sliding up the slope, each at its
+            # own height, fit more on long diagonal faces; they are kept only when they hold more
+            swapped = shapely.transform(region, lambda xy: xy[:, ::-1])
+            by_columns = _pack_sliding(swapped, size_v, size_u, gap_v, gap_u, offset_steps,
+                                       tuple(anchor[::-1]))
+            if len(by_columns) > len(out):
+                out = by_columns[:, [1, 0, 3, 2]]
     order = np.lexsort((out[:, 0], np.round(out[:, 1], 6)))
     return out[order]
 

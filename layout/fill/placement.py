@@ -18,10 +18,10 @@ import pandas as pd
 from ..errors import InputError
 from ..scene.modules import ModuleSpec
 from ..scene.roof import RoofFace
-from .faces import FILL_ORIENTATIONS, FLAT_FACE_MAX_PITCH_DEG, FillOptions, fill_face
+from .faces import FILL_ORIENTATIONS, FLAT_FACE_MAX_PITCH_DEG, FillOptions, fill_bound, fill_face
 from .packing import ROW_MODES, as_region, pack_rectangles
 from .placed import ORIENTATIONS, Layout, module_footprint, removal_entry
-from .racking import fill_racks, row_pitch_from_gcr, row_pitch_no_shade_window
+from .racking import fill_racks, rack_bound, row_pitch_from_gcr, row_pitch_no_shade_window
 from .rules import array_share, ridge_setback_in_force
 from .usable import choose_pathway_faces, usable_area
 
@@ -77,6 +77,16 @@ def _fill_racked_face(face, usable, module, options, latitude):
                       orientation=orientation, gap_m=options.gap_along_eave_m,
                       base_height_m=options.rack_base_height_m, rows=options.rows,
                       offset_steps=options.offset_steps)
+
+
+def _face_bound(face, usable, module, options, latitude) -> int:
+    """Most modules any fill of this face's usable area could place with these options."""
+    if not _takes_racks(face, options):
+        return fill_bound(usable, module, options)
+    orientation, pitch = _rack_geometry(module, options, latitude)
+    return rack_bound(face, usable, module, tilt_deg=options.rack_tilt_deg,
+                      rack_azimuth_deg=options.rack_azimuth_deg, row_pitch_m=pitch,
+                      orientation=orientation, gap_m=options.gap_along_eave_m)
 
 
 def _plan_share(modules, spec: ModuleSpec, roof_plan_area_m2: float) -> float:
@@ -306,9 +316,12 @@ def compare_orientations(target, module: ModuleSpec, *, usable=None, rules=None,
         sliding rows): ``option``, ``orientation``, ``rows``, ``modules``,
         ``portrait_modules``, ``landscape_modules``, ``power_kwp`` [kWp], ``module_area_m2``
         [m², true area], ``usable_area_m2`` [m², true area], ``usable_use_pct`` (module
-        area over usable area [%]) and ``area_bound``, the most modules the usable area could
-        hold by area alone, ``floor(usable area / module area)``: no fill can place more, so
-        ``modules / area_bound`` tells how close a fill comes to it.
+        area over usable area [%]), ``area_bound``, the most modules the usable area could
+        hold by area alone, ``floor(usable area / module area)``, and ``bound``, the tighter
+        bound of :func:`layout.fill.faces.fill_bound` (area and the lines every module
+        crosses, same orientation and gaps; racked faces by
+        :func:`layout.fill.racking.rack_bound`) summed over the faces: no fill can place
+        more, so ``modules / bound`` tells how close a fill comes to the most that fits.
     """
     base = options or FillOptions()
     is_face = isinstance(target, RoofFace)
@@ -325,12 +338,16 @@ def compare_orientations(target, module: ModuleSpec, *, usable=None, rules=None,
             if is_face:
                 placed = fill_face(target, usable, module, opts)
                 area = float(as_region(usable).area)
+                bound = fill_bound(usable, module, opts)
             else:
                 layout, areas = fill_building_with_areas(
                     target, module, rules, opts, obstructions=obstructions,
                     pathway_faces=pathway_faces, latitude=latitude, array_faces=array_faces)
                 placed = layout.modules
                 area = float(sum(as_region(a).area for a in areas.values()))
+                faces = {face.name: face for face in target.faces}
+                bound = sum(_face_bound(faces[name], a, module, opts, latitude)
+                            for name, a in areas.items())
             n = len(placed)
             n_portrait = sum(m.orientation == "portrait" for m in placed)
             records.append({
@@ -340,6 +357,6 @@ def compare_orientations(target, module: ModuleSpec, *, usable=None, rules=None,
                 "power_kwp": n * module.power_w / 1000.0,
                 "module_area_m2": n * module.area_m2, "usable_area_m2": area,
                 "usable_use_pct": 100.0 * n * module.area_m2 / area if area > 0 else 0.0,
-                "area_bound": area_bound(area, module),
+                "area_bound": area_bound(area, module), "bound": bound,
             })
     return pd.DataFrame.from_records(records)

@@ -29,13 +29,14 @@ import shapely
 from ..errors import InputError, check_positive, check_range
 from ..scene.modules import ModuleSpec
 from ..scene.roof import RoofFace
-from .packing import ROW_MODES, as_region, number_rows, pack_rectangles
+from .packing import ROW_MODES, as_region, number_rows, pack_rectangles, rectangle_bound
 from .placed import ORIENTATIONS, PlacedModule
 
 __all__ = [
     "SOLSTICE_DECLINATION_DEG",
     "fill_racks",
     "gcr_from_row_pitch",
+    "rack_bound",
     "row_pitch_from_gcr",
     "row_pitch_no_shade_window",
     "sun_from_hour_angle",
@@ -182,6 +183,45 @@ def _rack_axes(rack_azimuth_deg: float) -> tuple[np.ndarray, np.ndarray]:
     return np.array([-front[1], front[0]]), -front
 
 
+def _rack_region(face: RoofFace, usable, rack_azimuth_deg: float):
+    """Return the usable area in the rack frame ``(p, q)`` of :func:`_rack_axes` [m]."""
+    region_uv = as_region(usable)
+    if region_uv.is_empty:
+        return region_uv
+    axis_p, axis_q = _rack_axes(rack_azimuth_deg)
+    to_rack = np.stack([axis_p, axis_q], axis=1)  # plan (x, y) @ to_rack = (p, q)
+    return shapely.transform(region_uv, lambda uv: face.roof_to_plan(uv) @ to_rack)
+
+
+def _rack_sizes(module: ModuleSpec, orientation: str, tilt_deg: float):
+    """Return (slant, along, depth) of a racked module [m]."""
+    slant, along = ((module.length_m, module.width_m) if orientation == "portrait"
+                    else (module.width_m, module.length_m))
+    return slant, along, slant * math.cos(math.radians(tilt_deg))
+
+
+def rack_bound(face: RoofFace, usable, module: ModuleSpec, *, tilt_deg: float,
+               rack_azimuth_deg: float, row_pitch_m: float, orientation: str = "portrait",
+               gap_m: float = 0.02) -> int:
+    """Most racked modules the usable area could hold at this row pitch (an upper bound).
+
+    The footprints of :func:`fill_racks` are rectangles ``along × depth`` in the rack frame,
+    ``gap_m`` apart in a row and a row pitch apart from lower edge to lower edge; the bound of
+    :func:`layout.fill.packing.rectangle_bound` on those rectangles holds for any placement of
+    them, rows or not.
+
+    Parameters are those of :func:`fill_racks` (lengths in m, angles in degrees).
+
+    Returns
+    -------
+    int
+        No rack fill of this face at this pitch can place more modules.
+    """
+    _, along, depth = _rack_sizes(module, orientation, tilt_deg)
+    return rectangle_bound(_rack_region(face, usable, rack_azimuth_deg), along, depth,
+                           gap_u=gap_m, gap_v=max(row_pitch_m - depth, 0.0))
+
+
 def fill_racks(face: RoofFace, usable, module: ModuleSpec, *, tilt_deg: float,
                rack_azimuth_deg: float, row_pitch_m: float, orientation: str = "portrait",
                gap_m: float = 0.02, base_height_m: float = 0.0, rows: str = "sliding",
@@ -237,22 +277,18 @@ def fill_racks(face: RoofFace, usable, module: ModuleSpec, *, tilt_deg: float,
                          allowed=", ".join(ORIENTATIONS))
     if rows not in ROW_MODES:
         raise InputError("rows", "unknown row mode", value=rows, allowed=", ".join(ROW_MODES))
-    slant, along = ((module.length_m, module.width_m) if orientation == "portrait"
-                    else (module.width_m, module.length_m))
-    cos_t, sin_t = math.cos(math.radians(tilt)), math.sin(math.radians(tilt))
-    depth = slant * cos_t
+    slant, along, depth = _rack_sizes(module, orientation, tilt)
+    sin_t = math.sin(math.radians(tilt))
     if pitch < depth - 1e-9:
         raise InputError("row_pitch_m", "is shorter than the depth of a tilted module, so rows "
                          "would overlap", value=row_pitch_m, allowed=f">= {depth:.3f} m")
 
-    region_uv = as_region(usable)
-    if region_uv.is_empty:
+    region_rack = _rack_region(face, usable, gamma)
+    if region_rack.is_empty:
         return ()
     axis_p, axis_q = _rack_axes(gamma)
-    to_rack = np.stack([axis_p, axis_q], axis=1)  # plan (x, y) @ to_rack = (p, q)
-    region_rack = shapely.transform(region_uv, lambda uv: face.roof_to_plan(uv) @ to_rack)
     rects = pack_rectangles(region_rack, along, depth, gap_u=gap, gap_v=pitch - depth,
-                            rows=rows, offset_steps=offset_steps)
+                            rows=rows, offset_steps=offset_steps, columns=False)
     if len(rects) == 0:
         return ()
     order, row, column = number_rows(rects)
