@@ -9,7 +9,8 @@ its stage, in the order data flows through them:
 - :mod:`layout.sky`: sun path and weather;
 - :mod:`layout.shading`: exact ray tests against obstructions, sky-view factors;
 - :mod:`layout.power`: irradiance with shade applied, electrical models, metrics;
-- :mod:`layout.project`: the saved project document;
+- :mod:`layout.project`: the saved project document; :mod:`layout.edits` and
+  :mod:`layout.history`: editing its roofs, with undo and redo;
 - :mod:`layout.study`: the incremental analysis, comparisons, outlooks, portfolios;
 - :mod:`layout.cli`: the command line (``python -m layout``, the ``eaveline`` script).
 
@@ -17,6 +18,7 @@ A module imports only from its own stage or earlier ones. Nothing in this packag
 widget or plotting library.
 """
 
+from .edits import add_building, edit_face, move_building, remove_building
 from .errors import InputError
 from .fill.faces import FillOptions
 from .fill.placed import Layout, PlacedModule
@@ -30,6 +32,7 @@ from .fill.rules import (
     no_setbacks,
 )
 from .fill.usable import usable_area
+from .history import ProjectHistory
 from .project import Project, ProjectFileError, load_demo_project, load_project, save_project
 from .scene.building import (
     Building,
@@ -43,8 +46,16 @@ from .scene.building import (
 from .scene.modules import ModuleSpec, generic_60_cell, generic_72_cell, generic_108_half_cell
 from .scene.obstructions import Block, Cylinder, HorizonProfile, Tree
 from .scene.roof import RoofFace
-from .scene.site import Site
-from .units import feet_to_m, inches_to_m, parse_length, pitch_from_rise
+from .scene.site import Site, timezone_at
+from .scene.templates import RoofTemplate, template_from_text
+from .units import (
+    feet_to_m,
+    inches_to_m,
+    parse_coordinate,
+    parse_length,
+    parse_pitch,
+    pitch_from_rise,
+)
 
 __version__ = "0.1.0.dev0"
 
@@ -62,10 +73,14 @@ __all__ = [
     "PlacedModule",
     "Project",
     "ProjectFileError",
+    "ProjectHistory",
     "RoofFace",
+    "RoofTemplate",
     "Site",
     "Tree",
+    "add_building",
     "compare_orientations",
+    "edit_face",
     "feet_to_m",
     "fill_building",
     "flat_roof",
@@ -82,10 +97,16 @@ __all__ = [
     "l_shaped_hip_roof",
     "load_demo_project",
     "load_project",
+    "move_building",
     "no_setbacks",
+    "parse_coordinate",
     "parse_length",
+    "parse_pitch",
     "pitch_from_rise",
+    "remove_building",
     "save_project",
     "shed_roof",
+    "template_from_text",
+    "timezone_at",
     "usable_area",
 ]

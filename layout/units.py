@@ -22,7 +22,9 @@ __all__ = [
     "inches_to_m",
     "m_to_feet",
     "m_to_inches",
+    "parse_coordinate",
     "parse_length",
+    "parse_pitch",
     "pitch_from_rise",
     "rise_from_pitch",
     "slope_length_factor",
@@ -197,3 +199,110 @@ def slope_length_factor(pitch_deg):
     Equal to sqrt(1 + (rise/12)²); 6:12 gives 1.1180.
     """
     return 1.0 / np.cos(np.radians(pitch_deg))
+
+
+_HEMISPHERES = {"latitude": {"N": 1.0, "S": -1.0}, "longitude": {"E": 1.0, "W": -1.0}}
+_COORDINATE_LIMIT = {"latitude": 90.0, "longitude": 180.0}
+_DMS = re.compile(
+    r"""^\s*(?P<h1>[NSEW])?\s*(?P<sign>[-+−])?\s*
+    (?P<deg>\d+(?:\.\d*)?|\.\d+)\s*(?:°|º|deg|d|\s)?\s*
+    (?:(?P<min>\d+(?:\.\d*)?|\.\d+)\s*(?:['′’]|min|m|\s)?\s*)?
+    (?:(?P<sec>\d+(?:\.\d*)?|\.\d+)\s*(?:"|″|”|''|sec|s)?\s*)?
+    (?P<h2>[NSEW])?\s*$""",
+    re.IGNORECASE | re.VERBOSE,
+)
+
+
+def parse_coordinate(text, axis: str = "latitude", *, field: str | None = None) -> float:
+    r"""Read a latitude or longitude typed in decimal degrees or degrees, minutes and seconds.
+
+    Accepts ``"40.0150"``, ``"-105.2705"``, ``"40.0150 N"``, ``"105°16'13.8\" W"``,
+    ``"40 0 54 N"``, ``"40d 0m 54s N"`` and degrees with decimal minutes (``"40° 0.9' N"``).
+    A hemisphere letter (N or S for a latitude, E or W for a longitude) may stand before or
+    after the value; south and west are negative.
+
+    Parameters
+    ----------
+    text : str or float
+        What the user typed.
+    axis : {"latitude", "longitude"}
+        Which coordinate it is: sets the hemisphere letters and the range (±90° or ±180°).
+    field : str, optional
+        Field name for errors; defaults to ``axis``.
+
+    Returns
+    -------
+    float
+        Decimal degrees, north and east positive.
+
+    Raises
+    ------
+    InputError
+        If the text is not a coordinate, minutes or seconds reach 60, the hemisphere letter
+        belongs to the other axis, a sign and a letter are both given, or the value is out of
+        range.
+    """
+    if axis not in _HEMISPHERES:
+        raise InputError("axis", "unknown coordinate axis", value=axis,
+                         allowed="latitude, longitude")
+    field = field or axis
+    limit = _COORDINATE_LIMIT[axis]
+    example = "40.0150 N or 40° 0' 54\" N" if axis == "latitude" else "-105.27 or 105° 16' W"
+    if isinstance(text, (int, float)) and not isinstance(text, bool):
+        value = float(text)
+    else:
+        match = _DMS.match(str(text))
+        if not match or (match["h1"] and match["h2"]):
+            raise InputError(field, "is not a coordinate", value=text,
+                             allowed=f"decimal degrees or degrees minutes seconds, e.g. {example}")
+        letter = (match["h1"] or match["h2"] or "").upper()
+        if letter and letter not in _HEMISPHERES[axis]:
+            raise InputError(field, f"{letter} is not a hemisphere of a {axis}", value=text,
+                             allowed=" or ".join(_HEMISPHERES[axis]))
+        if letter and match["sign"]:
+            raise InputError(field, "has both a sign and a hemisphere letter", value=text,
+                             allowed="one of them")
+        minutes = float(match["min"] or 0.0)
+        seconds = float(match["sec"] or 0.0)
+        for name, part in (("minutes", minutes), ("seconds", seconds)):
+            if part >= 60:
+                raise InputError(field, f"{name} must be under 60", value=text)
+        value = float(match["deg"]) + minutes / 60.0 + seconds / 3600.0
+        if match["sign"] in ("-", "−"):
+            value = -value
+        value *= _HEMISPHERES[axis].get(letter, 1.0)
+    return check_range(field, value, -limit, limit, unit="degrees")
+
+
+#: Steepest pitch a face may have [degrees]; the roof model's limit (layout.scene.roof).
+MAX_PITCH_DEG = 75.0
+#: Steepest rise in 12 accepted: 44 in 12 is about 74.7°, just under the pitch limit.
+MAX_RISE_IN_12 = 44.0
+_RISE = re.compile(r"^\s*(\d+(?:\.\d*)?|\.\d+)\s*(?:/|:|in|-in-|\s+in\s+)\s*12\s*$",
+                   re.IGNORECASE)
+_DEGREES = re.compile(r"^\s*(\d+(?:\.\d*)?|\.\d+)\s*(?:°|º|deg|degrees?)?\s*$",
+                      re.IGNORECASE)
+
+
+def parse_pitch(text, *, field: str = "pitch") -> float:
+    """Read a roof pitch typed in degrees or in rise in 12 and return degrees.
+
+    Accepts ``"26.6"``, ``"26.6°"``, ``"26.6 deg"``, and ``"6/12"``, ``"6:12"``, ``"6 in 12"``.
+
+    Raises
+    ------
+    InputError
+        If the text is neither, or the pitch is outside 0 to 75° (a rise outside 0 to 44 in 12).
+    """
+    if isinstance(text, (int, float)) and not isinstance(text, bool):
+        return check_range(field, float(text), 0, MAX_PITCH_DEG, unit="degrees")
+    source = str(text)
+    rise = _RISE.match(source)
+    if rise:
+        value = check_range(field, float(rise[1]), 0, MAX_RISE_IN_12, unit="in 12")
+        return float(pitch_from_rise(value))
+    degrees = _DEGREES.match(source)
+    if not degrees:
+        raise InputError(field, "is not a pitch", value=text,
+                         allowed="degrees (26.6) or rise in 12 (6/12, 6:12, 6 in 12)")
+    return check_range(field, float(degrees[1]), 0, MAX_PITCH_DEG, unit="degrees")

@@ -24,7 +24,7 @@ STAGES = (
     ("sky",),  # sun path and weather
     ("shading",),  # ray tests and sky-view factors
     ("power",),  # irradiance, electrical models, metrics, evaluation stages
-    ("project",),  # the document that holds a whole input
+    ("project", "edits", "history"),  # the document that holds a whole input, its edits
     ("study",),  # incremental analysis, comparisons, outlook, portfolios
     ("cli", "__main__"),  # the command line
 )

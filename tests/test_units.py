@@ -137,3 +137,61 @@ def test_a_leading_minus_applies_to_the_whole_length():
     assert parse_length(format_length(-1.0097, "imperial")) == pytest.approx(-1.0097, abs=0.0032)
     with pytest.raises(InputError):
         parse_length("--2 m")
+
+
+# Coordinates: the sexagesimal conversion is the definition (1° = 60′ = 3600″); the places are
+# ones whose coordinates are printed in many gazetteers (Denver's 40° 0′ 54″ N is the city's
+# marker on the Capitol steps, from memory).
+@pytest.mark.parametrize("text, axis, degrees", [
+    ("40.0150", "latitude", 40.015),
+    ("-105.2705", "longitude", -105.2705),
+    ("40.0150 N", "latitude", 40.015),
+    ("N 40 0 54", "latitude", 40.015),
+    ("40° 0' 54\" N", "latitude", 40.015),
+    ("40d 0m 54s N", "latitude", 40.015),
+    ("40° 0.9' N", "latitude", 40.015),
+    ("105°16'13.8\" W", "longitude", -105.2705),
+    ("33.8688 S", "latitude", -33.8688),
+    ("151° 12′ 33.5″ E", "longitude", 151 + 12 / 60 + 33.5 / 3600),
+])
+def test_parse_coordinate(text, axis, degrees):
+    from layout.units import parse_coordinate
+
+    assert parse_coordinate(text, axis) == pytest.approx(degrees, abs=1e-9)
+
+
+@pytest.mark.parametrize("text, axis, words", [
+    ("91", "latitude", "out of range"),
+    ("181 W", "longitude", "out of range"),
+    ("40 E", "latitude", "E is not a hemisphere"),
+    ("40 61 0 N", "latitude", "minutes must be under 60"),
+    ("-40 N", "latitude", "both a sign and a hemisphere"),
+    ("forty north", "latitude", "is not a coordinate"),
+])
+def test_parse_coordinate_names_the_problem(text, axis, words):
+    from layout.units import parse_coordinate
+
+    with pytest.raises(InputError, match=words) as caught:
+        parse_coordinate(text, axis)
+    assert caught.value.field == axis
+
+
+@pytest.mark.parametrize("text, degrees", [
+    ("26.6", 26.6), ("26.6°", 26.6), ("30 deg", 30.0),
+    # rise in 12: atan(rise / 12), the trade's definition
+    ("6/12", math.degrees(math.atan(0.5))), ("6:12", math.degrees(math.atan(0.5))),
+    ("12 in 12", 45.0), ("0/12", 0.0),
+])
+def test_parse_pitch(text, degrees):
+    from layout.units import parse_pitch
+
+    assert parse_pitch(text) == pytest.approx(degrees, abs=1e-9)
+
+
+@pytest.mark.parametrize("text, words", [("45/12", "0 to 44 in 12"), ("80", "0 to 75"),
+                                         ("steep", "is not a pitch"), ("-5", "is not a pitch")])
+def test_parse_pitch_names_the_range(text, words):
+    from layout.units import parse_pitch
+
+    with pytest.raises(InputError, match=words):
+        parse_pitch(text, field="pitch_deg")

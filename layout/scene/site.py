@@ -3,13 +3,14 @@
 from __future__ import annotations
 
 import datetime as _dt
+import functools
 import re
 import zoneinfo
 from dataclasses import dataclass
 
 from ..errors import InputError, check_fields, check_range
 
-__all__ = ["Site", "parse_timezone"]
+__all__ = ["Site", "parse_timezone", "timezone_at"]
 
 _OFFSET = re.compile(r"^(?:UTC|GMT)?\s*([+-])(\d{1,2})(?::?(\d{2}))?$", re.IGNORECASE)
 
@@ -53,6 +54,55 @@ def parse_timezone(name: str) -> _dt.tzinfo:
             "timezone", "is not a known time zone", value=name,
             allowed="an IANA zone such as 'America/Denver' or an offset such as 'UTC-07:00'",
         ) from None
+
+
+@functools.lru_cache(maxsize=1)
+def _zone_finder():
+    from timezonefinder import TimezoneFinder  # reads its boundary data once (about 0.3 s)
+
+    return TimezoneFinder()
+
+
+def timezone_at(latitude: float, longitude: float) -> str:
+    """Return the IANA time zone in force at a place, found offline from its coordinates.
+
+    Parameters
+    ----------
+    latitude, longitude : float
+        WGS84 coordinates [degrees], north and east positive.
+
+    Returns
+    -------
+    str
+        The zone name, such as ``"America/Denver"``; over open sea, the nautical zone
+        (``"Etc/GMT+7"``).
+
+    Raises
+    ------
+    InputError
+        If a coordinate is out of range, or no zone is known there (type one in instead).
+
+    Notes
+    -----
+    The lookup is a point-in-polygon test on the time zone boundaries of the
+    ``timezone-boundary-builder`` project, as packaged by ``timezonefinder``; no network
+    access is needed. A place close to a zone border is only as exact as those boundaries:
+    check the zone of a site within a few hundred metres of one.
+
+    References
+    ----------
+    .. [1] J. Michelfeit, timezonefinder, https://github.com/jannikmi/timezonefinder
+    .. [2] E. Sweeney, timezone-boundary-builder,
+       https://github.com/evansiroky/timezone-boundary-builder
+    """
+    latitude = check_range("latitude", latitude, -90, 90, unit="degrees")
+    longitude = check_range("longitude", longitude, -180, 180, unit="degrees")
+    name = _zone_finder().timezone_at(lng=longitude, lat=latitude)
+    if not name:
+        raise InputError("timezone", "no time zone is known at these coordinates; type one",
+                         value=f"{latitude:.5f}, {longitude:.5f}",
+                         allowed="an IANA zone such as 'America/Denver' or 'UTC-07:00'")
+    return name
 
 
 @dataclass(frozen=True)

@@ -97,3 +97,30 @@ def test_from_dict_names_the_bad_field():
     with pytest.raises(InputError) as err:
         Site.from_dict(data)
     assert err.value.field == "latitude"
+
+
+# Time zones found offline from coordinates. Outside reference: the zones of these state
+# capitals are a matter of public record (the IANA tz database names each city's zone; from
+# memory, checked against the zone.tab comments where the city names its zone).
+@pytest.mark.parametrize("place, latitude, longitude, zone", [
+    ("Denver, Colorado", 39.7392, -104.9903, "America/Denver"),
+    ("Austin, Texas", 30.2672, -97.7431, "America/Chicago"),
+    ("Phoenix, Arizona", 33.4484, -112.0740, "America/Phoenix"),  # no daylight saving
+    ("Boston, Massachusetts", 42.3601, -71.0589, "America/New_York"),
+    ("Honolulu, Hawaii", 21.3069, -157.8583, "Pacific/Honolulu"),
+    ("Boise, Idaho", 43.6150, -116.2023, "America/Boise"),
+    ("Indianapolis, Indiana", 39.7684, -86.1581, "America/Indiana/Indianapolis"),
+])
+def test_timezone_at_state_capitals(place, latitude, longitude, zone):
+    from layout.scene.site import timezone_at
+
+    assert timezone_at(latitude, longitude) == zone, place
+
+
+def test_timezone_at_checks_the_coordinates():
+    from layout.scene.site import timezone_at
+
+    with pytest.raises(InputError, match="latitude"):
+        timezone_at(95.0, 0.0)
+    # open sea has a nautical zone, 15° of longitude wide: 140° W is nine hours behind UTC
+    assert timezone_at(0.0, -140.0) == "Etc/GMT+9"

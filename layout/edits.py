@@ -1,0 +1,220 @@
+"""Edits of a project's roofs: add, move, turn and delete buildings, change a face.
+
+A project is immutable; each function here returns a new :class:`~layout.project.Project` and
+leaves the one it was given as it was, so that an editor can keep every version (undo and redo,
+:mod:`layout.history`). Every edit is checked before anything is returned: a rejected edit raises
+:class:`~layout.errors.InputError` naming the field, the value and what is allowed.
+
+What refers to a building's faces by name follows the edit: removals of modules and chosen
+pathways on a deleted building's faces are dropped with it, and a moved or turned building keeps
+them (they are in each face's own roof-plane coordinates, which turn with the face). A changed
+face keeps its pathway; removals on it are kept and re-checked by the next fill, which drops
+those no longer under a module and says so in its notes.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+import shapely
+
+from .errors import InputError, check_finite
+from .project import Project
+from .scene.building import OVERLAP_TOLERANCE_M2, Building
+from .scene.roof import EDGE_KINDS, RoofFace, building_to_site
+
+__all__ = [
+    "add_building",
+    "edit_face",
+    "move_building",
+    "remove_building",
+    "rename_building",
+]
+
+
+def _check_clear_of_others(project: Project, building: Building, skip: str | None) -> None:
+    """Raise if ``building`` overlaps, in plan, a building of the project other than ``skip``."""
+    for other in project.buildings:
+        if other.name == skip:
+            continue
+        shared = shapely.area(shapely.intersection(other.footprint, building.footprint))
+        if shared > OVERLAP_TOLERANCE_M2:
+            raise InputError("buildings", f"this building overlaps {other.name or 'another'!r} "
+                             f"by {shared:.2f} m² in plan", value=building.name or None,
+                             allowed="buildings that do not overlap (move or resize it)")
+
+
+def _index(project: Project, name: str) -> int:
+    names = [b.name for b in project.buildings]
+    if name not in names:
+        raise InputError("building", "is not a building of this project", value=name,
+                         allowed=", ".join(repr(n) for n in names) or "no buildings yet")
+    return names.index(name)
+
+
+def add_building(project: Project, building: Building) -> Project:
+    """Return the project with one more building.
+
+    Parameters
+    ----------
+    project : Project
+        The project as it is.
+    building : Building
+        The new building, in the site frame [m]. Its name and its face names must be new.
+
+    Raises
+    ------
+    InputError
+        If its name or a face name is taken, or it overlaps another building in plan.
+    """
+    names = {b.name for b in project.buildings}
+    if building.name in names:
+        raise InputError("name", "is already the name of a building", value=building.name,
+                         allowed="a name no other building has")
+    taken = {f.name for b in project.buildings for f in b.faces}
+    for face in building.faces:
+        if face.name in taken:
+            raise InputError("faces", "a face of the new building has a name already used",
+                             value=face.name, allowed="face names unique in the project "
+                             "(give the building a name: it prefixes its faces)")
+    _check_clear_of_others(project, building, skip=None)
+    return replace(project, buildings=(*project.buildings, building))
+
+
+def remove_building(project: Project, name: str) -> Project:
+    """Return the project without the building ``name`` and what referred to its faces."""
+    index = _index(project, name)
+    faces = set(project.buildings[index].face_names)
+    array_faces = project.array_faces
+    if array_faces is not None:
+        array_faces = tuple(f for f in array_faces if f not in faces)
+    pathways = project.pathways
+    if pathways is not None:
+        pathways = {f: e for f, e in pathways.items() if f not in faces}
+    removed = tuple(r for r in project.removed if r[0] not in faces)
+    buildings = project.buildings[:index] + project.buildings[index + 1:]
+    return replace(project, buildings=buildings, array_faces=array_faces, pathways=pathways,
+                   removed=removed)
+
+
+def rename_building(project: Project, name: str, new_name: str) -> Project:
+    """Return the project with building ``name`` called ``new_name`` (its faces keep theirs)."""
+    index = _index(project, name)
+    if new_name != name and new_name in {b.name for b in project.buildings}:
+        raise InputError("name", "is already the name of a building", value=new_name,
+                         allowed="a name no other building has")
+    buildings = list(project.buildings)
+    buildings[index] = replace(buildings[index], name=new_name)
+    return replace(project, buildings=tuple(buildings))
+
+
+def move_building(project: Project, name: str, *, east_m: float = 0.0, north_m: float = 0.0,
+                  turn_deg: float = 0.0) -> Project:
+    """Return the project with a building moved and turned as one rigid body.
+
+    Parameters
+    ----------
+    project : Project
+        The project as it is.
+    name : str
+        The building to move.
+    east_m, north_m : float, default 0
+        Shift of the building [m].
+    turn_deg : float, default 0
+        Turn about the centre of its plan footprint, clockwise seen from above [degrees]
+        (as compass azimuths turn: every face's azimuth grows by ``turn_deg``).
+
+    Raises
+    ------
+    InputError
+        If a value is not finite or the moved building would overlap another one.
+    """
+    east_m = check_finite("east_m", east_m)
+    north_m = check_finite("north_m", north_m)
+    turn_deg = check_finite("turn_deg", turn_deg)
+    index = _index(project, name)
+    building = project.buildings[index]
+    centre = np.array(building.footprint.centroid.coords[0])
+    faces = []
+    for face in building.faces:
+        local = np.asarray(face.outline) - centre  # a turn about the centre: building axes
+        outline = building_to_site(local, turn_deg, centre + np.array([east_m, north_m]))
+        faces.append(replace(face, outline=tuple(map(tuple, outline)),
+                             azimuth_deg=(face.azimuth_deg + turn_deg) % 360.0))
+    moved = replace(building, faces=tuple(faces))
+    _check_clear_of_others(project, moved, skip=name)
+    buildings = list(project.buildings)
+    buildings[index] = moved
+    return replace(project, buildings=tuple(buildings))
+
+
+def edit_face(project: Project, face_name: str, *, pitch_deg: float | None = None,
+              azimuth_deg: float | None = None, eave_height_m: float | None = None,
+              edge_kinds=None) -> Project:
+    """Return the project with one roof face changed.
+
+    Parameters
+    ----------
+    project : Project
+        The project as it is.
+    face_name : str
+        The face to change.
+    pitch_deg : float, optional
+        New slope [degrees], 0 to 75.
+    azimuth_deg : float, optional
+        New direction the slope faces, clockwise from north [degrees], 0 to 360.
+    eave_height_m : float, optional
+        New height of the face's lowest point above ground [m].
+    edge_kinds : sequence of str or None, optional
+        One kind per edge (eave, ridge, rake, hip, valley, or None to keep the kind read from
+        the geometry).
+
+    Raises
+    ------
+    InputError
+        Naming the field of the face (``faces[south].pitch_deg``) when a value is out of range.
+    """
+    b_index, f_index = _find_face(project, face_name)
+    building = project.buildings[b_index]
+    face = building.faces[f_index]
+    changes = {}
+    if pitch_deg is not None:
+        changes["pitch_deg"] = pitch_deg
+    if azimuth_deg is not None:
+        changes["azimuth_deg"] = azimuth_deg
+    if eave_height_m is not None:
+        changes["eave_height_m"] = eave_height_m
+    if edge_kinds is not None:
+        kinds = tuple(edge_kinds)
+        for i, kind in enumerate(kinds):
+            if kind is not None and kind not in EDGE_KINDS:
+                raise InputError(f"faces[{face_name}].edge_kinds[{i}]", "unknown edge kind",
+                                 value=kind, allowed=", ".join(EDGE_KINDS))
+        changes["edge_overrides"] = kinds
+    try:
+        new_face = RoofFace(**{**_face_fields(face), **changes})
+    except InputError as err:
+        raise err.at(f"faces[{face_name}]") from None
+    faces = list(building.faces)
+    faces[f_index] = new_face
+    buildings = list(project.buildings)
+    buildings[b_index] = replace(building, faces=tuple(faces))
+    return replace(project, buildings=tuple(buildings))
+
+
+def _find_face(project: Project, face_name: str) -> tuple[int, int]:
+    """Return (building index, face index) of the face called ``face_name``."""
+    for b_index, building in enumerate(project.buildings):
+        for f_index, face in enumerate(building.faces):
+            if face.name == face_name:
+                return b_index, f_index
+    names = [f.name for b in project.buildings for f in b.faces]
+    raise InputError("face", "is not a face of this project", value=face_name,
+                     allowed=", ".join(names) or "no faces yet")
+
+
+def _face_fields(face: RoofFace) -> dict:
+    return {"outline": face.outline, "pitch_deg": face.pitch_deg,
+            "azimuth_deg": face.azimuth_deg, "eave_height_m": face.eave_height_m,
+            "name": face.name, "edge_overrides": face.edge_overrides}
