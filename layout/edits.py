@@ -26,11 +26,32 @@ from .scene.roof import EDGE_KINDS, RoofFace, building_to_site
 
 __all__ = [
     "add_building",
+    "blank_project",
     "edit_face",
     "move_building",
     "remove_building",
     "rename_building",
 ]
+
+
+def blank_project(site, module, clearance, *, units: str = "metric", name: str = "") -> Project:
+    """Return a new project on a site, with no buildings yet.
+
+    Parameters
+    ----------
+    site : layout.scene.site.Site
+        Where the project is.
+    module : layout.scene.modules.ModuleSpec
+        The module to lay out.
+    clearance : layout.fill.rules.ClearanceRules
+        The setback preset in force.
+    units : {"metric", "imperial"}, default "metric"
+        How lengths are shown and typed.
+    name : str, default ""
+        The project's name.
+    """
+    return Project(site=site, buildings=(), module=module, clearance=clearance, units=units,
+                   name=name)
 
 
 def _check_clear_of_others(project: Project, building: Building, skip: str | None) -> None:

@@ -31,10 +31,14 @@ class Version:
         The project after the edit.
     label : str
         What the edit was, in words for a button's tooltip ("moved tree 2").
+    key : object, optional
+        What the edit worked on (``("survey", 2)``); consecutive edits of the same thing are
+        one step (see :meth:`ProjectHistory.record`).
     """
 
     project: Project
     label: str
+    key: object = None
 
 
 class ProjectHistory:
@@ -101,19 +105,24 @@ class ProjectHistory:
         return self._saved is not self._current.project
 
     # ----------------------------------------------------------------- changing
-    def record(self, project: Project, label: str) -> Project:
+    def record(self, project: Project, label: str, *, key=None) -> Project:
         """Make ``project`` the current version after an edit called ``label``; returns it.
 
         Recording the current project again (an edit that changed nothing) adds no step.
-        Versions ahead of the current one (undone edits) are dropped.
+        Versions ahead of the current one (undone edits) are dropped. An edit with the same
+        ``key`` as the edit just recorded (the fields of one survey entry typed one after
+        another) replaces that step rather than adding one, so one undo takes the whole
+        entry back.
         """
         if not isinstance(project, Project):
             raise InputError("project", "must be a Project", value=type(project).__name__)
         if project is self._current.project:
             return self._current.project
-        self._back.append(self._current)
+        merge = key is not None and key == self._current.key and not self._ahead and self._back
+        if not merge:
+            self._back.append(self._current)
         self._ahead.clear()
-        self._current = Version(project, str(label))
+        self._current = Version(project, str(label), key)
         return project
 
     def undo(self) -> Project:

@@ -160,3 +160,22 @@ def test_overlap_agrees_with_shapely(demo):
                             name="shed").build()
     assert shapely.area(shapely.intersection(house.footprint, touching.footprint)) < 1e-9
     add_building(demo, touching)  # sharing a wall line is not an overlap
+
+
+def test_edits_of_one_thing_in_a_row_are_one_step(demo):
+    # typing the fields of one survey entry one after another: one undo takes it all back
+    history = ProjectHistory(demo)
+    name = demo.buildings[0].faces[0].name
+    steps = [edit_face(demo, name, pitch_deg=20.0 + k) for k in range(4)]
+    for k, project in enumerate(steps):
+        history.record(project, f"pitch {20 + k}", key=("face", name))
+    assert history.depth == (1, 0) and history.project is steps[-1]
+    history.record(edit_face(steps[-1], name, eave_height_m=4.0), "eave", key=("eave", name))
+    assert history.depth == (2, 0)
+    history.undo()
+    history.undo()
+    assert history.project is demo
+    # after an undo, the same key starts a new step rather than rewriting an old one
+    history.redo()
+    history.record(edit_face(steps[-1], name, pitch_deg=30.0), "pitch 30", key=("face", name))
+    assert history.depth == (2, 0)

@@ -51,7 +51,7 @@ def shared_planner(demo):
 def planner(shared_planner, demo):
     p = shared_planner
     p.timeline.enabled.value = False
-    p.tabs.selected_index = 0
+    p.show_tab("Module")
     p.click_mode.value = "toggle"
     p.colour_by.value = "shade_loss_pct"
     p.hours_panel.hours_scope.value = "module"

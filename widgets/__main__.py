@@ -243,7 +243,8 @@ def _program_name() -> str:
     return "python -m widgets" if name in ("", "__main__.py", "-c") else name
 
 
-def serve(project=None, *, port: int = DEFAULT_PORT, open_browser: bool = False) -> None:
+def serve(project=None, *, port: int = DEFAULT_PORT, open_browser: bool = False,
+          new: bool = False) -> None:
     """Replace this process with the Voila server of the planner; return only on error.
 
     Parameters
@@ -254,6 +255,9 @@ def serve(project=None, *, port: int = DEFAULT_PORT, open_browser: bool = False)
         Port on 127.0.0.1.
     open_browser : bool, optional
         Open a browser tab.
+    new : bool, optional
+        Open the planner on a new, empty project: the Roof tab's New project form asks for
+        the site first.
 
     Raises
     ------
@@ -264,6 +268,8 @@ def serve(project=None, *, port: int = DEFAULT_PORT, open_browser: bool = False)
     env = voila_environment()
     if project is not None:
         env["EAVELINE_PROJECT"] = str(project_file(project))
+    if new:
+        env["EAVELINE_NEW"] = "1"
     # An installed or checked-out package is a folder, so as_file gives the file itself; from
     # a zip it would extract a copy, which outlives this process (exec never returns).
     with resources.as_file(planner_notebook()) as notebook:
@@ -295,15 +301,19 @@ def main(argv=None) -> int:
     parser.add_argument("--port", type=int, default=DEFAULT_PORT,
                         help=f"port on 127.0.0.1 (default {DEFAULT_PORT})")
     parser.add_argument("--open", action="store_true", help="open a browser tab")
+    parser.add_argument("--new", action="store_true",
+                        help="start a new project: the planner opens on the New project form")
     parser.add_argument("--check", action="store_true",
                         help="start no server: check that the planner can start (notebook, "
                              "kernel, Voila, the project, the planner widget), print one line")
     args = parser.parse_args(argv)
+    if args.new and args.project:
+        parser.error("give a project file or --new, not both")
     try:
         if args.check:
             print(startup_check(args.project), flush=True)
             return 0
-        serve(args.project, port=args.port, open_browser=args.open)
+        serve(args.project, port=args.port, open_browser=args.open, new=args.new)
     except StartError as err:
         print(f"{prog}: {err}", file=sys.stderr)
         return err.status

@@ -45,6 +45,7 @@ class FilePanel(w.VBox):
         self.project = None
         self.array_layout = None
         self._callbacks: list[Callable] = []
+        self._saved_callbacks: list[Callable] = []
         default = Path(path) if path else Path.home() / "eaveline" / f"project{FILE_SUFFIX}"
         self.project_path = w.Text(value=str(default), description="Project file",
                                    layout=w.Layout(width="500px"))
@@ -70,6 +71,10 @@ class FilePanel(w.VBox):
             self.export_path, w.HBox([self.csv_button, self.geojson_button]),
             self.file_message])
 
+    def on_saved(self, callback: Callable) -> None:
+        """Call ``callback(project)`` after the project was written to its file."""
+        self._saved_callbacks.append(callback)
+
     def on_load(self, callback: Callable) -> None:
         """Call ``callback(project, path_text)`` with a project read; it returns a bool."""
         self._callbacks.append(callback)
@@ -87,6 +92,8 @@ class FilePanel(w.VBox):
             return None
         self.project_path.value = str(written)
         self._note(f"Saved {written}")
+        for callback in self._saved_callbacks:
+            callback(self.project)
         return written
 
     def load(self) -> bool:

@@ -117,8 +117,8 @@ class PlanScene:
         geoms = [shapely.Polygon(ring) for _, ring in self.faces]
         geoms += [footprint for _, _, _, footprint, _ in self.obstructions]
         geoms += [footprint for _, _, _, footprint, _, _ in self.surveyed]
-        if not geoms:
-            return (0.0, 0.0, 10.0, 10.0)
+        if not geoms:  # a new project: 20 m around the site's origin
+            return (-10.0, -10.0, 10.0, 10.0)
         return tuple(float(b) for b in shapely.total_bounds(geoms))
 
 
@@ -284,6 +284,7 @@ class PlanView(Quiet, w.VBox):
         self._drag_ended: list[Callable] = []
         self._clicked: list[Callable] = []
         self._survey_clicked: list[Callable] = []
+        self._face_clicked: list[Callable] = []
         self._surveyed_index: list[int] = []
         self.module_values = None
         self.module_values_label = ""
@@ -333,6 +334,15 @@ class PlanView(Quiet, w.VBox):
                                     default_size=11, align="middle")
         self.face_labels = bq.Label(x=[], y=[], text=[], scales=scales, colors=["#6a7473"],
                                     default_size=12, align="middle", font_weight="bold")
+        self.preview_marks = lines(colors=[style.PREVIEW_EDGE], stroke_width=2.0,
+                                   close_path=True, line_style="dashed")
+        self.face_targets = bq.Scatter(
+            x=[], y=[], scales=scales, marker="square", default_size=90,
+            colors=[style.INK], opacities=[0.0], stroke=None,
+            interactions={"click": "select", "hover": "tooltip"},
+            tooltip=bq.Tooltip(fields=["name"], labels=["face (click to edit)"]),
+            names_unique=False, display_names=False, selected_style={}, unselected_style={},
+        )
         self.module_targets = bq.Scatter(
             x=[], y=[], scales=scales, marker="square", default_size=160,
             colors=["#ffffff"], opacities=[0.01], stroke=None,
@@ -375,8 +385,8 @@ class PlanView(Quiet, w.VBox):
                    self.module_fill_marks, self.removed_marks, self.flag_marks,
                    self.shadow_marks, self.tree_marks, self.obstruction_marks,
                    self.sight_marks, self.edge_labels, self.face_labels, self.selected_mark,
-                   self.module_targets, self.station_marks, self.surveyed_markers,
-                   self.obstruction_markers],
+                   self.module_targets, self.face_targets, self.preview_marks,
+                   self.station_marks, self.surveyed_markers, self.obstruction_markers],
             axes=[self.x_axis, self.y_axis],
             fig_margin=dict(FIGURE_MARGIN_PX), display_toolbar=False,
             background_style={"fill": "white"}, padding_x=0.0, padding_y=0.0,
@@ -402,6 +412,7 @@ class PlanView(Quiet, w.VBox):
         self.obstruction_markers.on_drag(self._marker_dragging)
         self.obstruction_markers.on_drag_end(self._marker_drag_ended)
         self.module_targets.observe(self._module_selected, names=["selected"])
+        self.face_targets.observe(self._face_selected, names=["selected"])
         self.surveyed_markers.observe(self._surveyed_selected, names=["selected"])
         super().__init__([w.HBox([self.zoom_toggle, self.fit_button, self.hint],
                                  layout=w.Layout(align_items="center")),
@@ -428,20 +439,40 @@ class PlanView(Quiet, w.VBox):
         """Call ``callback(module_id)`` when a module is clicked."""
         self._clicked.append(callback)
 
+    def on_face_clicked(self, callback: Callable) -> None:
+        """Call ``callback(face_name)`` when a face's name is clicked."""
+        self._face_clicked.append(callback)
+
+    def _clicked_point(self, change, mark) -> int | None:
+        """Index of the point a click selected on ``mark``; the selection is cleared again."""
+        selected = change["new"]
+        if self._quiet or selected is None or len(selected) == 0:
+            return None
+        with self._silently():
+            mark.selected = None
+        return int(np.asarray(selected)[-1])
+
+    def _face_selected(self, change) -> None:
+        index = self._clicked_point(change, self.face_targets)
+        names = list(self.face_targets.names)
+        if index is not None and 0 <= index < len(names):
+            for callback in self._face_clicked:
+                callback(names[index])
+
+    def show_preview(self, building=None) -> None:
+        """Draw a building's face outlines dashed (a template being typed), or clear them."""
+        rings = [] if building is None else [np.asarray(face.outline) for face in building.faces]
+        xs, ys = _padded(rings, self._k)
+        with self.preview_marks.hold_sync():
+            self.preview_marks.x, self.preview_marks.y = xs, ys
+
     def on_surveyed_clicked(self, callback: Callable) -> None:
         """Call ``callback(index)`` when the ring of surveyed obstruction ``index`` is clicked."""
         self._survey_clicked.append(callback)
 
     def _surveyed_selected(self, change) -> None:
-        if self._quiet:
-            return
-        selected = change["new"]
-        if selected is None or len(selected) == 0:
-            return
-        i = int(np.asarray(selected)[-1])
-        with self._silently():
-            self.surveyed_markers.selected = None
-        if 0 <= i < len(self._surveyed_index):
+        i = self._clicked_point(change, self.surveyed_markers)
+        if i is not None and 0 <= i < len(self._surveyed_index):
             for callback in self._survey_clicked:
                 callback(self._surveyed_index[i])
 
@@ -647,6 +678,10 @@ class PlanView(Quiet, w.VBox):
             self.face_labels.x = [float(c[0] * k) for c in centroids.values()]
             self.face_labels.y = [float(c[1] * k) for c in centroids.values()]
             self.face_labels.text = list(centroids)
+            self.face_targets.x = [float(c[0] * k) for c in centroids.values()]
+            self.face_targets.y = [float(c[1] * k) for c in centroids.values()]
+            self.face_targets.names = list(centroids)
+            self.face_targets.selected = None
             self.module_targets.x = (centres[:, 0] * k).tolist()
             self.module_targets.y = (centres[:, 1] * k).tolist()
             self.module_targets.selected = None

@@ -61,6 +61,7 @@ from pathlib import Path
 import ipywidgets as w
 
 from layout.errors import InputError
+from layout.history import ProjectHistory
 from layout.project import ProjectFileError
 from layout.sky.sun import TYPICAL_YEAR
 from layout.study.analysis import Analysis
@@ -71,10 +72,12 @@ from layout.units import INCH_M
 from .compare_panel import ComparePanel
 from .file_panel import FilePanel
 from .forms import ObstructionForm, length_text
+from .history_bar import HistoryBar
 from .hours_panel import HoursPanel
 from .loss_band import LossRangePanel, module_bands, range_key
 from .module_panel import ModulePanel
 from .plan_view import PlanView, obstruction_anchor, obstruction_label, plan_scene
+from .roof_panel import RoofPanel
 from .sky_panel import SkyPanel
 from .status_line import StatusLine
 from .survey_panel import SurveyPanel
@@ -108,7 +111,7 @@ FIGURES = {
 }
 
 #: Side panel tabs, in order.
-TAB_NAMES = ("Module", "Objects", "Survey", "Sky", "Hours", "Compare", "File")
+TAB_NAMES = ("Roof", "Module", "Objects", "Survey", "Sky", "Hours", "Compare", "File")
 
 #: Drag positions snap to this grid [m]: 1 cm, or a quarter inch in imperial projects.
 SNAP_M = {"metric": 0.01, "imperial": INCH_M / 4}
@@ -152,8 +155,10 @@ class Planner(w.VBox):
         The last comparison's table (Compare tab), None before the tab was opened.
     loss_range : layout.study.outlook.ShadeLossRange or None
         The last loss range run (:meth:`run_loss_range`).
-    module_panel, objects, survey, sky_panel, hours_panel, compare_panel, file_panel
+    roof_panel, module_panel, objects, survey, sky_panel, hours_panel, compare_panel, file_panel
         The side panel's tabs, in the order of :data:`TAB_NAMES`.
+    history : layout.history.ProjectHistory
+        Every accepted version of the project, for :meth:`undo` and :meth:`redo`.
     totals_panel : widgets.totals.TotalsPanel
         The figures under the plan, with the loss range controls (``loss_panel``).
     status_line : widgets.status_line.StatusLine
@@ -195,6 +200,11 @@ class Planner(w.VBox):
         self.shadows = None
         self.loss_range = None
         self._range_key = None
+        self.history: ProjectHistory | None = None
+        self.plan_buildings = tuple(b.name for b in project.buildings)
+        self.history_bar = HistoryBar()
+        self.history_bar.on_undo(self.undo)
+        self.history_bar.on_redo(self.redo)
 
         self.plan = PlanView()
         self.plan.on_obstruction_moved(self._obstruction_moved)
@@ -241,7 +251,12 @@ class Planner(w.VBox):
         self.compare_panel.on_run(lambda: self._run_compare(force=True))
         self.file_panel = FilePanel(path)
         self.file_panel.on_load(self._file_loaded)
-        self.tabs = w.Tab(children=[self.module_panel, self.objects, self.survey,
+        self.file_panel.on_saved(self._saved)
+        self.roof_panel = RoofPanel()
+        self.roof_panel.on_change(self._roof_edited)
+        self.roof_panel.on_preview(self.plan.show_preview)
+        self.plan.on_face_clicked(self._face_clicked)
+        self.tabs = w.Tab(children=[self.roof_panel, self.module_panel, self.objects, self.survey,
                                     self.sky_panel, self.hours_panel, self.compare_panel,
                                     self.file_panel],
                           titles=TAB_NAMES,
@@ -258,7 +273,7 @@ class Planner(w.VBox):
         tools = w.HBox([self.colour_by, w.Label("Click a module to"), self.click_mode],
                        layout=w.Layout(align_items="center"))
         super().__init__([
-            w.HBox([self.title, self.units_toggle],
+            w.HBox([self.title, w.HBox([self.history_bar, self.units_toggle])],
                    layout=w.Layout(justify_content="space-between", align_items="center")),
             w.HBox([w.VBox([tools, self.plan, self.timeline, figures]), self.tabs]),
             self.cautions,
@@ -267,11 +282,26 @@ class Planner(w.VBox):
         self.set_project(project)
         if self.array_layout is None:
             raise InputError("project", self.status_line.message.value)
+        self.show_tab("Module" if project.buildings else "Roof")
         self.timeline.show_sun(None)
 
     # ================================================================= project changes
-    def set_project(self, project, *, message: str = "") -> bool:
+    def set_project(self, project, *, message: str = "", label: str = "",
+                    record: bool = True, key=None) -> bool:
         """Show a new project: bring the analysis up to date and redraw from its result.
+
+        Parameters
+        ----------
+        project : layout.project.Project
+            The project to show.
+        message : str, optional
+            The status line's text once it is shown.
+        label : str, optional
+            What the edit was, for the undo button (the message when not given).
+        record : bool, default True
+            Make it a step of the undo history (undo and redo themselves pass False).
+        key : object, optional
+            What the edit worked on; edits of the same thing in a row are one undo step.
 
         Returns
         -------
@@ -315,11 +345,35 @@ class Planner(w.VBox):
         self.survey.show(project.survey, units=project.units)
         self._show_band()
         self.module_panel.show(project)
+        self.roof_panel.show(project)
         self._refresh_tab()
+        if self.history is None:
+            self.history = ProjectHistory(project)
+        elif record:
+            self.history.record(project, label or message.rstrip(".") or "edit", key=key)
+        self.history_bar.show(self.history)
         self.last_recompute_s = time.perf_counter() - start
         self.last_timings = dict(self.analysis.timings)
         self._status(message or f"Ready (updated in {self.last_recompute_s * 1000:.0f} ms).")
         return True
+
+    def undo(self) -> bool:
+        """Go back to the project as it was before the last edit; False when there is none."""
+        return self._step(self.history.undo if self.history.can_undo else None, "undo")
+
+    def redo(self) -> bool:
+        """Bring back the last edit undone; False when there is none."""
+        return self._step(self.history.redo if self.history.can_redo else None, "redo")
+
+    def _step(self, move, action: str) -> bool:
+        if move is None:
+            self._status(f"Nothing to {action}.")
+            return False
+        if action == "undo":
+            message = f"Undone: {self.history.undo_label}."
+        else:
+            message = f"Redone: {self.history.redo_label}."
+        return self.set_project(move(), message=message, record=False)
 
     @property
     def result(self):
@@ -339,6 +393,8 @@ class Planner(w.VBox):
         self.status_line.say(text, busy=busy, error=error)
 
     def _roof_middle(self) -> tuple[float, float]:
+        if not self.project.buildings:  # a new project: the site's origin
+            return 0.0, 0.0
         point = self.project.buildings[0].footprint.centroid
         return float(point.x), float(point.y)
 
@@ -465,13 +521,27 @@ class Planner(w.VBox):
                          message=f"Module {module_id} {verb}.")
 
     # ----------------------------------------------------------------- panel edits
+    def _roof_edited(self, project, label: str) -> bool:
+        accepted = self.set_project(project, message=label[0].upper() + label[1:] + ".",
+                                    label=label)
+        if accepted and len(project.buildings) != len(self.plan_buildings):
+            self.plan.fit()  # a building came or went: show the whole site again
+        self.plan_buildings = tuple(b.name for b in project.buildings)
+        return accepted
+
+    def _face_clicked(self, name: str) -> None:
+        self.show_tab("Roof")
+        self.roof_panel.select_face(name)
+
     def _module_tab_edited(self, *, module, fill, clearance) -> bool:
         return self.set_project(
             self.project.with_changes(module=module, fill=fill, clearance=clearance),
             message="Refilled with the Module tab's values.")
 
     def _obstructions_edited(self, obstructions, index) -> None:
-        if self.set_project(self.project.with_changes(obstructions=tuple(obstructions))):
+        project = self.project.with_changes(obstructions=tuple(obstructions))
+        if self.set_project(project, label="obstruction typed in Objects",
+                            key=("objects", index, len(obstructions))):
             self.objects.show(self.project.obstructions, units=self.project.units, index=index,
                               new_position=self._roof_middle())
 
@@ -483,7 +553,13 @@ class Planner(w.VBox):
             return False
         count = len(project.survey)
         noun = "obstruction" if count == 1 else "obstructions"
-        if not self.set_project(project, message=f"Survey updated: {count} surveyed {noun}."):
+        known = isinstance(index, int) and 0 <= index < count
+        name = (project.survey[index].name or f"{index + 1}") if known else ""
+        # fields of one entry typed in a row are one undo step; an entry added or deleted
+        # changes the count and starts a new one
+        if not self.set_project(project, message=f"Survey updated: {count} surveyed {noun}.",
+                                label=f"survey entry {name}" if name else "survey",
+                                key=("survey", index, count)):
             return False
         self.survey.show(self.project.survey, units=self.project.units, index=index)
         return True
@@ -495,6 +571,10 @@ class Planner(w.VBox):
     def _sky_module_chosen(self, module_id: str) -> None:
         if module_id != self.selected_id:
             self.select_module(module_id)
+
+    def _saved(self, project) -> None:
+        if project is self.project:
+            self.history.mark_saved()
 
     def _file_loaded(self, project, path_text: str) -> bool:
         return self.set_project(project, message=f"Loaded {path_text}")

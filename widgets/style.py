@@ -112,3 +112,5 @@ NO_FIGURE = "#c9c9c9"
 #: Outline of a module below the TSRF threshold (drawn thick), and the selected module's mark.
 FLAG_EDGE = "#1d2b2a"
 SELECTED = "#3a4f8a"
+#: A building being typed in the Roof tab, drawn dashed before it is added.
+PREVIEW_EDGE = "#2f6f9f"

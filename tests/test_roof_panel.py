@@ -1,0 +1,145 @@
+"""The Roof tab and undo/redo in the planner, through the widgets' traits.
+
+Outside references: closed-form geometry (a hip roof over a 40 × 28 ft rectangle covers
+40 × 28 ft² in plan, true area = plan / cos pitch, the trade's slope factor), and the IANA zone
+of Denver (America/Denver, a matter of public record).
+"""
+
+import math
+
+import pytest
+
+from layout import load_demo_project
+from layout.units import FOOT_M
+from widgets.planner import TAB_NAMES, Planner
+from widgets.roof_panel import placeholder_project
+
+
+@pytest.fixture()
+def fresh():
+    planner = Planner(placeholder_project())
+    planner.roof_panel.open_new_project()
+    return planner
+
+
+def _start(planner, *, units="imperial"):
+    panel = planner.roof_panel
+    panel.latitude.input.value = "39° 44′ 21″ N"
+    panel.longitude.input.value = "104° 59′ 24″ W"
+    panel.new_units.input.value = units
+    panel.project_name.input.value = "Hill residence"
+    assert panel.start_new()
+
+
+def _hip(planner, **overrides):
+    panel = planner.roof_panel
+    panel.kind.value = "hip"
+    values = {"length_m": "40 ft", "width_m": "28 ft", "pitch_deg": "6/12",
+              "eave_height_m": "10 ft", **overrides}
+    for key, text in values.items():
+        panel.template_rows[key].input.value = text
+
+
+def test_a_new_project_opens_on_the_roof_tab_and_finds_its_time_zone(fresh):
+    assert fresh.tabs.selected_index == TAB_NAMES.index("Roof")
+    assert fresh.roof_panel.sections.selected_index == 0
+    _start(fresh)
+    site = fresh.project.site
+    assert site.latitude == pytest.approx(39 + 44 / 60 + 21 / 3600)
+    assert site.longitude == pytest.approx(-(104 + 59 / 60 + 24 / 3600))
+    assert site.timezone == "America/Denver"
+    assert fresh.project.units == "imperial" and fresh.project.buildings == ()
+    assert fresh.array_layout.count == 0
+
+
+def test_bad_coordinates_are_marked_and_nothing_changes(fresh):
+    panel = fresh.roof_panel
+    before = fresh.project
+    panel.latitude.input.value = "95 N"
+    panel.longitude.input.value = "40 E W"
+    assert not panel.start_new()
+    assert "out of range" in panel.latitude.error
+    assert "not a coordinate" in panel.longitude.error
+    assert fresh.project is before
+    assert panel.latitude.input.value == "95 N"  # what was typed stays
+
+
+def test_the_template_previews_then_adds_a_filled_hip_roof(fresh):
+    _start(fresh)
+    _hip(fresh)
+    assert not fresh.roof_panel.add_button.disabled
+    assert len(fresh.plan.preview_marks.x) == 4  # four faces drawn dashed
+    assert fresh.roof_panel.add_template()
+    (building,) = fresh.project.buildings
+    plan = 40 * 28 * FOOT_M**2
+    assert building.plan_area_m2 == pytest.approx(plan, rel=1e-9)
+    assert building.true_area_m2 == pytest.approx(plan / math.cos(math.atan(0.5)), rel=1e-9)
+    assert fresh.array_layout.count > 0
+    assert len(fresh.plan.preview_marks.x) == 0
+
+
+def test_template_problems_are_shown_per_field_and_keep_the_text(fresh):
+    _start(fresh)
+    _hip(fresh, pitch_deg="50/12", width_m="wide")
+    assert fresh.roof_panel.add_button.disabled
+    assert not fresh.roof_panel.add_template()
+    assert "0 to 44 in 12" in fresh.roof_panel.template_rows["pitch_deg"].error
+    assert "not a length" in fresh.roof_panel.template_rows["width_m"].error
+    assert fresh.roof_panel.template_rows["pitch_deg"].input.value == "50/12"
+    assert fresh.project.buildings == ()
+
+
+def test_face_edits_move_delete_undo_and_redo(fresh):
+    _start(fresh)
+    _hip(fresh)
+    fresh.roof_panel.add_template()
+    count = fresh.array_layout.count
+    south = next(f.name for f in fresh.project.buildings[0].faces if f.name.endswith("south"))
+    # a click on the face's name on the plan picks it in the Roof tab
+    fresh.show_tab("Module")
+    fresh.plan.face_targets.selected = [list(fresh.plan.face_targets.names).index(south)]
+    assert fresh.tabs.selected_index == TAB_NAMES.index("Roof")
+    assert fresh.roof_panel.face.value == south
+    panel = fresh.roof_panel
+    panel.pitch.input.value = "80"
+    assert not panel.apply_face() and "0 to 75" in panel.pitch.error
+    panel.pitch.input.value = "8/12"
+    assert panel.apply_face()
+    face = fresh.project.buildings[0].face(south)
+    assert face.pitch_deg == pytest.approx(math.degrees(math.atan(8 / 12)))
+    panel.move_east.input.value = "10 ft"
+    panel.turn.input.value = "15"
+    assert panel.move()
+    assert fresh.project.buildings[0].face(south).azimuth_deg == pytest.approx(195.0)
+    assert panel.delete() and fresh.project.buildings == ()
+    assert fresh.history_bar.undo_button.tooltip.startswith("Undo: deleted house")
+    fresh.undo()
+    fresh.undo()
+    assert fresh.project.buildings[0].face(south).azimuth_deg == pytest.approx(180.0)
+    fresh.undo()
+    assert fresh.project.buildings[0].face(south).pitch_deg == pytest.approx(
+        math.degrees(math.atan(0.5)))
+    assert fresh.array_layout.count == count
+    fresh.redo()
+    assert fresh.project.buildings[0].face(south).pitch_deg == pytest.approx(
+        math.degrees(math.atan(8 / 12)))
+    assert not fresh.history_bar.redo_button.disabled
+
+
+def test_undo_takes_back_module_clicks_and_knows_the_saved_version(tmp_path):
+    planner = Planner(load_demo_project())
+    planner.file_panel.project_path.value = str(tmp_path / "house.eaveline.json")
+    assert planner.history_bar.undo_button.disabled
+    module = planner.array_layout.active_modules[0].id
+    planner.click_mode.value = "toggle"
+    planner._module_clicked(module)
+    assert len(planner.project.removed) == 1
+    saved = planner.file_panel.save()
+    written = saved.read_text()
+    assert not planner.history.unsaved
+    assert planner.undo()
+    assert planner.project.removed == () and planner.history.unsaved
+    assert saved.read_text() == written  # undo after a save leaves the file alone
+    assert planner.redo() and len(planner.project.removed) == 1
+    assert not planner.redo()
+    assert "Nothing to redo" in planner.status_line.message.value
