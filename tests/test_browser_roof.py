@@ -1,0 +1,125 @@
+"""A roof from scratch in a real browser: `python -m widgets --new`, a template, a tree, undo.
+
+Voila serves the packaged planner notebook with ``EAVELINE_NEW`` set, as ``python -m widgets
+--new`` does; headless Chromium (through Playwright) types a site, builds a 40 × 28 ft hip roof
+at 6 in 12 from the template form, adds a surveyed tree south of it, reads a shade loss above
+zero, undoes twice (the tree, then the building and its modules go) and redoes once.
+
+Outside reference: the hip roof's module count is the one the core's own fill gives for the same
+typed values (:func:`layout.fill.placement.fill_building` on the template's building), and the
+shade loss shown is the one a fresh evaluation by the core gives for the project the page built
+(:func:`layout.study.analysis.evaluate`), so the page and the core agree.
+"""
+
+import re
+from pathlib import Path
+
+import pytest
+from test_browser import CHROMIUM_ARGS, require_browser_tools
+
+from layout.scene.templates import template_from_text
+from widgets.__main__ import planner_notebook, require_notebook, voila_command, voila_environment
+
+NONE = re.compile(r"(^|\D)0 modules")
+HIP = {"length-m": "40 ft", "width-m": "28 ft", "pitch-deg": "6/12", "eave-height-m": "10 ft"}
+# a tree 10 ft south of the eave, sighted from 60 ft south of the house looking north
+TREE = {"name": "test oak", "station-x-m": "20 ft", "station-y-m": "-60 ft",
+        "eye-height-m": "5.5 ft", "bearing-deg": "0", "distance-m": "50 ft",
+        "top-angle-deg": "17", "crown-radius-m": "10 ft", "crown-base-m": "8 ft"}
+
+
+@pytest.fixture(scope="module")
+def new_project_url(tmp_path_factory, local_server):
+    require_browser_tools()
+    notebook = require_notebook(Path(str(planner_notebook())))
+    log = tmp_path_factory.mktemp("voila-new") / "voila.log"
+    env = {**voila_environment(), "EAVELINE_NEW": "1"}
+    with local_server(lambda port: voila_command(notebook, port=port), log=log,
+                      cwd=tmp_path_factory.getbasetemp(), env=env) as url:
+        yield url
+
+
+def _count(page) -> int:
+    return int(re.search(r"(\d+)\s+modules", page.locator(".eaveline-count").inner_text())[1])
+
+
+def test_a_hip_roof_from_the_template_a_tree_and_undo(new_project_url, tmp_path):
+    from playwright.sync_api import expect, sync_playwright
+
+    chromium = require_browser_tools()
+    template, problems = template_from_text(
+        "hip", {k.replace("-", "_"): v for k, v in HIP.items()}, default_unit="ft")
+    assert problems == {}
+
+    with sync_playwright() as p:
+        browser = p.chromium.launch(executable_path=chromium, args=CHROMIUM_ARGS)
+        try:
+            page = browser.new_page(viewport={"width": 1400, "height": 1100})
+            page.route("**/*", lambda route: route.continue_()
+                       if route.request.url.startswith(new_project_url) else route.abort())
+            page.goto(new_project_url, wait_until="domcontentloaded")
+            start = page.locator("button.eaveline-new-project")
+            start.wait_for(timeout=60_000)
+
+            page.locator(".eaveline-new-name input").fill("Hill residence")
+            page.locator(".eaveline-new-latitude input").fill("39° 44' 21\" N")
+            page.locator(".eaveline-new-longitude input").fill("104° 59' 24\" W")
+            expect(page.locator(".eaveline-new-timezone input")).to_have_value(
+                "America/Denver", timeout=15_000)
+            page.locator(".eaveline-new-units select").select_option(label="feet and inches")
+            start.click()
+            expect(page.locator(".eaveline-count")).to_contain_text(NONE, timeout=20_000)
+
+            for key, text in HIP.items():
+                page.locator(f".eaveline-template-{key} input").fill(text)
+            add = page.locator("button.eaveline-add-building")
+            expect(add).to_be_enabled(timeout=15_000)
+            add.click()
+            page.wait_for_function(
+                "() => /[1-9]\\d*\\s+modules/.test("
+                "document.querySelector('.eaveline-count').innerText)", timeout=30_000)
+            filled = _count(page)
+            assert filled == _core_layout(template).count > 0
+
+            page.locator(".eaveline-side .lm-TabBar-tab", has_text="Survey").click()
+            for key, text in TREE.items():
+                field = page.locator(f".eaveline-survey-{key} input").first
+                field.fill(text)
+                field.press("Enter")  # continuous_update=False: sent on Enter
+            expect(page.locator(".eaveline-survey-list")).to_contain_text("test oak",
+                                                                          timeout=20_000)
+            loss = page.locator(".eaveline-shade-loss")
+            page.wait_for_function(
+                "() => parseFloat(document.querySelector('.eaveline-shade-loss').innerText) > 0",
+                timeout=30_000)
+            assert float(loss.inner_text()) > 0.1
+            page.screenshot(path=str(tmp_path / "roof-from-scratch.png"), full_page=True)
+
+            undo, redo = page.locator("button.eaveline-undo"), page.locator("button.eaveline-redo")
+            undo.click()  # the tree goes: the whole entry was one step
+            page.wait_for_function(
+                "() => parseFloat(document.querySelector('.eaveline-shade-loss').innerText)"
+                " === 0", timeout=30_000)
+            assert _count(page) == filled
+            undo.click()  # the building and its modules go
+            expect(page.locator(".eaveline-count")).to_contain_text(NONE, timeout=30_000)
+            redo.click()
+            page.wait_for_function(
+                f"() => /^\\s*{filled}\\s+modules/.test("
+                "document.querySelector('.eaveline-count').innerText)", timeout=30_000)
+            expect(redo).to_be_enabled()
+        finally:
+            browser.close()
+
+
+def _core_layout(template):
+    """The core's own fill of the same building on a new project with the same site."""
+    from dataclasses import replace
+
+    from layout.edits import add_building
+    from layout.scene.site import Site
+    from widgets.roof_panel import placeholder_project
+
+    site = Site(39 + 44 / 60 + 21 / 3600, -(104 + 59 / 60 + 24 / 3600), "America/Denver")
+    project = replace(placeholder_project(), site=site)
+    return add_building(project, replace(template, name="house").build()).layout()
