@@ -172,8 +172,8 @@ def render_pdf(document, *, progress=None) -> bytes:
         if section.new_page and k:
             pdf.add_page()
         pdf.set_font(_FONT, "B", 16 if k == 0 else 13)
-        pdf.multi_cell(0, 8, section.title if k else document.title, new_x="LMARGIN",
-                       new_y="NEXT")
+        pdf.multi_cell(0, 8, section.title if k else document.title, align="L",
+                       new_x="LMARGIN", new_y="NEXT")
         pdf.ln(1.0)
         for block in section.blocks:
             if isinstance(block, Paragraph):
