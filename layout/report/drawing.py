@@ -20,13 +20,14 @@ from matplotlib.patches import FancyArrow, Polygon
 
 from ..sky.paths import KEY_PATHS
 from . import colours
+from .plan import PLAN_WIDTH_MM, number_font
 
 __all__ = ["SVG_RC", "draw", "figure_png", "figure_svg", "scale_bar_length"]
 
 #: Inches per millimetre.
 _MM = 1.0 / 25.4
 #: Width of a full-width figure [mm] (fits A4 and Letter inside 15 mm margins).
-FULL_WIDTH_MM = 178.0
+FULL_WIDTH_MM = PLAN_WIDTH_MM
 #: SVG settings: text as text (searchable, small), fixed ids so that output repeats.
 SVG_RC = {"svg.fonttype": "none", "svg.hashsalt": "eaveline-report", "font.size": 8.0,
           "font.family": "DejaVu Sans"}
@@ -69,15 +70,15 @@ def _draw_plan(fig: Figure, drawing) -> None:
                                  facecolor=style["fill"], alpha=style["opacity"],
                                  edgecolor="#8a8a8a", linewidth=0.0,
                                  hatch="////" if style["hatch"] else None, zorder=2))
-    sizes = [math.sqrt(shapely.Polygon(c).area) for _, _, c, _ in drawing.modules]
-    font = float(np.clip(min(sizes, default=1.0) * 4.0, 3.0, 7.0)) if sizes else 6.0
+    font = number_font(drawing, width_in=fig.get_figwidth())
     for number, module_id, corners, colour in drawing.modules:
         ax.add_patch(Polygon(corners, closed=True, facecolor=colour or colours.MODULE_FILL,
                              edgecolor=colours.MODULE_EDGE, linewidth=0.4,
                              gid=f"module:{module_id}", zorder=3))
-        centre = corners.mean(axis=0)
-        ax.text(centre[0], centre[1], str(number), ha="center", va="center", fontsize=font,
-                color=colours.INK, zorder=4)
+        if font is not None and drawing.numbered:
+            centre = corners.mean(axis=0)
+            ax.text(centre[0], centre[1], str(number), ha="center", va="center",
+                    fontsize=font, color=colours.INK, zorder=4)
     for corners in drawing.removed:
         ax.add_patch(Polygon(corners, closed=True, fill=False, edgecolor=colours.REMOVED_EDGE,
                              linewidth=0.5, linestyle="--", zorder=3))
@@ -93,7 +94,7 @@ def _draw_plan(fig: Figure, drawing) -> None:
                     ha="center", fontsize=6.5, color=colours.INK, zorder=6,
                     bbox={"boxstyle": "round,pad=0.15", "fc": "white", "ec": "none",
                           "alpha": 0.8})
-    _north_arrow(ax)
+    _north_arrow(fig)
     _scale_bar(ax, drawing, x0 - pad, y0 - pad - 0.04 * (y1 - y0 + 2 * pad), x1 - x0)
     if drawing.modules and np.isfinite(drawing.vmin):
         bar = fig.add_axes((0.62, 0.045, 0.34, 0.022))
@@ -110,12 +111,13 @@ def _mappable(cmap, low, high):
     return ScalarMappable(norm=Normalize(low, high), cmap=cmap)
 
 
-def _north_arrow(ax) -> None:
-    ax.add_patch(FancyArrow(0.95, 0.86, 0.0, 0.09, width=0.008, head_width=0.03,
-                            head_length=0.03, length_includes_head=True, color=colours.INK,
-                            transform=ax.transAxes, zorder=7))
-    ax.text(0.95, 0.83, "N", transform=ax.transAxes, ha="center", va="top", fontsize=9,
-            fontweight="bold", color=colours.INK)
+def _north_arrow(fig: Figure) -> None:
+    """North arrow in the band under the plan (the plan is drawn north up)."""
+    fig.add_artist(FancyArrow(0.47, 0.012, 0.0, 0.07, width=0.004, head_width=0.016,
+                              head_length=0.025, length_includes_head=True,
+                              color=colours.INK, transform=fig.transFigure))
+    fig.text(0.485, 0.03, "N", ha="left", va="center", fontsize=9, fontweight="bold",
+             color=colours.INK)
 
 
 def _scale_bar(ax, drawing, x: float, y: float, span_m: float) -> None:

@@ -109,18 +109,27 @@ def _table(pdf: _Pdf, table: Table, *, width: float | None = None, align: str = 
     pdf.ln(3.0)
 
 
-def _image(pdf: _Pdf, block: Figure, png: bytes, width: float) -> float:
-    """Place a figure at the current line; return its height [mm]."""
+def _image(pdf: _Pdf, block: Figure, png: bytes, width: float, *,
+           shrink_to: float = 1.0) -> tuple[float, float]:
+    """Place a figure at the current line; return its width and height [mm].
+
+    A figure that does not fit in what is left of the page is drawn smaller, down to
+    ``shrink_to`` of its width, or else on the next page.
+    """
     from PIL import Image
 
     with Image.open(io.BytesIO(png)) as image:
-        height = width * image.height / image.width
-    if pdf.get_y() + height + 8.0 > pdf.h - pdf.b_margin:
-        pdf.add_page()
-    top = pdf.get_y()
-    pdf.image(io.BytesIO(png), x=pdf.l_margin, y=top, w=width, h=height,
-              alt_text=block.caption)
-    return height
+        ratio = image.height / image.width
+    room = pdf.h - pdf.b_margin - pdf.get_y() - 10.0
+    if width * ratio > room:
+        if room / ratio >= shrink_to * width:
+            width = room / ratio
+        else:
+            pdf.add_page()
+    height = width * ratio
+    x = pdf.l_margin + (pdf.epw - width) / 2.0 if shrink_to < 1.0 else pdf.l_margin
+    pdf.image(io.BytesIO(png), x=x, y=pdf.get_y(), w=width, h=height, alt_text=block.caption)
+    return width, height
 
 
 def _caption(pdf: _Pdf, text: str, width: float) -> None:
@@ -132,7 +141,8 @@ def _caption(pdf: _Pdf, text: str, width: float) -> None:
 
 
 def _figure(pdf: _Pdf, block: Figure) -> None:
-    height = _image(pdf, block, figure_png(block, width_mm=pdf.epw), pdf.epw)
+    _, height = _image(pdf, block, figure_png(block, width_mm=pdf.epw), pdf.epw,
+                       shrink_to=0.6)
     pdf.set_y(pdf.get_y() + height + 1.0)
     _caption(pdf, block.caption, pdf.epw)
 
@@ -144,7 +154,7 @@ def _beside(pdf: _Pdf, block: Beside) -> None:
     if pdf.get_y() + needed > pdf.h - pdf.b_margin:
         pdf.add_page()
     top = pdf.get_y()
-    height = _image(pdf, block.figure, figure_png(block.figure, width_mm=width), width)
+    _, height = _image(pdf, block.figure, figure_png(block.figure, width_mm=width), width)
     pdf.set_y(top + height + 1.0)
     _caption(pdf, block.figure.caption, width)
     below = pdf.get_y()

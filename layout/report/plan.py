@@ -9,7 +9,7 @@ one of the table's figures on the planner's colour scale (:mod:`layout.report.co
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 import shapely
@@ -19,7 +19,18 @@ from .blocks import Figure, Paragraph, Section, number
 from .colours import figure_colours
 from .options import PLAN_METRICS
 
-__all__ = ["PlanDrawing", "layout_section", "obstruction_rows", "plan_drawing", "zone_category"]
+__all__ = [
+    "PLAN_WIDTH_MM",
+    "PlanDrawing",
+    "layout_section",
+    "number_font",
+    "obstruction_rows",
+    "plan_drawing",
+    "zone_category",
+]
+
+#: Width the plan is drawn at [mm] (fits A4 and Letter inside 15 mm margins).
+PLAN_WIDTH_MM = 178.0
 
 
 def zone_category(key: str) -> str:
@@ -55,6 +66,8 @@ class PlanDrawing:
         What the module colours show.
     vmin, vmax : float
         Ends of the colour scale (NaN when no module has a figure).
+    numbered : bool
+        Whether the modules' numbers fit inside them at :data:`PLAN_WIDTH_MM`.
     """
 
     faces: tuple
@@ -66,6 +79,7 @@ class PlanDrawing:
     metric_label: str
     vmin: float
     vmax: float
+    numbered: bool = True
 
     @property
     def unit(self) -> tuple[str, float]:
@@ -79,6 +93,23 @@ class PlanDrawing:
         if not geoms:
             return (0.0, 0.0, 10.0, 10.0)
         return tuple(float(b) for b in shapely.total_bounds(geoms))
+
+
+def number_font(drawing: PlanDrawing, *, width_in: float) -> float | None:
+    """Font size [pt] of the modules' numbers on a plan ``width_in`` wide; None if none fit.
+
+    The drawing spans its bounds plus 1 m on each side; a number fits when its digits, at
+    about 0.65 of the font size each, fit across the module's shorter side.
+    """
+    x0, _, x1, _ = drawing.bounds()
+    per_m = width_in * 72.0 * 0.98 / (x1 - x0 + 2.0)  # points of paper per metre
+    sides = [np.linalg.norm(np.diff(np.vstack([c, c[:1]]), axis=0), axis=1)[:2].min()
+             for _, _, c, _ in drawing.modules]
+    if not sides:
+        return 6.0
+    font = float(np.clip(min(sides) * per_m * 0.3, 3.0, 7.0))
+    digits = len(str(len(sides)))
+    return font if min(sides) * per_m >= digits * font * 0.65 + 1.0 else None
 
 
 def obstruction_rows(project) -> list[tuple[str, str, object, object]]:
@@ -137,9 +168,11 @@ def plan_drawing(evaluation, *, metric: str = "shade_loss_pct") -> PlanDrawing:
     finite = values[np.isfinite(values)]
     low = float(finite.min()) if len(finite) else float("nan")
     high = float(finite.max()) if len(finite) else float("nan")
-    return PlanDrawing(faces=faces, zones=tuple(zones), modules=modules, removed=removed,
-                       obstructions=obstructions, units=project.units,
-                       metric_label=PLAN_METRICS[metric], vmin=low, vmax=high)
+    drawing = PlanDrawing(faces=faces, zones=tuple(zones), modules=modules, removed=removed,
+                          obstructions=obstructions, units=project.units,
+                          metric_label=PLAN_METRICS[metric], vmin=low, vmax=high)
+    fits = number_font(drawing, width_in=PLAN_WIDTH_MM / 25.4) is not None
+    return replace(drawing, numbered=fits)
 
 
 def layout_section(evaluation, *, metric: str = "shade_loss_pct") -> Section:
@@ -148,7 +181,9 @@ def layout_section(evaluation, *, metric: str = "shade_loss_pct") -> Section:
     unit, _ = drawing.unit
     if drawing.modules:
         decimals = 0 if metric == "energy_kwh" else 1
-        scale = (f"Modules are numbered as in the appendix and coloured by "
+        numbers = ("numbered as in the appendix" if drawing.numbered else "too small at this "
+                   "scale to carry their numbers (the appendix lists them by row and column)")
+        scale = (f"Modules are {numbers} and coloured by "
                  f"{drawing.metric_label}, from {number(drawing.vmin, decimals)} (lightest) to "
                  f"{number(drawing.vmax, decimals)} (darkest).")
     else:
@@ -159,4 +194,4 @@ def layout_section(evaluation, *, metric: str = "shade_loss_pct") -> Section:
     return Section("layout", "The layout", (
         Figure("plan", drawing, caption=caption, key="plan"),
         Paragraph(scale),
-    ), new_page=True)
+    ))
