@@ -749,7 +749,7 @@ def test_click_in_select_mode_shows_the_module_in_the_sky_tab(planner):
 
 
 def test_sun_paths_reach_the_noon_elevations_of_the_solstices(planner, demo):
-    from widgets.sky_chart import sun_paths
+    from layout.sky.paths import sun_paths
 
     paths = {p.month: p for p in sun_paths(demo.site)}
     lat = demo.site.latitude
@@ -765,7 +765,7 @@ def test_sun_paths_reach_the_noon_elevations_of_the_solstices(planner, demo):
 
 def test_skyline_of_a_pole_matches_closed_form_geometry():
     from layout import Cylinder
-    from widgets.sky_chart import skyline_regions
+    from layout.shading.skyline import skyline_regions
 
     # a pole of radius 0.5 m and height 10 m, 10 m due south of a point 2 m up
     pole = Cylinder(center=(0.0, -10.0), radius=0.5, top=10.0, name="pole")

@@ -137,14 +137,16 @@ def obstructions_section(evaluation, *, loss_range=None, range_asked: bool = Fal
                      DASH if top is None else _length(top, units)))
         if entry is not None:
             entries.append((label, entry))
+    blocks = []
     if not rows:
-        return Section("obstructions", "Obstructions", (
-            Paragraph("The project has no obstructions: nothing but the roof faces themselves "
-                      "and the far horizon shades the modules."),))
-    blocks = [Table(("obstruction", "kind", "from", f"position x, y [{unit}]",
+        blocks.append(Paragraph("The project has no obstructions: nothing but the roof faces "
+                                "themselves and the far horizon shades the modules."))
+    else:
+        blocks.append(Table(("obstruction", "kind", "from", f"position x, y [{unit}]",
                      f"base [{unit}]", f"top [{unit}]"), tuple(rows),
-                    caption="Obstructions (site frame: x east, y north; heights above the "
-                            "site's zero)", align="lllrrr", key="obstructions")]
+                            caption="Obstructions (site frame: x east, y north; heights "
+                                    "above the site's zero)", align="lllrrr",
+                            key="obstructions"))
     if entries:
         blocks.append(Paragraph("Surveyed obstructions stand where their nominal readings put "
                                 "them; each reading carries a tolerance, the half-width of the "

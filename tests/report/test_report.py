@@ -354,3 +354,18 @@ def test_a_failure_while_writing_leaves_no_partial_file(tmp_path, monkeypatch):
     with pytest.raises(OSError, match="No space"):
         write_report(small_project(), target)
     assert list(tmp_path.iterdir()) == []
+
+
+def test_asking_for_the_band_draws_it_from_the_survey():
+    from layout.report import prepare_report
+
+    project = small_project(survey=(oak(bearing_deg=180.0),))
+    labels = []
+    document = prepare_report(project, options=ReportOptions(with_range=3),
+                              progress=lambda label, done, total: labels.append(label))
+    tables = {t.key: t for t in document.tables()}
+    assert "loss_range" in tables and "3 draws" in tables["loss_range"].caption
+    assert any("draw 3 of" in label for label in labels)
+    plain = prepare_report(small_project(), options=ReportOptions(with_range=3))
+    notes = [b.text for b in plain.section("obstructions").blocks if hasattr(b, "text")]
+    assert any("no surveyed obstruction" in n for n in notes)
