@@ -25,7 +25,8 @@ body { font-family: "DejaVu Sans", Verdana, sans-serif; color: #34403f; margin: 
 h1 { font-size: 18pt; margin-bottom: 0.2em; } h2 { font-size: 13.5pt; margin-top: 2em;
      border-bottom: 1px solid #cfd8d7; }
 table { border-collapse: collapse; margin: 0.6em 0 1em; font-size: 9pt; }
-caption { text-align: left; font-weight: bold; padding-bottom: 0.3em; }
+caption { text-align: left; font-weight: bold; padding-bottom: 0.3em; width: max-content;
+          max-width: 48em; }
 th, td { padding: 0.15em 0.6em; border-bottom: 1px solid #e3e8e7; }
 th { background: #eef4f3; } td.r, th.r { text-align: right; } td.l, th.l { text-align: left; }
 tr.total td { font-weight: bold; border-top: 1px solid #9fb3b1; }
