@@ -83,6 +83,7 @@ def one(value, decimals=1, thousands=False):
     """The figure as the report should print it, formatted here independently."""
     if value is None or not math.isfinite(value):
         return "–"
+    value = value if round(value, decimals) != 0 else 0.0  # a report prints no "-0.0"
     return f"{value:,.{decimals}f}" if thousands else f"{value:.{decimals}f}"
 
 
@@ -369,3 +370,21 @@ def test_asking_for_the_band_draws_it_from_the_survey():
     plain = prepare_report(small_project(), options=ReportOptions(with_range=3))
     notes = [b.text for b in plain.section("obstructions").blocks if hasattr(b, "text")]
     assert any("no surveyed obstruction" in n for n in notes)
+
+
+def test_the_comparison_rows_equal_the_comparisons_table():
+    from layout.study.compare import compare_layouts
+
+    project = small_project()
+    analysis = Analysis(project)
+    comparison = compare_layouts(project, orientations=("portrait", "landscape"),
+                                 analysis=analysis)
+    document = build_report(analysis.result, comparison=comparison)
+    rows = {r[0]: r[1:] for r in html_tables(render_html(document))["comparison"][1:]}
+    assert set(rows) == set(comparison.table.index)
+    for name, r in comparison.table.iterrows():
+        assert rows[name] == [str(int(r.modules)), str(int(r.dropped)), one(r.power_kwp, 2),
+                              one(r.energy_kwh, 0, True),
+                              one(r.specific_yield_kwh_per_kwp, 0, True),
+                              one(r.shade_loss_pct), one(r.tsrf_mean_pct),
+                              str(int(r.modules_below_tsrf))]
