@@ -10,12 +10,17 @@ from __future__ import annotations
 
 import os
 
+from ..errors import InputError
 from ..project import demo_project_path
 from ..report import ReportOptions, check_output, write_report
 from .progress import terminal_progress
 from .project_input import load_command_project, with_overrides
 
 __all__ = ["run_report"]
+
+#: The command-line option of each report setting.
+_OPTIONS = {"output": "-o", "with_range": "--with-range", "paper": "--paper",
+            "plan_metric": "--metric", "preparer": "--preparer", "licence": "--licence"}
 
 
 def run_report(project: str | None, *, output: str, demo: bool = False,
@@ -43,9 +48,13 @@ def run_report(project: str | None, *, output: str, demo: bool = False,
     preparer, licence : str, keyword-only
         Printed in the preparer's fields; blank lines to fill in by hand otherwise.
     """
-    options = ReportOptions(paper=paper, plan_metric=metric, with_range=with_range,
-                            with_compare=with_compare, preparer=preparer, licence=licence)
-    check_output(output)  # before any work
+    try:  # before any work, naming the options as they were typed
+        options = ReportOptions(paper=paper, plan_metric=metric, with_range=with_range,
+                                with_compare=with_compare, preparer=preparer, licence=licence)
+        check_output(output)
+    except InputError as err:
+        option = _OPTIONS.get(err.field, err.field)
+        raise InputError(option, err.problem, value=err.value, allowed=err.allowed) from None
     loaded, folder = load_command_project(project, demo)
     loaded = with_overrides(loaded, weather=weather, shade_model=shade_model)
     source = demo_project_path() if demo else project

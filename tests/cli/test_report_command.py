@@ -41,9 +41,9 @@ def test_report_html_with_the_comparison(tmp_path, capsys):
 
 def test_bad_report_requests_are_one_line_and_leave_nothing(tmp_path, capsys):
     for argv, words in (
-        (["-o", str(tmp_path / "demo.docx")], "unknown extension"),
-        (["-o", str(tmp_path / "no" / "demo.pdf")], "does not exist"),
-        (["-o", str(tmp_path / "demo.pdf"), "--with-range", "1"], "with_range"),
+        (["-o", str(tmp_path / "demo.docx")], "-o: has an unknown extension"),
+        (["-o", str(tmp_path / "no" / "demo.pdf")], "-o: is in a folder that does not exist"),
+        (["-o", str(tmp_path / "demo.pdf"), "--with-range", "1"], "--with-range: must be"),
     ):
         assert main(["report", "--demo", *argv]) == 1
         captured = capsys.readouterr()
