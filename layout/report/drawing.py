@@ -14,6 +14,7 @@ import math
 
 import numpy as np
 import shapely
+from matplotlib.cm import ScalarMappable
 from matplotlib.colors import LinearSegmentedColormap, Normalize
 from matplotlib.figure import Figure
 from matplotlib.patches import FancyArrow, Polygon
@@ -100,15 +101,10 @@ def _draw_plan(fig: Figure, drawing) -> None:
         bar = fig.add_axes((0.62, 0.045, 0.34, 0.022))
         cmap = LinearSegmentedColormap.from_list("eaveline", colours.FIGURE_SCALE)
         high = drawing.vmax if drawing.vmax > drawing.vmin else drawing.vmin + 1.0
-        fig.colorbar(_mappable(cmap, drawing.vmin, high), cax=bar, orientation="horizontal")
+        fig.colorbar(ScalarMappable(norm=Normalize(drawing.vmin, high), cmap=cmap), cax=bar,
+                     orientation="horizontal")
         bar.tick_params(labelsize=6.5, length=2)
         bar.set_title(drawing.metric_label, fontsize=7, color=colours.INK, pad=2)
-
-
-def _mappable(cmap, low, high):
-    from matplotlib.cm import ScalarMappable
-
-    return ScalarMappable(norm=Normalize(low, high), cmap=cmap)
 
 
 def _north_arrow(fig: Figure) -> None:
