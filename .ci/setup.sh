@@ -15,15 +15,22 @@ if [ "${1:-}" = "--test" ]; then
   extras="[test]"
 fi
 
-if [ -n "$extras" ] && ! command -v chromium >/dev/null 2>&1; then
-  # Browser tests drive Debian's Chromium through Playwright; Playwright's own browser
-  # download does not work on these machines.
-  sudo=""
-  if [ "$(id -u)" -ne 0 ] && command -v sudo >/dev/null 2>&1; then sudo="sudo"; fi
-  echo "setup: installing Debian's chromium for the browser tests (about a minute)"
-  if ! { $sudo apt-get update -qq && DEBIAN_FRONTEND=noninteractive \
-         $sudo apt-get install -y -qq chromium >/dev/null; }; then
-    echo "setup: could not install chromium; the browser tests will fail" >&2
+if [ -n "$extras" ]; then
+  # Browser tests drive Debian's Chromium through Playwright (Playwright's own browser
+  # download does not work on these machines); the report tests render PDF pages with
+  # poppler-utils' pdftoppm.
+  missing=""
+  command -v chromium >/dev/null 2>&1 || missing="$missing chromium"
+  command -v pdftoppm >/dev/null 2>&1 || missing="$missing poppler-utils"
+  if [ -n "$missing" ]; then
+    sudo=""
+    if [ "$(id -u)" -ne 0 ] && command -v sudo >/dev/null 2>&1; then sudo="sudo"; fi
+    echo "setup: installing Debian's$missing for the tests (about a minute)"
+    # shellcheck disable=SC2086
+    if ! { $sudo apt-get update -qq && DEBIAN_FRONTEND=noninteractive \
+           $sudo apt-get install -y -qq $missing >/dev/null; }; then
+      echo "setup: could not install$missing; the browser or report tests will fail" >&2
+    fi
   fi
 fi
 

@@ -26,6 +26,7 @@ STAGES = (
     ("power",),  # irradiance, electrical models, metrics, evaluation stages
     ("project", "edits", "history"),  # the document that holds a whole input, its edits
     ("study",),  # incremental analysis, comparisons, outlook, portfolios
+    ("report",),  # the shade report: reads an evaluation, renders HTML and PDF
     ("cli", "__main__"),  # the command line
 )
 

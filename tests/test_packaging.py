@@ -164,6 +164,15 @@ def test_console_script_eaveline_summary_demo(fresh, summary):
     assert done.stdout == summary
 
 
+def test_console_script_eaveline_report_demo(fresh):
+    # the report's fonts (matplotlib's DejaVu Sans) and its writers come with the install
+    target = fresh["work"] / "demo-report.pdf"
+    done = _run([fresh["bin"] / "eaveline", "report", "--demo", "-o", target],
+                cwd=fresh["work"], env=fresh["env"], timeout=180)
+    assert done.stdout.strip() == str(target)
+    assert target.read_bytes().startswith(b"%PDF-")
+
+
 def test_console_script_eaveline_planner_check(fresh):
     done = _run([fresh["bin"] / "eaveline-planner", "--check"], cwd=fresh["work"],
                 env=fresh["env"], timeout=180)

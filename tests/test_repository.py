@@ -1,5 +1,6 @@
 """Checks on the repository itself: the README's commands, CI, packaging and the core's imports."""
 
+import ast
 import re
 import subprocess
 import sys
@@ -44,17 +45,40 @@ def test_one_distribution_with_two_packages():
         assert needed in deps
 
 
+#: The report's modules that draw and lay out with matplotlib and fpdf2: the only ones in the
+#: core allowed to import matplotlib, loaded only when a report is made.
+REPORT_RENDERERS = ("layout.report.drawing", "layout.report.html", "layout.report.pdf")
+
+
 def test_importing_the_core_does_not_import_the_front_end():
     code = (
         "import sys, layout, layout.scene.roof, layout.scene.site, layout.units, layout.errors\n"
         "import pkgutil, importlib\n"
+        f"skip = {REPORT_RENDERERS!r}\n"
         "for m in pkgutil.walk_packages(layout.__path__, 'layout.'):\n"
-        "    if not m.name.endswith('__main__'): importlib.import_module(m.name)\n"
+        "    if not m.name.endswith('__main__') and m.name not in skip:\n"
+        "        importlib.import_module(m.name)\n"
         "bad = [m for m in ('ipywidgets', 'bqplot', 'widgets', 'matplotlib') if m in sys.modules]\n"
+        "for m in skip: importlib.import_module(m)\n"
+        "bad += [m for m in ('ipywidgets', 'bqplot', 'widgets') if m in sys.modules]\n"
         "print(','.join(bad))\n"
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == ""
+
+
+def test_only_the_report_package_imports_matplotlib():
+    # DEVELOPERS.md: static figures may use matplotlib in layout/report only
+    offenders = []
+    for path in sorted((ROOT / "layout").rglob("*.py")):
+        tree = ast.parse(path.read_text(encoding="utf-8"))
+        for node in ast.walk(tree):
+            names = [a.name for a in node.names] if isinstance(node, ast.Import) else \
+                [node.module or ""] if isinstance(node, ast.ImportFrom) else []
+            if any(n.split(".")[0] == "matplotlib" for n in names) \
+                    and "report" not in path.relative_to(ROOT / "layout").parts[:1]:
+                offenders.append(str(path.relative_to(ROOT)))
+    assert offenders == []
 
 
 def test_ruff_is_clean():

@@ -749,7 +749,7 @@ def test_click_in_select_mode_shows_the_module_in_the_sky_tab(planner):
 
 
 def test_sun_paths_reach_the_noon_elevations_of_the_solstices(planner, demo):
-    from widgets.sky_chart import sun_paths
+    from layout.sky.paths import sun_paths
 
     paths = {p.month: p for p in sun_paths(demo.site)}
     lat = demo.site.latitude
@@ -765,7 +765,7 @@ def test_sun_paths_reach_the_noon_elevations_of_the_solstices(planner, demo):
 
 def test_skyline_of_a_pole_matches_closed_form_geometry():
     from layout import Cylinder
-    from widgets.sky_chart import skyline_regions
+    from layout.shading.skyline import skyline_regions
 
     # a pole of radius 0.5 m and height 10 m, 10 m due south of a point 2 m up
     pole = Cylinder(center=(0.0, -10.0), radius=0.5, top=10.0, name="pole")
@@ -1101,3 +1101,19 @@ def test_loss_band_is_the_cores_for_the_same_seed(planner, reference):
     drop_marker(planner, TREE, -1.0, -6.0)
     assert "press <b>Loss range</b>" in planner.loss_panel.band_label.value
     assert "range" not in planner.totals_panel.module_readout.value
+
+
+def test_the_file_tab_writes_the_report_and_shows_its_path(tmp_path):
+    planner = Planner(load_demo_project())
+    planner.file_panel.report_path.value = str(tmp_path / "demo-report.html")
+    written = planner.file_panel.make_report()
+    assert written == tmp_path / "demo-report.html" and written.is_file()
+    assert str(written) in planner.file_panel.file_message.value
+    assert "Report written" in planner.status_line.message.value
+    assert planner.status_line.progress.layout.visibility == "hidden"
+    # the report's numbers are the planner's: the same evaluation
+    assert f"{planner.result.totals['energy_kwh']:,.0f}" in written.read_text(encoding="utf-8")
+    planner.file_panel.report_path.value = str(tmp_path / "demo-report.docx")
+    assert planner.file_panel.make_report() is None
+    assert "unknown extension" in planner.file_panel.file_message.value
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["demo-report.html"]

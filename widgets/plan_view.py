@@ -26,6 +26,7 @@ import ipywidgets as w
 import numpy as np
 import shapely
 
+from layout.report.plan import zone_category
 from layout.units import FOOT_M, format_length
 
 from . import style
@@ -122,16 +123,6 @@ class PlanScene:
         return tuple(float(b) for b in shapely.total_bounds(geoms))
 
 
-def _zone_category(key: str) -> str:
-    if key.endswith("setback"):
-        return "setback"
-    if key.startswith("pathway"):
-        return "pathway"
-    if key.endswith("clearance"):
-        return "clearance"
-    return "obstruction"
-
-
 def plan_scene(project, layout, areas: dict) -> PlanScene:
     """Collect the plan drawing of a project from the core's results.
 
@@ -161,7 +152,7 @@ def plan_scene(project, layout, areas: dict) -> PlanScene:
         face = by_name[name]
         usable.append((name, shapely.transform(area.polygon, face.roof_to_plan)))
         for key, zone in area.zones.items():
-            zones.append((name, key, _zone_category(key),
+            zones.append((name, key, zone_category(key),
                           shapely.transform(zone, face.roof_to_plan)))
     removed = {m.id for m in layout.removed_modules}
     modules = tuple((m.id, np.asarray(m.corners_3d, dtype=float)[:, :2], m.id not in removed)

@@ -63,6 +63,7 @@ import ipywidgets as w
 from layout.errors import InputError
 from layout.history import ProjectHistory
 from layout.project import ProjectFileError
+from layout.report import ReportOptions, write_report
 from layout.sky.sun import TYPICAL_YEAR
 from layout.study.analysis import Analysis
 from layout.study.compare import compare_layouts
@@ -252,6 +253,7 @@ class Planner(w.VBox):
         self.file_panel = FilePanel(path)
         self.file_panel.on_load(self._file_loaded)
         self.file_panel.on_saved(self._saved)
+        self.file_panel.on_report(self.write_report)
         self.roof_panel = RoofPanel()
         self.roof_panel.on_change(self._roof_edited)
         self.roof_panel.on_preview(self.plan.show_preview)
@@ -651,6 +653,46 @@ class Planner(w.VBox):
         self._status(f"Loss range over {band.samples} draws (seed {band.seed}) in "
                      f"{time.perf_counter() - start:.1f} s.")
         return band
+
+    def write_report(self, path=None, *, options: ReportOptions | None = None) -> Path:
+        """Write the shade report of the project shown (:func:`layout.report.write_report`).
+
+        The report reuses the planner's analysis and, when it is current, its loss range;
+        the status line shows the progress.
+
+        Parameters
+        ----------
+        path : str or pathlib.Path, optional
+            ``.pdf`` or ``.html``; default the File tab's report path.
+        options : layout.report.ReportOptions, keyword-only, optional
+
+        Returns
+        -------
+        pathlib.Path
+            The file written.
+        """
+        path = self.file_panel.report_path.value if path is None else path
+
+        def progress(label: str, done: int, total: int) -> None:
+            self.status_line.show_progress(done, total)
+            self._status(f"Report: {label}…", busy=True)
+
+        source = Path(self.file_panel.project_path.value).expanduser()
+        self._status("Writing the report…", busy=True)
+        try:
+            written = write_report(self.project, path, options=options, analysis=self.analysis,
+                                   base_dir=self._base_dir,
+                                   source=source if source.is_file() else None,
+                                   loss_range=self.loss_range if self._range_current() else None,
+                                   progress=progress)
+        except Exception as err:
+            self.analysis.update(self.project)  # back to the project shown
+            self._status(f"No report: {err}", error=True)
+            raise
+        finally:
+            self._progress_done()
+        self._status(f"Report written: {written}")
+        return written
 
     def _units_changed(self, change) -> None:
         if self.project is not None and change["new"] != self.project.units:

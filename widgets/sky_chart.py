@@ -6,25 +6,24 @@ the far horizon hide from the module's centre, each in its own colour with its n
 path runs through a region, the module is shaded at that hour of that part of the year, and the
 region's name says by what.
 
-Both inputs come from the core: the sun's positions from :func:`layout.sky.sun.solar_position` and
-the hidden sky from :func:`layout.shading.obstruction_hits`, ray-tested over a grid of
+Both inputs come from the core: the sun's paths from :func:`layout.sky.paths.sun_paths` and
+the hidden sky from :func:`layout.shading.skyline.skyline_regions`, ray-tested over a grid of
 directions (the same exact ray tests the energy model uses). Nothing here computes geometry or
-physics of its own; the grid cells are only gathered into outlines for drawing.
+physics of its own.
 """
 
 from __future__ import annotations
 
 import html
-from dataclasses import dataclass
 
 import bqplot as bq
 import ipywidgets as w
 import numpy as np
 import pandas as pd
-import shapely
 
-from layout.shading import obstruction_hits
-from layout.sky.sun import TYPICAL_YEAR, solar_position, sun_vectors
+from layout.shading.skyline import SkyRegion, skyline_regions
+from layout.sky.paths import KEY_PATHS, MONTH_NAMES, SunPath, sun_paths
+from layout.sky.sun import TYPICAL_YEAR
 
 from . import style
 from .plan_view import polygon_rings
@@ -37,164 +36,6 @@ __all__ = [
     "skyline_regions",
     "sun_paths",
 ]
-
-#: Days whose sun path is drawn: the 21st of each month (common practice for sun-path charts).
-PATH_DAY = 21
-#: Paths drawn bold and labelled: the two solstices and the equinox (21 Jun, 21 Dec, 21 Mar;
-#: within a day or two of the astronomical dates, from memory).
-KEY_PATHS = {6: "21 Jun", 12: "21 Dec", 3: "21 Mar / Sep"}
-MONTH_NAMES = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov",
-               "Dec")
-
-
-@dataclass(frozen=True)
-class SunPath:
-    """The sun's path over one day, above the horizon only.
-
-    Attributes
-    ----------
-    label : str
-        ``"21 Jun"`` ...
-    month : int
-        Calendar month 1-12.
-    azimuth_deg, elevation_deg : numpy.ndarray
-        Sun azimuth (clockwise from north) and apparent elevation [degrees]; NaN elevations
-        split the path where it crosses north (azimuth 0 / 360).
-    hours : numpy.ndarray
-        Local clock hour of each point [h].
-    """
-
-    label: str
-    month: int
-    azimuth_deg: np.ndarray
-    elevation_deg: np.ndarray
-    hours: np.ndarray
-
-
-def sun_paths(site, *, year: int = TYPICAL_YEAR, step_minutes: int = 10) -> list[SunPath]:
-    """Sun paths of the 21st of every month at a site, from :func:`layout.sky.sun.solar_position`.
-
-    Parameters
-    ----------
-    site : layout.scene.site.Site
-        The site.
-    year : int, keyword-only
-        Calendar year of the dates [year].
-    step_minutes : int, keyword-only, default 10
-        Spacing of the points along each path [minutes].
-
-    Returns
-    -------
-    list of SunPath
-        January to December.
-    """
-    paths = []
-    per_day = 24 * 60 // int(step_minutes)
-    for month in range(1, 13):
-        start = pd.Timestamp(year, month, PATH_DAY).tz_localize(site.timezone)
-        times = pd.date_range(start, periods=per_day + 1, freq=f"{int(step_minutes)}min")
-        position = solar_position(site, times)
-        up = position["sun_up"].to_numpy()
-        az = position["azimuth"].to_numpy()[up]
-        el = position["apparent_elevation"].to_numpy()[up].copy()
-        hours = (times.hour + times.minute / 60.0).to_numpy()[up]
-        if len(az) > 1:  # break the line where it wraps across north
-            wrap = np.flatnonzero(np.abs(np.diff(az)) > 180.0) + 1
-            az = np.insert(az, wrap, np.nan)
-            el = np.insert(el, wrap, np.nan)
-            hours = np.insert(hours, wrap, np.nan)
-        paths.append(SunPath(label=f"{PATH_DAY} {MONTH_NAMES[month - 1]}", month=month,
-                             azimuth_deg=az, elevation_deg=el, hours=hours))
-    return paths
-
-
-@dataclass(frozen=True)
-class SkyRegion:
-    """The part of the sky one caster hides from a point.
-
-    Attributes
-    ----------
-    label : str
-        The caster's name (or its kind).
-    kind : str
-        ``"tree"``, ``"block"``, ``"cylinder"``, ``"roof"`` or ``"horizon"``.
-    outline : shapely geometry
-        Hidden directions as polygons in (azimuth, elevation) [degrees].
-    top_deg : float
-        Highest hidden elevation [degrees].
-    top_azimuth_deg : float
-        Azimuth of that highest point [degrees].
-    """
-
-    label: str
-    kind: str
-    outline: object
-    top_deg: float
-    top_azimuth_deg: float
-
-
-def _caster_kind(caster) -> str:
-    name = type(caster).__name__
-    return {"Plate": "roof", "HorizonProfile": "horizon"}.get(name, name.lower())
-
-
-def _caster_label(caster, index: int) -> str:
-    name = getattr(caster, "name", "") or ""
-    kind = _caster_kind(caster)
-    if kind == "roof":
-        return f"roof {name}".strip()
-    if kind == "horizon":
-        return name or "far horizon"
-    return name or f"{kind} {index}"
-
-
-def skyline_regions(point, casters, *, azimuth_step_deg: float = 2.0,
-                    elevation_step_deg: float = 1.0) -> list[SkyRegion]:
-    """Find the sky each caster hides from a point, by ray tests over a grid of directions.
-
-    Every cell centre of an azimuth × elevation grid (0-360°, 0-90°) is a direction; the core's
-    :func:`layout.shading.obstruction_hits` says which of them each caster blocks, and the
-    blocked cells are merged into outlines.
-
-    Parameters
-    ----------
-    point : array_like, shape (3,)
-        The point seen from (a module's centre), site frame [m].
-    casters : sequence
-        Obstructions, roof plates and horizon profiles (:func:`layout.power.energy.scene_casters`).
-    azimuth_step_deg, elevation_step_deg : float, keyword-only
-        Grid spacing [degrees].
-
-    Returns
-    -------
-    list of SkyRegion
-        One per caster that hides any of the sky, in the casters' order.
-    """
-    da, de = float(azimuth_step_deg), float(elevation_step_deg)
-    n_az, n_el = round(360.0 / da), round(90.0 / de)
-    i, j = np.meshgrid(np.arange(n_az), np.arange(n_el), indexing="ij")
-    azimuth = (i + 0.5) * da
-    elevation = (j + 0.5) * de
-    directions = sun_vectors(azimuth.ravel(), elevation.ravel())
-    origin = np.asarray(point, dtype=float).reshape(1, 3)
-    cells = shapely.box(i.ravel() * da, j.ravel() * de, (i.ravel() + 1) * da,
-                        (j.ravel() + 1) * de)
-    regions = []
-    for index, caster in enumerate(casters):
-        hits = obstruction_hits(origin, directions, caster)
-        blocked = np.zeros(len(directions), dtype=bool)
-        if hits.blocked_steps is not None:
-            blocked |= np.asarray(hits.blocked_steps, dtype=bool)
-        blocked[hits.step] = True
-        if not blocked.any():
-            continue
-        outline = shapely.coverage_union_all(cells[blocked])
-        top = int(np.argmax(np.where(blocked, elevation.ravel(), -1.0)))
-        regions.append(SkyRegion(label=_caster_label(caster, index), kind=_caster_kind(caster),
-                                 outline=outline, top_deg=float(elevation.ravel()[top] + de / 2),
-                                 top_azimuth_deg=float(azimuth.ravel()[top])))
-    return regions
-
 
 def _padded(rings):
     if not rings:

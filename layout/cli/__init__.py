@@ -21,6 +21,10 @@ batch SOURCE -o OUT [--format parquet|csv] [--module-tables] [--scheduler ADDRES
     Evaluate every project of a folder (or listed in a CSV) on Dask, one row per project, with
     failures in their rows; a rerun skips what is already written (:mod:`layout.study.portfolio`;
     ``python -m layout batch --help`` lists the options).
+report [PROJECT | --demo] -o OUT.pdf|OUT.html [--paper a4|letter] [--with-range N]
+       [--with-compare] [--metric FIGURE] [--preparer NAME] [--licence NO] [--weather FILE]
+    The shade report (:mod:`layout.report`): the file is written whole or not at all, and
+    its path printed; the output path is checked before any work.
 
 Exit status 0 on success, 1 for bad input (one line on standard error: the file, the field and
 the allowed range), 2 for a misused command line. Progress goes to standard error when it is
@@ -31,8 +35,8 @@ Modules
 :mod:`.parser` holds every command's options and help; :mod:`.dispatch` turns argv into a call
 of the command's function and errors into exit statuses; one module per command does the work
 and the printing from plain values (:mod:`.summary`, :mod:`.check`, :mod:`.evaluate`, with the
-keys of the JSON report, :mod:`.compare`, :mod:`.batch`). Nothing else in ``layout`` imports
-this package.
+keys of the JSON report, :mod:`.compare`, :mod:`.batch`, :mod:`.report`). Nothing else in
+``layout`` imports this package.
 """
 
 from .compare import comparison_report, comparison_summary

@@ -12,6 +12,7 @@ from .check import run_check
 from .compare import run_compare
 from .evaluate import run_evaluate
 from .parser import batch_parser, command_parser
+from .report import run_report
 from .summary import run_summary
 
 __all__ = ["main", "one_line", "portfolio_main"]
@@ -85,6 +86,11 @@ def main(argv: Sequence[str] | None = None) -> int:
                         keep_worst=args.keep_worst, min_tsrf=args.min_tsrf,
                         min_energy=args.min_energy, max_shade_loss=args.max_shade_loss,
                         as_json=args.json)
+        elif args.command == "report":
+            run_report(args.project, demo=args.demo, output=args.output, weather=args.weather,
+                       shade_model=args.shade_model, paper=args.paper,
+                       with_range=args.with_range, with_compare=args.with_compare,
+                       metric=args.metric, preparer=args.preparer, licence=args.licence)
     except ProjectFileError as err:
         # check lists every problem; the other commands give one line
         print(err if args.command == "check" else f"error: {one_line(err)}", file=sys.stderr)

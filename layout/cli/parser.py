@@ -7,7 +7,7 @@ import argparse
 from ..fill.faces import FILL_ORIENTATIONS
 from ..power.electrical import SHADE_MODELS
 
-__all__ = ["batch_parser", "command_parser", "fill_orientations"]
+__all__ = ["batch_parser", "command_parser", "fill_orientations", "report_parser"]
 
 
 def fill_orientations(text: str) -> tuple[str, ...]:
@@ -32,7 +32,7 @@ def fill_orientations(text: str) -> tuple[str, ...]:
 
 
 def command_parser() -> argparse.ArgumentParser:
-    """Return the parser of ``python -m layout``: summary, check, evaluate, batch, compare.
+    """Return the parser of ``python -m layout``: summary, check, evaluate, batch, compare, report.
 
     ``batch`` is listed for its help line only; its options are :func:`batch_parser`'s.
     """
@@ -79,7 +79,38 @@ def command_parser() -> argparse.ArgumentParser:
                          help="drop modules with shade loss above PCT")
     compare.add_argument("--keep-worst", action="store_true",
                          help="compare the full fills only")
+    report_parser(commands)
     return parser
+
+
+def report_parser(commands) -> argparse.ArgumentParser:
+    """Add ``report`` (the shade report as PDF or HTML) to the subcommands; return its parser."""
+    # imported here: the report options are light, the report's writers are loaded on use
+    from ..report.options import PAPERS, PLAN_METRICS
+
+    report = commands.add_parser("report", help="write the shade report of a project as PDF "
+                                                "or HTML")
+    report.add_argument("project", nargs="?", help="a .eaveline.json project file")
+    report.add_argument("--demo", action="store_true", help="use the bundled demo project")
+    report.add_argument("-o", "--output", required=True, metavar="OUT",
+                        help="the report file: OUT.pdf or OUT.html")
+    report.add_argument("--weather", metavar="FILE",
+                        help="a TMY3 .csv, TMY2 .tm2 or EPW .epw weather file (instead of the "
+                             "project's; default clear sky)")
+    report.add_argument("--shade-model", choices=SHADE_MODELS,
+                        help="bypass-diode shade model (instead of the project's)")
+    report.add_argument("--paper", choices=tuple(PAPERS),
+                        help="PDF paper (default: letter for imperial projects, else a4)")
+    report.add_argument("--with-range", type=int, metavar="N",
+                        help="add the 5-95 %% shade loss band over the survey's tolerances, "
+                             "from N draws")
+    report.add_argument("--with-compare", action="store_true",
+                        help="add portrait against landscape")
+    report.add_argument("--metric", choices=tuple(PLAN_METRICS), default="shade_loss_pct",
+                        help="the figure the plan colours modules by (default shade_loss_pct)")
+    report.add_argument("--preparer", default="", help="name of the person preparing it")
+    report.add_argument("--licence", default="", help="their licence number")
+    return report
 
 
 def batch_parser() -> argparse.ArgumentParser:

@@ -46,6 +46,7 @@ __all__ = [
     "layout_totals",
     "module_table",
     "month_hour_loss",
+    "monthly_solar_access",
     "monthly_table",
     "worst_modules",
 ]
@@ -322,6 +323,34 @@ def monthly_table(power, *, step_minutes: float, columns=None) -> pd.DataFrame:
                                                  monthly["energy_unshaded_kwh"])
     monthly.attrs["energy_basis"] = basis
     return monthly
+
+
+def monthly_solar_access(irradiance, *, columns=None) -> pd.Series:
+    """Solar access month by month: insolation with shade over the same without [%].
+
+    By the definition of this module (plane-of-array insolation before incidence-angle
+    losses, on each module's own plane), summed over the chosen modules and the month's steps.
+
+    Parameters
+    ----------
+    irradiance : layout.power.irradiance.ModuleIrradiance
+        Plane-of-array irradiance per step and module, with and without shade.
+    columns : array_like of int or bool, keyword-only, optional
+        Modules (columns of ``irradiance``) to include; default all.
+
+    Returns
+    -------
+    pandas.Series
+        ``solar_access_pct`` indexed by month 1–12 [%]; NaN in a month without light.
+    """
+    shaded = np.asarray(irradiance.poa_global, dtype=float)
+    unshaded = np.asarray(irradiance.poa_global_unshaded, dtype=float)
+    if columns is not None:
+        shaded, unshaded = shaded[:, columns], unshaded[:, columns]
+    month, _ = _calendar(irradiance.times)
+    sums, sums_unshaded = _sums_by(month, 12, shaded, unshaded)
+    return pd.Series(_percent(sums, sums_unshaded), index=pd.RangeIndex(1, 13, name="month"),
+                     name="solar_access_pct")
 
 
 def month_hour_loss(power, *, columns=None) -> pd.DataFrame:
