@@ -26,6 +26,7 @@ from .scene.roof import EDGE_KINDS, RoofFace, building_to_site
 
 __all__ = [
     "add_building",
+    "add_face",
     "blank_project",
     "edit_face",
     "move_building",
@@ -101,6 +102,32 @@ def add_building(project: Project, building: Building) -> Project:
                              "(give the building a name: it prefixes its faces)")
     _check_clear_of_others(project, building, skip=None)
     return replace(project, buildings=(*project.buildings, building))
+
+
+def add_face(project: Project, building_name: str, face: RoofFace) -> Project:
+    """Return the project with one more roof face on an existing building.
+
+    For roofs drawn face by face: the face joins the building's other faces (sharing their
+    edges where its corners were snapped onto theirs, :func:`layout.scene.outlines.snap_corners`).
+
+    Raises
+    ------
+    InputError
+        If the building is unknown, the face's name is taken, or the face overlaps another
+        face of the building or another building in plan.
+    """
+    index = _index(project, building_name)
+    building = project.buildings[index]
+    taken = {f.name for b in project.buildings for f in b.faces}
+    if face.name in taken:
+        raise InputError("name", "is already the name of a face", value=face.name,
+                         allowed="a face name unique in the project")
+    grown = Building(faces=(*building.faces, face), name=building.name,
+                     parapet_height_m=building.parapet_height_m)  # checks the faces' overlap
+    _check_clear_of_others(project, grown, skip=building_name)
+    buildings = list(project.buildings)
+    buildings[index] = grown
+    return replace(project, buildings=tuple(buildings))
 
 
 def remove_building(project: Project, name: str) -> Project:

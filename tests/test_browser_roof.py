@@ -123,3 +123,70 @@ def _core_layout(template):
     site = Site(39 + 44 / 60 + 21 / 3600, -(104 + 59 / 60 + 24 / 3600), "America/Denver")
     project = replace(placeholder_project(), site=site)
     return add_building(project, replace(template, name="house").build()).layout()
+
+
+def _axis_scale(page, side: str) -> tuple[float, float]:
+    """Pixels per metre and the pixel of 0 m along one plan axis, read off its tick labels."""
+    axis = page.locator(".eaveline-plan g.axis").nth(0 if side == "x" else 1)
+    ticks = axis.locator("g.tick")
+    values, pixels = [], []
+    for k in range(ticks.count()):
+        tick = ticks.nth(k)
+        text = (tick.locator("text").text_content() or "").replace("\u2212", "-")
+        box = tick.locator("line").bounding_box()
+        if not text.strip() or box is None:
+            continue
+        values.append(float(text))
+        pixels.append(box["x"] + box["width"] / 2 if side == "x" else box["y"] + box["height"] / 2)
+    per_m = (pixels[-1] - pixels[0]) / (values[-1] - values[0])
+    return per_m, pixels[0] - values[0] * per_m
+
+
+def test_a_five_corner_outline_drawn_by_clicking(new_project_url, tmp_path):
+    from playwright.sync_api import expect, sync_playwright
+
+    chromium = require_browser_tools()
+    with sync_playwright() as p:
+        browser = p.chromium.launch(executable_path=chromium, args=CHROMIUM_ARGS)
+        try:
+            page = browser.new_page(viewport={"width": 1400, "height": 1100})
+            page.route("**/*", lambda route: route.continue_()
+                       if route.request.url.startswith(new_project_url) else route.abort())
+            page.goto(new_project_url, wait_until="domcontentloaded")
+            start = page.locator("button.eaveline-new-project")
+            start.wait_for(timeout=60_000)
+            page.locator(".eaveline-new-latitude input").fill("45.5")
+            page.locator(".eaveline-new-longitude input").fill("-122.6")
+            expect(page.locator(".eaveline-new-timezone input")).to_have_value(
+                "America/Los_Angeles", timeout=15_000)
+            start.click()
+            expect(page.locator(".eaveline-count")).to_contain_text(NONE, timeout=20_000)
+
+            page.get_by_text("Draw an outline", exact=True).click()
+            page.locator(".eaveline-draw-toggle").click()
+            per_x, x0 = _axis_scale(page, "x")
+            per_y, y0 = _axis_scale(page, "y")
+            # a pentagon of our own: a 12 × 8 m rectangle with a gable point 3 m above it
+            corners_m = [(-6.0, -4.0), (6.0, -4.0), (6.0, 4.0), (0.0, 7.0), (-6.0, 4.0)]
+            clicked = [(x0 + x * per_x, y0 + y * per_y) for x, y in corners_m]
+            listing = page.locator(".eaveline-draw-corners")
+            for k, (px, py) in enumerate(clicked):
+                page.mouse.click(px, py)
+                expect(listing).to_contain_text(f"{k + 1} corner", timeout=10_000)
+            page.mouse.click(*clicked[0])  # the first corner again closes the outline
+            expect(listing).to_contain_text("closed", timeout=10_000)
+            lengths = [float(v) for v in re.findall(r"edge \d+: ([\d.]+) m",
+                                                    listing.inner_text())]
+            # edge lengths from the clicked points, within a pixel or two of the axes' scale
+            expected = [((b[0] - a[0]) ** 2 + (b[1] - a[1]) ** 2) ** 0.5
+                        for a, b in zip(corners_m, corners_m[1:] + corners_m[:1], strict=True)]
+            assert lengths == pytest.approx(expected, abs=3 / abs(per_x))
+            page.locator(".eaveline-draw-pitch-deg input").fill("0")
+            page.locator(".eaveline-draw-eave-height-m input").fill("3")
+            page.locator("button.eaveline-draw-add").click()
+            page.wait_for_function(
+                "() => /[1-9]\\d*\\s+modules/.test("
+                "document.querySelector('.eaveline-count').innerText)", timeout=30_000)
+            page.screenshot(path=str(tmp_path / "drawn-outline.png"), full_page=True)
+        finally:
+            browser.close()

@@ -143,3 +143,57 @@ def test_undo_takes_back_module_clicks_and_knows_the_saved_version(tmp_path):
     assert planner.redo() and len(planner.project.removed) == 1
     assert not planner.redo()
     assert "Nothing to redo" in planner.status_line.message.value
+
+
+def _click(planner, x, y):
+    """What the front end does on a click while drawing: append the point to x and y."""
+    import numpy as np
+
+    mark = planner.plan.draw_points
+    with mark.hold_trait_notifications():
+        mark.x = np.r_[mark.x, x]
+        mark.y = np.r_[mark.y, y]
+
+
+def test_drawing_an_outline_by_clicks_adds_a_building_then_a_snapped_face(fresh):
+    _start(fresh, units="metric")
+    panel = fresh.roof_panel
+    panel.draw_toggle.value = True
+    assert fresh.plan.draw_points.interactions == {"click": "add"}
+    for x, y in [(0, 0), (10, 0), (10, 6), (5, 9), (0, 6)]:
+        _click(fresh, x, y)
+    assert "5 corners" in panel.corner_list.value and "edge 1: 10.000 m" in panel.corner_list.value
+    assert len(fresh.plan.first_corner.x) == 1  # a target to close on
+    fresh.plan.first_corner.selected = [0]  # a click on the first corner closes the outline
+    assert panel.closed and fresh.plan.draw_points.interactions == {}
+    panel.draw_pitch.input.value = "4/12"
+    panel.draw_eave.input.value = "3"
+    assert panel.add_drawn()
+    (building,) = fresh.project.buildings
+    assert building.faces[0].azimuth_deg == pytest.approx(180.0)
+    assert building.plan_area_m2 == pytest.approx(10 * 6 + 0.5 * 10 * 3)
+    # a second face, clicked a few centimetres off the first one's corners, shares its edge
+    panel.draw_toggle.value = True
+    for x, y in [(10.05, 0.02), (16, 0), (16, 6), (10.1, 6.05)]:
+        _click(fresh, x, y)
+    assert panel.close_outline()
+    panel.draw_into.input.value = building.name
+    panel.draw_pitch.input.value = "0"
+    assert panel.add_drawn()
+    second = fresh.project.buildings[0].faces[1]
+    assert second.outline[0] == (10.0, 0.0) and second.outline[3] == (10.0, 6.0)
+    fresh.undo()
+    assert len(fresh.project.buildings[0].faces) == 1
+
+
+def test_a_crossing_outline_is_refused_and_kept_for_fixing(fresh):
+    _start(fresh, units="metric")
+    panel = fresh.roof_panel
+    panel.draw_toggle.value = True
+    for x, y in [(0, 0), (5, 0), (0, 5), (5, 5)]:
+        _click(fresh, x, y)
+    assert not panel.close_outline()
+    assert "crosses itself" in panel.draw_message.value
+    assert len(panel.corners) == 4 and panel.draw_add.disabled
+    panel.take_back_corner()
+    assert len(panel.corners) == 3

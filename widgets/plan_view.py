@@ -276,6 +276,8 @@ class PlanView(Quiet, w.VBox):
         self._clicked: list[Callable] = []
         self._survey_clicked: list[Callable] = []
         self._face_clicked: list[Callable] = []
+        self._corner_added: list[Callable] = []
+        self._first_corner_clicked: list[Callable] = []
         self._surveyed_index: list[int] = []
         self.module_values = None
         self.module_values_label = ""
@@ -327,6 +329,18 @@ class PlanView(Quiet, w.VBox):
                                     default_size=12, align="middle", font_weight="bold")
         self.preview_marks = lines(colors=[style.PREVIEW_EDGE], stroke_width=2.0,
                                    close_path=True, line_style="dashed")
+        # drawing an outline: a click on the plan adds a corner (bqplot's "add" interaction,
+        # switched on only while the Roof tab's drawing is on)
+        self.draw_lines = lines(colors=[style.PREVIEW_EDGE], stroke_width=2.0)
+        self.draw_points = bq.Scatter(x=[], y=[], scales=scales, marker="circle",
+                                      default_size=36, colors=[style.PREVIEW_EDGE],
+                                      stroke="white", stroke_width=1.0, interactions={})
+        self.first_corner = bq.Scatter(
+            x=[], y=[], scales=scales, marker="square", default_size=110,
+            colors=["white"], stroke=style.PREVIEW_EDGE, stroke_width=2.0,
+            interactions={"click": "select", "hover": "tooltip"},
+            tooltip=bq.Tooltip(fields=["name"], labels=["click to close the outline"]),
+            display_names=False, selected_style={}, unselected_style={})
         self.face_targets = bq.Scatter(
             x=[], y=[], scales=scales, marker="square", default_size=90,
             colors=[style.INK], opacities=[0.0], stroke=None,
@@ -377,6 +391,7 @@ class PlanView(Quiet, w.VBox):
                    self.shadow_marks, self.tree_marks, self.obstruction_marks,
                    self.sight_marks, self.edge_labels, self.face_labels, self.selected_mark,
                    self.module_targets, self.face_targets, self.preview_marks,
+                   self.draw_lines, self.draw_points, self.first_corner,
                    self.station_marks, self.surveyed_markers, self.obstruction_markers],
             axes=[self.x_axis, self.y_axis],
             fig_margin=dict(FIGURE_MARGIN_PX), display_toolbar=False,
@@ -404,6 +419,8 @@ class PlanView(Quiet, w.VBox):
         self.obstruction_markers.on_drag_end(self._marker_drag_ended)
         self.module_targets.observe(self._module_selected, names=["selected"])
         self.face_targets.observe(self._face_selected, names=["selected"])
+        self.draw_points.observe(self._draw_point_added, names=["x"])
+        self.first_corner.observe(self._first_corner_selected, names=["selected"])
         self.surveyed_markers.observe(self._surveyed_selected, names=["selected"])
         super().__init__([w.HBox([self.zoom_toggle, self.fit_button, self.hint],
                                  layout=w.Layout(align_items="center")),
@@ -449,6 +466,55 @@ class PlanView(Quiet, w.VBox):
         if index is not None and 0 <= index < len(names):
             for callback in self._face_clicked:
                 callback(names[index])
+
+    def set_drawing(self, on: bool) -> None:
+        """Let clicks on the plan add corners of an outline (on), or stop them (off)."""
+        self.draw_points.interactions = {"click": "add"} if on else {}
+
+    def on_corner_added(self, callback: Callable) -> None:
+        """Call ``callback(x_m, y_m)`` with each corner clicked on the plan while drawing."""
+        self._corner_added.append(callback)
+
+    def on_first_corner_clicked(self, callback: Callable) -> None:
+        """Call ``callback()`` when the first corner of the outline being drawn is clicked."""
+        self._first_corner_clicked.append(callback)
+
+    def _first_corner_selected(self, change) -> None:
+        if self._clicked_point(change, self.first_corner) is not None:
+            for callback in self._first_corner_clicked:
+                callback()
+
+    def _draw_point_added(self, change) -> None:
+        # the front end appends the clicked point to x, then to y: read both once y has it
+        if self._quiet or len(change["new"]) <= len(change["old"] if change["old"] is not None
+                                                   else ()):
+            return
+        x, y = self.draw_points.x, self.draw_points.y
+        if len(y) < len(x):
+            self.draw_points.observe(self._draw_y_arrived, names=["y"])
+            return
+        self._emit_corner(float(x[-1]), float(y[-1]))
+
+    def _draw_y_arrived(self, change) -> None:
+        self.draw_points.unobserve(self._draw_y_arrived, names=["y"])
+        x = self.draw_points.x
+        self._emit_corner(float(x[-1]), float(change["new"][-1]))
+
+    def _emit_corner(self, x: float, y: float) -> None:
+        for callback in self._corner_added:
+            callback(x / self._k, y / self._k)
+
+    def show_drawing(self, corners=(), *, closed: bool = False) -> None:
+        """Draw the corners of the outline being drawn [m], joined, closed when ``closed``."""
+        points = np.asarray(corners, dtype=float).reshape(-1, 2) * self._k
+        path = np.vstack([points, points[:1]]) if closed and len(points) else points
+        with self._silently(), self.draw_points.hold_sync(), self.draw_lines.hold_sync():
+            self.draw_points.x, self.draw_points.y = points[:, 0], points[:, 1]
+            self.draw_lines.x = path[:, 0] if len(path) > 1 else []
+            self.draw_lines.y = path[:, 1] if len(path) > 1 else []
+            # the first corner is a target to click once the outline could close
+            first = points[:1] if len(points) >= 3 and not closed else points[:0]
+            self.first_corner.x, self.first_corner.y = first[:, 0], first[:, 1]
 
     def show_preview(self, building=None) -> None:
         """Draw a building's face outlines dashed (a template being typed), or clear them."""

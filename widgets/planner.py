@@ -257,6 +257,9 @@ class Planner(w.VBox):
         self.roof_panel = RoofPanel()
         self.roof_panel.on_change(self._roof_edited)
         self.roof_panel.on_preview(self.plan.show_preview)
+        self.roof_panel.on_drawing(self._outline_drawn)
+        self.plan.on_corner_added(self.roof_panel.add_corner)
+        self.plan.on_first_corner_clicked(self.roof_panel.close_outline)
         self.plan.on_face_clicked(self._face_clicked)
         self.tabs = w.Tab(children=[self.roof_panel, self.module_panel, self.objects, self.survey,
                                     self.sky_panel, self.hours_panel, self.compare_panel,
@@ -530,6 +533,10 @@ class Planner(w.VBox):
             self.plan.fit()  # a building came or went: show the whole site again
         self.plan_buildings = tuple(b.name for b in project.buildings)
         return accepted
+
+    def _outline_drawn(self, drawing: bool, corners, closed: bool) -> None:
+        self.plan.set_drawing(drawing)
+        self.plan.show_drawing(corners, closed=closed)
 
     def _face_clicked(self, name: str) -> None:
         self.show_tab("Roof")

@@ -14,8 +14,17 @@ from collections.abc import Callable
 
 import ipywidgets as w
 
-from layout.edits import add_building, blank_project, edit_face, move_building, remove_building
+from layout.edits import (
+    add_building,
+    add_face,
+    blank_project,
+    edit_face,
+    move_building,
+    remove_building,
+)
 from layout.errors import InputError
+from layout.scene.building import Building
+from layout.scene.outlines import check_outline_drawing, face_from_drawing, snap_corners
 from layout.scene.roof import EDGE_KINDS
 from layout.scene.site import Site, timezone_at
 from layout.scene.templates import TEMPLATE_KINDS, template_from_text
@@ -49,6 +58,10 @@ _TEMPLATE_FIELDS = (
     ("north_m", "Corner, north", None),
 )
 _NOTE = "<div style='font-size:12px;color:#5d6b6a;margin:4px 0'>{}</div>"
+#: How near a clicked corner must fall to a corner already drawn to be pulled onto it [m]:
+#: 15 cm, or 6 in in an imperial project.
+SNAP_M = {"metric": 0.15, "imperial": 0.1524}
+_NEW_BUILDING = "a new building"
 
 
 def _module(label: str):
@@ -143,6 +156,51 @@ class RoofPanel(Quiet, w.VBox):
                                w.HBox([self.move_button, self.delete_button]),
                                self.building_message])
 
+        # ---- drawing
+        self.corners: list[tuple[float, float]] = []
+        self.closed = False
+        self.draw_toggle = w.ToggleButton(value=False, description="Click corners on the plan",
+                                          icon="pencil", layout=w.Layout(width="auto"))
+        self.draw_toggle.add_class("eaveline-draw-toggle")
+        self.draw_toggle.observe(lambda change: self._drawing(change["new"]), names="value")
+        self.close_button = w.Button(description="Close the outline",
+                                     layout=w.Layout(width="auto"))
+        self.close_button.add_class("eaveline-draw-close")
+        self.close_button.on_click(lambda _: self.close_outline())
+        self.back_button = w.Button(description="Take back a corner",
+                                    layout=w.Layout(width="auto"))
+        self.back_button.on_click(lambda _: self.take_back_corner())
+        self.clear_button = w.Button(description="Clear", layout=w.Layout(width="auto"))
+        self.clear_button.on_click(lambda _: self.clear_drawing())
+        self.corner_list = w.HTML()
+        self.corner_list.add_class("eaveline-draw-corners")
+        self.draw_name = FieldRow("name", "Face name", w.Text())
+        self.draw_pitch = FieldRow("pitch_deg", "Pitch (° or 6/12)", w.Text(value="0"))
+        self.draw_eave = FieldRow("eave_height_m", "Eave height", w.Text())
+        self.draw_eave_edge = FieldRow("eave_edge", "Eave along edge", w.BoundedIntText(
+            value=1, min=1, max=1))
+        self.draw_into = FieldRow("building", "Add to", w.Dropdown(options=[_NEW_BUILDING]))
+        for row in (self.draw_name, self.draw_pitch, self.draw_eave, self.draw_into):
+            row.input.add_class(f"eaveline-draw-{row.key.replace('_', '-')}")
+        self.draw_add = w.Button(description="Add the drawn face", button_style="primary",
+                                 disabled=True, layout=w.Layout(width="auto"))
+        self.draw_add.add_class("eaveline-draw-add")
+        self.draw_add.on_click(lambda _: self.add_drawn())
+        self.draw_message = w.HTML()
+        self._drawing_callbacks: list[Callable] = []
+        draw_box = w.VBox([
+            w.HTML(_NOTE.format(
+                "Turn drawing on, click the corners in order on the plan (on open ground, off "
+                "the faces already drawn), then close the outline with the button or by "
+                "clicking the first corner again. A corner near one already drawn is pulled "
+                "onto it, so faces drawn one by one share their edges. A flat or one-slope "
+                "roof is one face; a roof of several faces is drawn face by face, each added "
+                "to the same building.")),
+            w.HBox([self.draw_toggle, self.close_button]),
+            w.HBox([self.back_button, self.clear_button]), self.corner_list,
+            self.draw_name, self.draw_pitch, self.draw_eave, self.draw_eave_edge,
+            self.draw_into, self.draw_add, self.draw_message])
+
         # ---- faces
         self.face = w.Dropdown(options=[], description="Face", layout=w.Layout(width="320px"))
         self.face.add_class("eaveline-face-choice")
@@ -163,9 +221,9 @@ class RoofPanel(Quiet, w.VBox):
         self.sections = w.Accordion(children=[new_box, w.VBox([self.kind, self.template_box,
                                                                self.add_button,
                                                                self.template_message]),
-                                              building_box, face_box],
-                                    titles=("New project", "Add a building", "Buildings",
-                                            "Faces"))
+                                              draw_box, building_box, face_box],
+                                    titles=("New project", "Add a building", "Draw an outline",
+                                            "Buildings", "Faces"))
         self.sections.selected_index = 1
         super().__init__([self.sections])
         self.add_class("eaveline-roof-panel")
@@ -175,6 +233,10 @@ class RoofPanel(Quiet, w.VBox):
     def on_change(self, callback: Callable) -> None:
         """Call ``callback(project, label)`` with an edited project; it returns a bool."""
         self._change.append(callback)
+
+    def on_drawing(self, callback: Callable) -> None:
+        """Call ``callback(on, corners, closed)`` when drawing starts, stops or changes."""
+        self._drawing_callbacks.append(callback)
 
     def on_preview(self, callback: Callable) -> None:
         """Call ``callback(building or None)`` while the template form is edited."""
@@ -191,6 +253,7 @@ class RoofPanel(Quiet, w.VBox):
             keep = self.building.value if self.building.value in names else None
             self.building.options = names
             self.building.value = keep if keep is not None else (names[0] if names else None)
+            self.draw_into.input.options = [_NEW_BUILDING, *names]
             faces = [f.name for b in project.buildings for f in b.faces]
             keep = self.face.value if self.face.value in faces else None
             self.face.options = faces
@@ -205,7 +268,7 @@ class RoofPanel(Quiet, w.VBox):
         """Pick a face (as a click on its name on the plan does) and open the Faces section."""
         if name in self.face.options:
             self.face.value = name
-            self.sections.selected_index = 3
+            self.sections.selected_index = 4
 
     # ----------------------------------------------------------------- new project
     def _find_zone(self, _change=None) -> None:
@@ -426,3 +489,116 @@ class RoofPanel(Quiet, w.VBox):
             return False
         self.face_message.value = _NOTE.format(html.escape(f"{face.name} changed."))
         return True
+
+    # ----------------------------------------------------------------- drawing
+    def _drawing(self, on: bool) -> None:
+        self._show_corners()
+
+    def _tolerance(self) -> float:
+        return SNAP_M[self.units]
+
+    def add_corner(self, x_m: float, y_m: float) -> None:
+        """Take a corner clicked on the plan [m]: snapped, or closing at the first corner."""
+        if not self.draw_toggle.value or self.closed:
+            self._show_corners()
+            return
+        targets = [c for b in (self.project.buildings if self.project else ())
+                   for f in b.faces for c in f.outline] + self.corners[:1]
+        (x, y), = snap_corners([(x_m, y_m)], targets, self._tolerance())
+        if len(self.corners) >= 3 and (x, y) == tuple(self.corners[0]):
+            self.close_outline()
+            return
+        self.corners.append((float(x), float(y)))
+        self._show_corners()
+
+    def take_back_corner(self) -> None:
+        """Remove the last corner (or reopen a closed outline)."""
+        if self.closed:
+            self.closed = False
+        elif self.corners:
+            self.corners.pop()
+        self._show_corners()
+
+    def clear_drawing(self) -> None:
+        """Forget the outline being drawn."""
+        self.corners, self.closed = [], False
+        self._show_corners()
+
+    def close_outline(self) -> bool:
+        """Close the outline; say what is wrong with it when it cannot be a face."""
+        try:
+            check_outline_drawing(self.corners)
+        except InputError as err:
+            self.draw_message.value = _NOTE.format(html.escape(error_text(err)))
+            self._show_corners()
+            return False
+        self.closed = True
+        self.draw_toggle.value = False
+        self._show_corners()
+        return True
+
+    def _show_corners(self) -> None:
+        n = len(self.corners)
+        rows = []
+        for i in range(n):
+            a = self.corners[i]
+            if i + 1 < n or (self.closed and n > 2):
+                b = self.corners[(i + 1) % n]
+                length = ((b[0] - a[0]) ** 2 + (b[1] - a[1]) ** 2) ** 0.5
+                rows.append(f"edge {i + 1}: {length_text(length, self.units)}")
+        state = ("closed" if self.closed else
+                 "drawing: click the next corner" if self.draw_toggle.value else "not drawing")
+        self.corner_list.value = _NOTE.format(html.escape(
+            f"{n} corner{'s' if n != 1 else ''}, {state}" + (": " if rows else "")
+            + "; ".join(rows)))
+        self.draw_eave_edge.input.max = max(n, 1)
+        self.draw_add.disabled = not self.closed
+        if self.closed:
+            self.draw_message.value = ""
+        for callback in self._drawing_callbacks:
+            callback(self.draw_toggle.value and not self.closed, list(self.corners),
+                     self.closed)
+
+    def add_drawn(self) -> bool:
+        """Add the closed outline as a roof face: of a new building, or of one chosen."""
+        if not self.closed:
+            self.draw_message.value = _NOTE.format("Close the outline first.")
+            return False
+        values = {}
+        for row, read in ((self.draw_pitch, lambda t: parse_pitch(t, field="pitch_deg")),
+                          (self.draw_eave, lambda t: read_length(t, self.units,
+                                                                 field="eave_height_m"))):
+            row.set_error(None)
+            try:
+                values[row.key] = read(row.input.value)
+            except InputError as err:
+                row.set_error(error_text(err))
+        if len(values) < 2:
+            return False
+        into = self.draw_into.input.value
+        building_name = self._free_name() if into == _NEW_BUILDING else into
+        name = self.draw_name.input.value.strip() or (
+            f"{building_name} face {self._face_count(into) + 1}")
+        try:
+            face = face_from_drawing(self.corners, values["pitch_deg"],
+                                     values["eave_height_m"], name=name,
+                                     eave_edge=self.draw_eave_edge.input.value - 1)
+            if into == _NEW_BUILDING:
+                project = add_building(self.project, Building(faces=(face,), name=building_name))
+            else:
+                project = add_face(self.project, into, face)
+        except InputError as err:
+            self.draw_message.value = _NOTE.format(html.escape(f"Not added: {err}"))
+            return False
+        if not self._hand_on(project, f"drew {name}"):
+            return False
+        self.clear_drawing()
+        self.draw_message.value = _NOTE.format(html.escape(
+            f"Added {name} ({face.plan_area_m2:.1f} m² in plan) to {building_name}."))
+        return True
+
+    def _face_count(self, building_name: str) -> int:
+        for building in self.project.buildings:
+            if building.name == building_name:
+                return len(building.faces)
+        return 0

@@ -17,6 +17,12 @@ from . import style
 __all__ = ["TotalsPanel", "module_note", "totals_text"]
 
 
+def _unsigned_zero(value: float) -> str:
+    """Format to 0.01 without a minus on a loss that rounds to zero (no shade: -1e-12)."""
+    text = f"{value:.2f}"
+    return "0.00" if text == "-0.00" else text
+
+
 def totals_text(totals: dict) -> str:
     """Return the layout's annual figures as one line of HTML (from :attr:`Evaluation.totals`).
 
@@ -30,7 +36,8 @@ def totals_text(totals: dict) -> str:
     return (
         f"<span style='font-size:14px;color:{style.INK}'>"
         f"<b>{totals['energy_kwh']:,.0f}</b> kWh a year ({basis}) · "
-        f"shade loss <b class='eaveline-shade-loss'>{totals['shade_loss_pct']:.2f}</b> % · "
+        f"shade loss <b class='eaveline-shade-loss'>{_unsigned_zero(totals['shade_loss_pct'])}"
+        "</b> % · "
         f"mean TSRF <b>{tsrf_text}</b> %</span>"
         f"<span style='font-size:12px;color:#5d6b6a'> · {below} "
         f"{'module' if below == 1 else 'modules'} below {threshold:g} % TSRF "
