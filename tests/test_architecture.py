@@ -20,6 +20,7 @@ ROOT = Path(__file__).resolve().parents[1]
 STAGES = (
     ("errors", "units", "runtime"),  # the ground every stage stands on
     ("scene",),  # what the user describes
+    ("elevation",),  # the scene read from point clouds and elevation rasters
     ("fill",),  # usable area and where modules go
     ("sky",),  # sun path and weather
     ("shading",),  # ray tests and sky-view factors
