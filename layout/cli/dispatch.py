@@ -85,6 +85,11 @@ def main(argv: Sequence[str] | None = None) -> int:
                         keep_worst=args.keep_worst, min_tsrf=args.min_tsrf,
                         min_energy=args.min_energy, max_shade_loss=args.max_shade_loss,
                         as_json=args.json)
+        elif args.command == "from-points":
+            from .from_points import run_from_points  # laspy and rasterio for this one only
+
+            run_from_points(args.tile, site=args.site, radius_m=args.radius, out=args.out,
+                            crs=args.crs, surface=args.surface, timezone=args.timezone)
     except ProjectFileError as err:
         # check lists every problem; the other commands give one line
         print(err if args.command == "check" else f"error: {one_line(err)}", file=sys.stderr)

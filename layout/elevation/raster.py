@@ -117,6 +117,7 @@ def read_raster(path, *, site_latitude: float, site_longitude: float,
         if not (left <= 0 <= right and bottom <= 0 <= top):
             raise InputError("site", "the raster does not cover the site itself",
                              value=path.name)
+        half = min(half, max(abs(left), abs(right), abs(bottom), abs(top)))
         size = max(2, math.ceil(2 * half / res))
         half = size * res / 2
         out = np.full((size, size), np.nan, dtype=np.float32)

@@ -1,10 +1,11 @@
 """Individual trees from vegetation points: treetops, crowns, and a Tree for each.
 
 The vegetation points' heights above ground make a canopy height model on a fine grid (the
-highest point of each cell, lightly smoothed). Treetops are its local maxima within a window
-and above ``min_height_m``; each crown is the basin of its treetop in a marker-controlled
-watershed of the inverted canopy (scipy's image foresting transform), so two touching crowns
-split along the low ground between them. Each crown's points then give its
+highest point of each cell, its pits filled, lightly smoothed). Treetops are its local maxima
+above ``min_height_m`` that stand highest within half the crown width expected of their
+height (the variable window of Popescu & Wynne 2004); each crown is the basin of its treetop
+in a marker-controlled watershed of the inverted canopy (scipy's image foresting transform),
+so two touching crowns split along the low ground between them. Each crown's points then give its
 :class:`~layout.scene.obstructions.Tree`:
 
 - centre: the mean plan position of the crown's points (seen from above, a crown's points
@@ -44,7 +45,16 @@ __all__ = ["find_trees"]
 MIN_TREE_HEIGHT_M = 2.0
 
 
-def find_trees(x, y, height, *, ground_m=None, cell_m: float = 0.5, window_m: float = 3.0,
+def crown_width_m(height_m: float) -> float:
+    """Return the expected crown width of a broadleaf tree of a given height [m].
+
+    ``CW = 3.09632 + 0.00895 · h²`` for deciduous trees, Popescu & Wynne (2004) (from
+    memory); the window of the treetop search.
+    """
+    return 3.09632 + 0.00895 * height_m * height_m
+
+
+def find_trees(x, y, height, *, ground_m=None, cell_m: float = 0.5,
                min_height_m: float = MIN_TREE_HEIGHT_M, min_points: int = 10) -> list[Tree]:
     """Find individual trees among vegetation points.
 
@@ -58,8 +68,6 @@ def find_trees(x, y, height, *, ground_m=None, cell_m: float = 0.5, window_m: fl
         Ground under each point above the site's z = 0 [m]; sets each tree's ``ground_m``.
     cell_m : float, default 0.5
         Canopy grid cell [m].
-    window_m : float, default 3
-        Side of the local-maximum window [m]: two treetops closer than half of it merge.
     min_height_m : float, default 2
         Lowest treetop kept [m].
     min_points : int, default 10
@@ -87,17 +95,29 @@ def find_trees(x, y, height, *, ground_m=None, cell_m: float = 0.5, window_m: fl
     shape = (rows.max() + 2, cols.max() + 2)
     chm = np.zeros(shape)
     np.maximum.at(chm, (rows, cols), h)
+    # pits: cells no point fell in, or that a pulse into the crown marks low, take the
+    # closing of their neighbours (a "pit-free" canopy model)
+    chm = np.maximum(chm, np.where(chm < ndimage.grey_closing(chm, size=(3, 3)) - 1.0,
+                                   ndimage.grey_closing(chm, size=(3, 3)), chm))
     smooth = ndimage.gaussian_filter(chm, sigma=1.0)
-    size = max(3, round(window_m / cell_m) | 1)
-    peaks = (smooth == ndimage.maximum_filter(smooth, size=size)) & (chm >= min_height_m * 0.5)
-    peaks &= smooth >= min_height_m * 0.5
-    markers, count = ndimage.label(peaks)
-    if count == 0:
+    candidates = np.argwhere((smooth == ndimage.maximum_filter(smooth, size=3))
+                             & (smooth >= min_height_m))
+    order = np.argsort(-smooth[candidates[:, 0], candidates[:, 1]])
+    tops: list[np.ndarray] = []
+    for rc in candidates[order]:
+        # a treetop stands highest within half its crown width (Popescu & Wynne's window)
+        reach = 0.5 * crown_width_m(float(chm[rc[0], rc[1]])) / cell_m
+        if all(np.hypot(*(rc - t)) > reach for t in tops):
+            tops.append(rc)
+    if not tops:
         return []
+    markers = np.zeros(shape, dtype=np.int32)
+    for k, (r, c) in enumerate(tops, start=1):
+        markers[r, c] = k
+    count = len(tops)
     canopy = smooth > 0.5 * min_height_m * 0.5
     top = smooth.max()
     levels = np.round((top - smooth) / max(top, 1e-9) * 65000).astype(np.uint16)
-    markers = markers.astype(np.int32)
     markers[~canopy] = -1  # the background is a basin of its own
     basins = ndimage.watershed_ift(levels, markers)
     owner = basins[rows, cols]
