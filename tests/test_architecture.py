@@ -25,7 +25,7 @@ STAGES = (
     ("sky",),  # sun path and weather
     ("shading",),  # ray tests and sky-view factors
     ("power",),  # irradiance, electrical models, metrics, evaluation stages
-    ("project",),  # the document that holds a whole input
+    ("project", "project_imports"),  # the document that holds a whole input
     ("study",),  # incremental analysis, comparisons, outlook, portfolios
     ("cli", "__main__"),  # the command line
 )

@@ -38,6 +38,10 @@ Compare
 File
     Save and load the project; export the module table (CSV) and outlines (GeoJSON)
     (:class:`widgets.file_panel.FilePanel`).
+Elevation data
+    Import a LiDAR tile (LAS/LAZ) about the site, preview the roof, chimneys, trees,
+    neighbouring buildings and far horizon it holds, and keep the ticked ones, marked "from
+    elevation data, not surveyed" (:class:`widgets.elevation_panel.ElevationPanel`).
 
 Under the plan, :class:`widgets.totals.TotalsPanel` shows the module count and the annual
 figures and :class:`widgets.status_line.StatusLine` what the planner is doing.
@@ -69,6 +73,7 @@ from layout.study.outlook import shade_loss_range
 from layout.units import INCH_M
 
 from .compare_panel import ComparePanel
+from .elevation_panel import ElevationPanel
 from .file_panel import FilePanel
 from .forms import ObstructionForm, length_text
 from .hours_panel import HoursPanel
@@ -108,7 +113,7 @@ FIGURES = {
 }
 
 #: Side panel tabs, in order.
-TAB_NAMES = ("Module", "Objects", "Survey", "Sky", "Hours", "Compare", "File")
+TAB_NAMES = ("Module", "Objects", "Survey", "Sky", "Hours", "Compare", "File", "Elevation data")
 
 #: Drag positions snap to this grid [m]: 1 cm, or a quarter inch in imperial projects.
 SNAP_M = {"metric": 0.01, "imperial": INCH_M / 4}
@@ -241,9 +246,13 @@ class Planner(w.VBox):
         self.compare_panel.on_run(lambda: self._run_compare(force=True))
         self.file_panel = FilePanel(path)
         self.file_panel.on_load(self._file_loaded)
+        self.elevation_panel = ElevationPanel()
+        self.elevation_panel.on_keep(
+            lambda project: self.set_project(project, message="Items from elevation data "
+                                                              "added"))
         self.tabs = w.Tab(children=[self.module_panel, self.objects, self.survey,
                                     self.sky_panel, self.hours_panel, self.compare_panel,
-                                    self.file_panel],
+                                    self.file_panel, self.elevation_panel],
                           titles=TAB_NAMES,
                           layout=w.Layout(width="600px", min_width="480px"))
         self.tabs.add_class("eaveline-side")
@@ -296,6 +305,7 @@ class Planner(w.VBox):
         previous = self.project
         self.project, self.array_layout, self.areas = project, result.layout, result.areas
         self.file_panel.show(project, result.layout)
+        self.elevation_panel.show(project)
         self._quiet_units(project.units)
         active = [m.id for m in result.modules]
         if self.selected_id not in active:

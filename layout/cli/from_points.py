@@ -12,17 +12,12 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from ..elevation import PROVENANCE, ElevationScene, import_elevation
+from ..elevation import import_elevation
 from ..errors import InputError, check_range
-from ..fill.rules import ifc_2021_residential
-from ..project import FILE_SUFFIX, Project, save_project
-from ..scene.modules import generic_108_half_cell
-from ..scene.site import Site
+from ..project import FILE_SUFFIX, save_project
+from ..project_imports import project_from_scene
 
-__all__ = ["parse_site", "project_from_scene", "run_from_points"]
-
-#: Module of a project started from elevation data; the user picks the real one.
-DEFAULT_MODULE_W = 400.0
+__all__ = ["parse_site", "run_from_points"]
 
 
 def parse_site(text: str) -> tuple[float, float]:
@@ -39,57 +34,6 @@ def parse_site(text: str) -> tuple[float, float]:
         raise argparse.ArgumentTypeError(
             f"--site takes LAT,LON in degrees, e.g. 47.3,8.5 (got {text!r}){detail}") from None
     return lat, lon
-
-
-def _offset_timezone(longitude: float) -> str:
-    """Mean solar time zone of a longitude as a fixed offset (the user can set the real one)."""
-    hours = max(-12, min(14, round(longitude / 15.0)))
-    return f"UTC{'+' if hours >= 0 else '-'}{abs(hours):02d}:00"
-
-
-def project_from_scene(scene: ElevationScene, *, latitude: float, longitude: float,
-                       timezone: str | None = None, name: str = "") -> Project:
-    """Build a project from an elevation import.
-
-    Parameters
-    ----------
-    scene : ElevationScene
-        What the import found; it must hold a roof.
-    latitude, longitude : float
-        The site [degrees].
-    timezone : str, optional
-        IANA zone or fixed offset; the longitude's mean solar offset when not given.
-    name : str
-        Project name.
-
-    Returns
-    -------
-    Project
-
-    Raises
-    ------
-    InputError
-        When the import found no roof to lay modules on.
-    """
-    if scene.building is None:
-        raise InputError("points", "no roof was found at the site, so no project can be "
-                         "made: " + "; ".join(scene.missing), value=scene.source)
-    site = Site(latitude, longitude, timezone or _offset_timezone(longitude),
-                altitude_m=min(max(scene.ground_level_m, -500.0), 9000.0),
-                name=name or scene.building.name)
-    obstructions = scene.obstructions()
-    items = [scene.building.name, *scene.building.face_names,
-             *(o.name for o in obstructions)]
-    source = {"kind": "elevation data", "note": PROVENANCE, "file": scene.source,
-              "crs": scene.crs, "items": items}
-    if scene.acquired is not None:
-        source["acquired"] = scene.acquired.isoformat()
-    notes = "\n".join(scene.summary())
-    return Project(site=site, buildings=(scene.building,),
-                   module=generic_108_half_cell(DEFAULT_MODULE_W),
-                   clearance=ifc_2021_residential(), obstructions=obstructions,
-                   name=name or f"{scene.building.name} from {scene.source}", notes=notes,
-                   sources=(source,))
 
 
 def run_from_points(tile, *, site: tuple[float, float], radius_m: float, out, crs=None,
