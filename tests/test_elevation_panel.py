@@ -5,10 +5,13 @@ Driven without a browser, by setting the widgets' values as the front end would.
 
 from __future__ import annotations
 
+import math
+
 import pytest
 
 from layout.elevation import PROVENANCE, import_elevation, synthetic
 from layout.project_imports import project_from_scene
+from layout.scene.survey import Reading, SurveyEntry
 from widgets.planner import TAB_NAMES, Planner
 
 SITE = {"site_latitude": synthetic.DEMO_LATITUDE, "site_longitude": synthetic.DEMO_LONGITUDE}
@@ -67,3 +70,22 @@ def test_a_bad_file_says_why_and_changes_nothing(planner, tmp_path):
     assert not panel.find()
     assert "does not exist" in panel.message.value
     assert panel.keep_button.disabled and planner.project is project
+
+
+def test_survey_tab_shows_each_entry_against_the_elevation_data(planner, tile):
+    panel = planner.elevation_panel
+    panel.tile_path.value = str(tile)
+    panel.find()
+    assert panel.keep()
+    tree = next(o for o in planner.project.obstructions if o.name == "tree 1")
+    # a surveyor 20 m south of the tree reads it 3 m too tall (tangent method, eye 1.5 m)
+    station = (tree.center[0], tree.center[1] - 20.0)
+    top = math.degrees(math.atan2(tree.ground_m + tree.height + 3.0 - 1.5, 20.0))
+    base = math.degrees(math.atan2(tree.ground_m - 1.5, 20.0))
+    entry = SurveyEntry("tree", Reading(0.0, 1.0), Reading(20.0, 0.2), Reading(top, 0.5),
+                        base_angle_deg=Reading(base, 0.5), station_x_m=station[0],
+                        station_y_m=station[1], eye_height_m=1.5, crown_radius_m=3.0,
+                        crown_base_m=3.0, name="big lime")
+    assert planner.set_project(planner.project.with_changes(survey=(entry,)))
+    text = planner.survey.crosscheck_html.value
+    assert "big lime DIFFERS with tree 1" in text and "#a33" in text

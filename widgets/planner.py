@@ -64,6 +64,7 @@ from pathlib import Path
 
 import ipywidgets as w
 
+from layout.elevation import PROVENANCE, cross_check
 from layout.errors import InputError
 from layout.project import ProjectFileError
 from layout.sky.sun import TYPICAL_YEAR
@@ -123,6 +124,15 @@ def snap_length(metres: float, units: str) -> float:
     """Round a dragged position [m] to 1 cm (metric) or 1/4 in (imperial)."""
     step = SNAP_M.get(units, 0.01)
     return round(metres / step) * step
+
+
+def _survey_against_elevation(project) -> list:
+    """Return the survey against the project's items from elevation data (empty: none)."""
+    detected = [o for o in project.obstructions
+                if project.source_of(getattr(o, "name", "")) == PROVENANCE]
+    if not project.survey or not detected:
+        return []
+    return cross_check(project.survey, detected)
 
 
 class Planner(w.VBox):
@@ -323,6 +333,7 @@ class Planner(w.VBox):
         self.objects.show(project.obstructions, units=project.units,
                           new_position=self._roof_middle())
         self.survey.show(project.survey, units=project.units)
+        self.survey.show_crosscheck(_survey_against_elevation(project))
         self._show_band()
         self.module_panel.show(project)
         self._refresh_tab()
