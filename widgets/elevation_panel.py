@@ -26,7 +26,7 @@ def item_label(item) -> str:
     """One line describing a found item for its checkbox."""
     kind = type(item).__name__
     if hasattr(item, "faces"):
-        faces = ", ".join(f"{f.name} {f.pitch_deg:.1f}° to {f.azimuth_deg:.0f}°"
+        faces = ", ".join(f"{f.name} {f.pitch_deg:.1f}° to {round(f.azimuth_deg) % 360}°"
                           for f in item.faces)
         return f"roof ({len(item.faces)} faces: {faces}); replaces the drawn roof"
     if kind == "Tree":

@@ -192,7 +192,7 @@ def scene_from_points(cloud: PointCloud, *, footprint=None, name: str = "house",
                 missing.append(f"no roof face: {err.problem}")
         if building is not None:
             found.append(f"{len(building.faces)} roof faces: " + ", ".join(
-                f"{f.name} {f.pitch_deg:.1f}° facing {f.azimuth_deg:.0f}°"
+                f"{f.name} {f.pitch_deg:.1f}° facing {round(f.azimuth_deg) % 360}°"
                 for f in building.faces))
             bumps = roof_bumps(building, rx, ry, rz, spacing_m=spacing)
             if bumps:
