@@ -40,6 +40,10 @@ def test_from_points_writes_a_project_with_the_roof_and_its_surroundings(tile, t
         assert project.source_of(name) == PROVENANCE
     assert project.sources[0]["acquired"] == "2023-04-18"
     assert abs(project.site.altitude_m - synthetic.DEMO_GROUND_ALTITUDE_M) < 0.2
+    assert main(["summary", str(tmp_path / "house.eaveline.json")]) == 0
+    summary = " ".join(capsys.readouterr().out.split())  # the bullets wrap
+    assert "Imported items" in summary and "tree 1, tree 2, tree 3" in summary
+    assert f"{PROVENANCE} (tile.laz, acquired 2023-04-18)" in summary
 
 
 def test_sources_round_trip_and_old_files_still_load(tile, tmp_path):
