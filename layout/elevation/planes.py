@@ -130,23 +130,23 @@ def _candidates(pts, tree, rng, n, reach_m):
     """``n`` candidate planes (normals, offsets) through a seed point and two neighbours."""
     seeds = rng.integers(0, len(pts), n)
     neighbours = tree.query_ball_point(pts[seeds], reach_m)
-    normals, offsets = [], []
-    for seed, near in zip(seeds, neighbours, strict=True):
-        if len(near) < 3:
-            continue
-        a, b = rng.choice(near, 2, replace=False)
-        nrm = np.cross(pts[a] - pts[seed], pts[b] - pts[seed])
-        length = np.linalg.norm(nrm)
-        if length < 1e-6:
-            continue
-        nrm = nrm / length
-        if nrm[2] < 0:
-            nrm = -nrm
-        if nrm[2] < 0.25:  # steeper than 75°: a wall
-            continue
-        normals.append(nrm)
-        offsets.append(nrm @ pts[seed])
-    return np.array(normals).reshape(-1, 3), np.array(offsets)
+    counts = np.array([len(near) for near in neighbours])
+    ok = counts >= 3
+    seeds = seeds[ok]
+    picks = [rng.choice(near, 2, replace=False)
+             for near, good in zip(neighbours, ok, strict=True) if good]
+    if not picks:
+        return np.empty((0, 3)), np.empty(0)
+    a, b = np.asarray(picks).T
+    normals = np.cross(pts[a] - pts[seeds], pts[b] - pts[seeds])
+    length = np.linalg.norm(normals, axis=1)
+    keep = length > 1e-6
+    normals = normals[keep] / length[keep, None]
+    normals *= np.where(normals[:, 2] < 0, -1.0, 1.0)[:, None]
+    keep = normals[:, 2] >= 0.25  # steeper than 75°: a wall
+    normals = normals[keep]
+    offsets = np.einsum("ij,ij->i", normals, pts[seeds[length > 1e-6][keep]])
+    return normals, offsets
 
 
 def _largest_patch(pts, link_m):

@@ -152,3 +152,17 @@ def test_partial_import_says_what_it_could_not_find(demo_tile):
     assert result.building is None
     assert any("no building at the site" in m for m in result.missing)
     assert len(result.trees) == 3
+
+
+def test_import_with_a_surface_raster_adds_the_far_horizon(demo_tile, tmp_path):
+    path, scene, _ = demo_tile()
+    surface = tmp_path / "dsm.tif"
+    synthetic.write_surface_geotiff(surface, scene, half_size_m=2500.0, resolution_m=10.0)
+    result = import_elevation(path, radius_m=40.0, surface=surface, **SITE)
+    horizon = result.horizon
+    assert horizon is not None and horizon in result.obstructions()
+    peak = horizon.azimuth_deg[int(np.argmax(horizon.elevation_deg))]
+    assert abs(peak - scene.ridge.azimuth_deg) <= 4.0
+    # crest 120 m at 1.5 km seen from the ridge of the roof (7.6 m): about 4.3°
+    assert 4.0 < max(horizon.elevation_deg) < 4.6
+    assert any(line.startswith("far horizon beyond 40 m") for line in result.found)
