@@ -10,8 +10,9 @@ import pytest
 from scipy.spatial import cKDTree
 
 from layout.elevation import synthetic
-from layout.elevation.pointcloud import points_from_arrays, read_points
+from layout.elevation.pointcloud import _z_factor, points_from_arrays, read_points
 from layout.errors import InputError
+from layout.scene.geodesy import parse_crs
 
 SITE = {"site_latitude": synthetic.DEMO_LATITUDE, "site_longitude": synthetic.DEMO_LONGITUDE}
 
@@ -134,3 +135,24 @@ def test_nan_and_absurd_heights_are_dropped_and_counted():
     assert any("2 points with heights outside -500 to 9000 m" in n for n in cloud.notes)
     with pytest.raises(InputError, match="no usable point"):
         points_from_arrays([0.0], [0.0], [np.nan])
+
+
+def test_absurd_heights_in_a_file_are_dropped_with_a_note(tmp_path):
+    scene = synthetic.demo_scene()
+    pts = synthetic.sample_points(scene, half_size_m=15.0, density=4.0)
+    pts["z"][:5] = 20_000.0  # 20 km above the ground: no roof, no tree
+    path = tmp_path / "spikes.las"
+    synthetic.write_las(path, pts)
+    cloud = read_points(path, radius_m=20.0, **SITE)
+    assert cloud.z.max() < 500.0
+    assert any("5 points with heights outside" in note for note in cloud.notes)
+
+
+@pytest.mark.parametrize(("crs", "factor"), [
+    ("EPSG:32632", 1.0),  # UTM 32N, metres
+    ("EPSG:2263", 0.3048006096),  # New York Long Island, US survey feet (EPSG registry)
+    ("EPSG:2263+6360", 0.3048006096),  # ... with NAVD88 height in US survey feet
+    ("EPSG:4326", 1.0),  # degrees in plan: heights taken as metres
+])
+def test_height_unit_comes_from_the_crs(crs, factor):
+    assert _z_factor(parse_crs(crs)) == pytest.approx(factor, rel=1e-9)
