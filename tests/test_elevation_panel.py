@@ -60,6 +60,8 @@ def test_keep_adds_the_ticked_items_marked_as_data(planner, tile):
     for name in kept:
         assert planner.project.source_of(name) == PROVENANCE
     assert "tree 1" in panel.marked_html.value
+    labels = [label for label, _ in planner.objects.choice.options]
+    assert any(label.startswith("tree 1") and label.endswith(PROVENANCE) for label in labels)
     assert planner.array_layout is not None
 
 

@@ -126,6 +126,12 @@ def snap_length(metres: float, units: str) -> float:
     return round(metres / step) * step
 
 
+def _origins(project) -> dict[str, str]:
+    """Return obstruction name → where it came from, for the imported ones."""
+    return {o.name: project.source_of(o.name) for o in project.obstructions
+            if project.source_of(o.name)}
+
+
 def _survey_against_elevation(project) -> list:
     """Return the survey against the project's items from elevation data (empty: none)."""
     detected = [o for o in project.obstructions
@@ -331,7 +337,7 @@ class Planner(w.VBox):
         self._show_figures()
         self._draw_shadows()
         self.objects.show(project.obstructions, units=project.units,
-                          new_position=self._roof_middle())
+                          new_position=self._roof_middle(), origins=_origins(project))
         self.survey.show(project.survey, units=project.units)
         self.survey.show_crosscheck(_survey_against_elevation(project))
         self._show_band()
@@ -494,7 +500,8 @@ class Planner(w.VBox):
     def _obstructions_edited(self, obstructions, index) -> None:
         if self.set_project(self.project.with_changes(obstructions=tuple(obstructions))):
             self.objects.show(self.project.obstructions, units=self.project.units, index=index,
-                              new_position=self._roof_middle())
+                              new_position=self._roof_middle(),
+                              origins=_origins(self.project))
 
     def _survey_edited(self, entries, index) -> bool:
         try:
