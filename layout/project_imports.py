@@ -7,6 +7,8 @@ origin in the project's ``sources`` ("from elevation data, not surveyed").
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 from .elevation import PROVENANCE, ElevationScene
 from .errors import InputError
 from .fill.rules import ifc_2021_residential
@@ -14,7 +16,13 @@ from .project import Project
 from .scene.modules import generic_108_half_cell
 from .scene.site import Site
 
-__all__ = ["add_scene_items", "elevation_source", "project_from_scene", "scene_items"]
+__all__ = [
+    "add_scene_items",
+    "elevation_source",
+    "project_from_scene",
+    "scene_items",
+    "with_obstructions",
+]
 
 #: Module of a project started from elevation data; the user picks the real one.
 DEFAULT_MODULE_W = 400.0
@@ -97,8 +105,9 @@ def add_scene_items(project: Project, scene: ElevationScene, keep) -> Project:
     """Return ``project`` with the items of ``scene`` named in ``keep``.
 
     The roof, when kept, replaces the project's buildings (the data's roof stands where the
-    drawn one stood); obstructions are added to the project's. Kept items are listed in a new
-    entry of the project's ``sources``.
+    drawn one stood); obstructions are added to the project's, renamed "tree 1 (2)" when the
+    project already has one of that name. Kept items are listed in a new entry of the
+    project's ``sources``.
 
     Parameters
     ----------
@@ -120,7 +129,18 @@ def add_scene_items(project: Project, scene: ElevationScene, keep) -> Project:
                              allowed=", ".join(items))
     if not keep:
         return project
-    chosen = [(name, items[name]) for name in keep]
+    taken = {getattr(o, "name", "") for o in project.obstructions}
+    chosen = []
+    for name in keep:
+        item = items[name]
+        if not hasattr(item, "faces") and name in taken:
+            # a second import, or the user's own item of that name: keep both, told apart
+            n = 2
+            while f"{name} ({n})" in taken:
+                n += 1
+            item = replace(item, name=f"{name} ({n})")
+        taken.add(item.name)
+        chosen.append((item.name, item))
     buildings = tuple(item for _, item in chosen if hasattr(item, "faces"))
     others = tuple(item for _, item in chosen if not hasattr(item, "faces"))
     changes = {"obstructions": project.obstructions + others,
@@ -128,3 +148,24 @@ def add_scene_items(project: Project, scene: ElevationScene, keep) -> Project:
     if buildings:
         changes.update(buildings=buildings, array_faces=None, pathways=None, removed=())
     return project.with_changes(**changes)
+
+
+def with_obstructions(project: Project, obstructions) -> Project:
+    """Return ``project`` with new obstructions, imported ones the user changed unmarked.
+
+    An imported obstruction that was moved, edited or deleted is no longer as the data gave
+    it, so its name leaves the project's ``sources``.
+
+    Parameters
+    ----------
+    project : Project
+    obstructions : sequence
+        The project's new obstructions (an edit, a drag, a deletion).
+    """
+    obstructions = tuple(obstructions)
+    before = {getattr(o, "name", ""): o for o in project.obstructions}
+    after = {getattr(o, "name", ""): o for o in obstructions}
+    changed = {name for name, old in before.items() if after.get(name) != old}
+    sources = tuple({**s, "items": [n for n in s["items"] if n not in changed]}
+                    for s in project.sources)
+    return project.with_changes(obstructions=obstructions, sources=sources)

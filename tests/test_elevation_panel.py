@@ -65,6 +65,24 @@ def test_keep_adds_the_ticked_items_marked_as_data(planner, tile):
     assert planner.array_layout is not None
 
 
+def test_a_second_keep_renames_and_a_moved_tree_is_no_longer_marked(planner, tile):
+    assert planner.set_project(planner.project.with_changes(obstructions=(), sources=()))
+    panel = planner.elevation_panel
+    panel.tile_path.value = str(tile)
+    panel.find()
+    assert panel.keep()
+    panel.tile_path.value = str(tile)
+    panel.find()
+    assert panel.keep()
+    names = [o.name for o in planner.project.obstructions]
+    assert len(names) == len(set(names)) and "tree 3 (2)" in names
+    index = names.index("tree 3")
+    project, _, _ = planner._moved_project(index, 0.0, -25.0)
+    assert planner.set_project(project)
+    assert planner.project.source_of("tree 3") is None
+    assert planner.project.source_of("tree 1") == PROVENANCE
+
+
 def test_a_bad_file_says_why_and_changes_nothing(planner, tmp_path):
     panel = planner.elevation_panel
     project = planner.project

@@ -67,6 +67,7 @@ import ipywidgets as w
 from layout.elevation import PROVENANCE, cross_check
 from layout.errors import InputError
 from layout.project import ProjectFileError
+from layout.project_imports import with_obstructions
 from layout.sky.sun import TYPICAL_YEAR
 from layout.study.analysis import Analysis
 from layout.study.compare import compare_layouts
@@ -427,7 +428,7 @@ class Planner(w.VBox):
         obstructions = list(self.project.obstructions)
         obstructions[index] = old.translated(x - ax, y - ay)
         place = f"x = {length_text(x, units)}, y = {length_text(y, units)}"
-        return (self.project.with_changes(obstructions=tuple(obstructions)),
+        return (with_obstructions(self.project, obstructions),
                 obstruction_label(old, index), place)
 
     def _obstruction_dragging(self, index: int, x_m: float, y_m: float) -> None:
@@ -498,7 +499,7 @@ class Planner(w.VBox):
             message="Refilled with the Module tab's values.")
 
     def _obstructions_edited(self, obstructions, index) -> None:
-        if self.set_project(self.project.with_changes(obstructions=tuple(obstructions))):
+        if self.set_project(with_obstructions(self.project, obstructions)):
             self.objects.show(self.project.obstructions, units=self.project.units, index=index,
                               new_position=self._roof_middle(),
                               origins=_origins(self.project))
