@@ -20,7 +20,7 @@ from functools import cached_property
 from importlib import resources
 from pathlib import Path
 
-from .errors import InputError
+from .errors import InputError, check_fields
 from .fill.faces import FillOptions
 from .fill.placed import Layout
 from .fill.placement import fill_building_with_areas
@@ -54,7 +54,11 @@ FILE_SUFFIX = ".eaveline.json"
 UNIT_SYSTEMS = ("metric", "imperial")
 
 _SECTIONS = (SCHEMA_KEY, "name", "units", "notes", "site", "buildings", "obstructions", "module",
-             "clearance", "fill", "array_faces", "removed", "pathways", "energy", "survey")
+             "clearance", "fill", "array_faces", "removed", "pathways", "energy", "survey",
+             "sources")
+
+#: Keys of one entry of ``sources``: where imported items came from.
+SOURCE_KEYS = ("kind", "note", "file", "crs", "acquired", "items")
 
 
 class ProjectFileError(ValueError):
@@ -117,6 +121,12 @@ class Project:
         How lengths are shown and typed in the planner.
     name, notes : str
         Free text.
+    sources : tuple of dict
+        Where imported items came from (optional; files without it load as before): each a
+        dict with ``kind`` (e.g. "elevation data"), ``note`` (what the planner shows beside
+        the items, e.g. "from elevation data, not surveyed"), ``items`` (names of the
+        buildings, faces and obstructions it gave) and optionally ``file``, ``crs`` and
+        ``acquired`` (ISO date).
     """
 
     site: Site
@@ -133,8 +143,10 @@ class Project:
     units: str = "metric"
     name: str = ""
     notes: str = ""
+    sources: tuple = ()
 
     def __post_init__(self):
+        object.__setattr__(self, "sources", parse_sources(self.sources))
         object.__setattr__(self, "buildings", tuple(self.buildings))
         object.__setattr__(self, "obstructions", tuple(self.obstructions))
         object.__setattr__(self, "survey", tuple(self.survey))
@@ -161,6 +173,13 @@ class Project:
     def faces(self) -> tuple[RoofFace, ...]:
         """All roof faces of all buildings, in order."""
         return tuple(face for building in self.buildings for face in building.faces)
+
+    def source_of(self, item_name: str) -> str | None:
+        """Return the note of the source an item (building, face, obstruction) came from."""
+        for source in self.sources:
+            if item_name in source["items"]:
+                return source["note"]
+        return None
 
     def with_changes(self, **changes) -> Project:
         """Return a copy with some fields replaced (the project itself never changes)."""
@@ -228,9 +247,38 @@ def _cross_check(project: Project) -> list[tuple[str, str]]:
     return problems
 
 
+def parse_sources(value) -> tuple[dict, ...]:
+    """Check the ``sources`` section: a list of dicts with the keys of :data:`SOURCE_KEYS`.
+
+    Raises
+    ------
+    InputError
+        Naming the entry and key that is wrong.
+    """
+    if isinstance(value, (str, bytes, dict)) or not hasattr(value, "__iter__"):
+        raise InputError("sources", "must be a list of sources", value=type(value).__name__)
+    out = []
+    for i, entry in enumerate(value):
+        if not isinstance(entry, dict):
+            raise InputError(f"sources[{i}]", "must be an object")
+        try:
+            check_fields(entry, SOURCE_KEYS, required=("kind", "note", "items"), what="source")
+        except InputError as err:
+            raise err.at(f"sources[{i}]") from None
+        for key in ("kind", "note", "file", "crs", "acquired"):
+            if key in entry and not isinstance(entry[key], str):
+                raise InputError(f"sources[{i}].{key}", "must be text", value=entry[key])
+        items = entry["items"]
+        if isinstance(items, str) or not all(isinstance(n, str) for n in items):
+            raise InputError(f"sources[{i}].items", "must be a list of names", value=items)
+        out.append({**entry, "items": list(items)})
+    return tuple(out)
+
+
 # --------------------------------------------------------------------------- document form
 def project_to_dict(project: Project) -> dict:
     """Return the project as a JSON-ready document (the inverse of :func:`project_from_dict`)."""
+    sources = {"sources": [dict(s) for s in project.sources]} if project.sources else {}
     return {
         SCHEMA_KEY: SCHEMA_VERSION,
         "name": project.name,
@@ -247,6 +295,7 @@ def project_to_dict(project: Project) -> dict:
         "removed": [_plain(entry) for entry in project.removed],
         "pathways": dict(project.pathways) if project.pathways is not None else None,
         "energy": project.energy.to_dict(),
+        **sources,
     }
 
 
@@ -378,6 +427,7 @@ def project_from_dict(data, *, source: str = "") -> Project:
     ):
         problems.append(("array_faces", "must be a list of face names, or null for every face"))
         array_faces = None
+    sources = collect.take("sources", parse_sources, data.get("sources", []))
     units = _need(data, "units", str, problems, default="metric")
     name = _need(data, "name", str, problems, default="") if "name" in data else ""
     notes = _need(data, "notes", str, problems, default="") if "notes" in data else ""
@@ -390,7 +440,7 @@ def project_from_dict(data, *, source: str = "") -> Project:
             fill=fill, array_faces=array_faces, obstructions=tuple(obstructions),
             survey=tuple(survey),
             removed=tuple(removed or ()), pathways=pathways, energy=energy, units=units,
-            name=name, notes=notes,
+            name=name, notes=notes, sources=sources or (),
         )
     except ProjectFileError as err:
         raise ProjectFileError(err.problems, source) from None

@@ -20,11 +20,12 @@ ROOT = Path(__file__).resolve().parents[1]
 STAGES = (
     ("errors", "units", "runtime"),  # the ground every stage stands on
     ("scene",),  # what the user describes
+    ("elevation",),  # the scene read from point clouds and elevation rasters
     ("fill",),  # usable area and where modules go
     ("sky",),  # sun path and weather
     ("shading",),  # ray tests and sky-view factors
     ("power",),  # irradiance, electrical models, metrics, evaluation stages
-    ("project", "edits", "history"),  # the document that holds a whole input, its edits
+    ("project", "project_imports", "edits", "history"),  # the whole input, its edits
     ("study",),  # incremental analysis, comparisons, outlook, portfolios
     ("report",),  # the shade report: reads an evaluation, renders HTML and PDF
     ("cli", "__main__"),  # the command line

@@ -179,11 +179,14 @@ class ObstructionForm(Quiet, w.VBox):
         self._callbacks.append(callback)
 
     def show(self, obstructions, *, units: str = "metric", index: int | None = None,
-             new_position=(0.0, 0.0)) -> None:
+             new_position=(0.0, 0.0), origins=None) -> None:
         """Show a project's obstructions; select ``index`` (default: keep the selection).
 
         ``new_position`` is the plan point [m] where :meth:`add` puts a new obstruction.
+        ``origins`` maps an obstruction's name to where it came from ("from elevation data,
+        not surveyed"), shown beside it in the chooser.
         """
+        origins = origins or {}
         self.obstructions = tuple(obstructions)
         self.units = units
         self.new_position = tuple(new_position)
@@ -194,7 +197,9 @@ class ObstructionForm(Quiet, w.VBox):
         self.index = index
         with self._silently():
             self.choice.options = [(f"{obstruction_label(self.obstructions[i], i)} "
-                                    f"({type(self.obstructions[i]).__name__.lower()})", i)
+                                    f"({type(self.obstructions[i]).__name__.lower()})"
+                                    + (f", {origins[self.obstructions[i].name]}"
+                                       if self.obstructions[i].name in origins else ""), i)
                                    for i in editable]
             self.choice.value = index
         self._build_rows()

@@ -38,6 +38,10 @@ Compare
 File
     Save and load the project; export the module table (CSV) and outlines (GeoJSON)
     (:class:`widgets.file_panel.FilePanel`).
+Elevation data
+    Import a LiDAR tile (LAS/LAZ) about the site, preview the roof, chimneys, trees,
+    neighbouring buildings and far horizon it holds, and keep the ticked ones, marked "from
+    elevation data, not surveyed" (:class:`widgets.elevation_panel.ElevationPanel`).
 
 Under the plan, :class:`widgets.totals.TotalsPanel` shows the module count and the annual
 figures and :class:`widgets.status_line.StatusLine` what the planner is doing.
@@ -60,9 +64,11 @@ from pathlib import Path
 
 import ipywidgets as w
 
+from layout.elevation import PROVENANCE, cross_check
 from layout.errors import InputError
 from layout.history import ProjectHistory
 from layout.project import ProjectFileError
+from layout.project_imports import with_obstructions
 from layout.report import ReportOptions, write_report
 from layout.sky.sun import TYPICAL_YEAR
 from layout.study.analysis import Analysis
@@ -71,6 +77,7 @@ from layout.study.outlook import shade_loss_range
 from layout.units import INCH_M
 
 from .compare_panel import ComparePanel
+from .elevation_panel import ElevationPanel
 from .file_panel import FilePanel
 from .forms import ObstructionForm, length_text
 from .history_bar import HistoryBar
@@ -112,7 +119,8 @@ FIGURES = {
 }
 
 #: Side panel tabs, in order.
-TAB_NAMES = ("Roof", "Module", "Objects", "Survey", "Sky", "Hours", "Compare", "File")
+TAB_NAMES = ("Roof", "Module", "Objects", "Survey", "Sky", "Hours", "Compare", "File",
+             "Elevation data")
 
 #: Drag positions snap to this grid [m]: 1 cm, or a quarter inch in imperial projects.
 SNAP_M = {"metric": 0.01, "imperial": INCH_M / 4}
@@ -122,6 +130,21 @@ def snap_length(metres: float, units: str) -> float:
     """Round a dragged position [m] to 1 cm (metric) or 1/4 in (imperial)."""
     step = SNAP_M.get(units, 0.01)
     return round(metres / step) * step
+
+
+def _origins(project) -> dict[str, str]:
+    """Return obstruction name → where it came from, for the imported ones."""
+    return {o.name: project.source_of(o.name) for o in project.obstructions
+            if project.source_of(o.name)}
+
+
+def _survey_against_elevation(project) -> list:
+    """Return the survey against the project's items from elevation data (empty: none)."""
+    detected = [o for o in project.obstructions
+                if project.source_of(getattr(o, "name", "")) == PROVENANCE]
+    if not project.survey or not detected:
+        return []
+    return cross_check(project.survey, detected)
 
 
 class Planner(w.VBox):
@@ -261,9 +284,13 @@ class Planner(w.VBox):
         self.plan.on_corner_added(self.roof_panel.add_corner)
         self.plan.on_first_corner_clicked(self.roof_panel.close_outline)
         self.plan.on_face_clicked(self._face_clicked)
+        self.elevation_panel = ElevationPanel()
+        self.elevation_panel.on_keep(
+            lambda project: self.set_project(project, message="Items from elevation data "
+                                                              "added"))
         self.tabs = w.Tab(children=[self.roof_panel, self.module_panel, self.objects, self.survey,
                                     self.sky_panel, self.hours_panel, self.compare_panel,
-                                    self.file_panel],
+                                    self.file_panel, self.elevation_panel],
                           titles=TAB_NAMES,
                           layout=w.Layout(width="600px", min_width="480px"))
         self.tabs.add_class("eaveline-side")
@@ -331,6 +358,7 @@ class Planner(w.VBox):
         previous = self.project
         self.project, self.array_layout, self.areas = project, result.layout, result.areas
         self.file_panel.show(project, result.layout)
+        self.elevation_panel.show(project)
         self._quiet_units(project.units)
         active = [m.id for m in result.modules]
         if self.selected_id not in active:
@@ -346,8 +374,9 @@ class Planner(w.VBox):
         self._show_figures()
         self._draw_shadows()
         self.objects.show(project.obstructions, units=project.units,
-                          new_position=self._roof_middle())
+                          new_position=self._roof_middle(), origins=_origins(project))
         self.survey.show(project.survey, units=project.units)
+        self.survey.show_crosscheck(_survey_against_elevation(project))
         self._show_band()
         self.module_panel.show(project)
         self.roof_panel.show(project)
@@ -461,7 +490,7 @@ class Planner(w.VBox):
         obstructions = list(self.project.obstructions)
         obstructions[index] = old.translated(x - ax, y - ay)
         place = f"x = {length_text(x, units)}, y = {length_text(y, units)}"
-        return (self.project.with_changes(obstructions=tuple(obstructions)),
+        return (with_obstructions(self.project, obstructions),
                 obstruction_label(old, index), place)
 
     def _obstruction_dragging(self, index: int, x_m: float, y_m: float) -> None:
@@ -548,11 +577,12 @@ class Planner(w.VBox):
             message="Refilled with the Module tab's values.")
 
     def _obstructions_edited(self, obstructions, index) -> None:
-        project = self.project.with_changes(obstructions=tuple(obstructions))
+        project = with_obstructions(self.project, obstructions)
         if self.set_project(project, label="obstruction typed in Objects",
                             key=("objects", index, len(obstructions))):
             self.objects.show(self.project.obstructions, units=self.project.units, index=index,
-                              new_position=self._roof_middle())
+                              new_position=self._roof_middle(),
+                              origins=_origins(self.project))
 
     def _survey_edited(self, entries, index) -> bool:
         try:

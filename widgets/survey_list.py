@@ -171,3 +171,28 @@ def list_html(entries, index: int | None, units: str) -> str:
             "<th>#</th><th style='text-align:left'>name</th><th style='text-align:left'>"
             "kind</th><th>x (east)</th><th>y (north)</th><th>height</th>"
             "<th>height over the tolerances</th></tr>" + "".join(rows) + "</table>")
+
+
+def crosscheck_html(checks) -> str:
+    """Return the survey's cross-check against elevation data as an HTML list.
+
+    Parameters
+    ----------
+    checks : sequence of layout.elevation.SurveyCheck
+        One per survey entry (:func:`layout.elevation.cross_check`).
+
+    Returns
+    -------
+    str
+        A heading and one line per entry, the ones outside their tolerance in red; empty
+        when there is nothing to compare.
+    """
+    if not checks:
+        return ""
+    lines = []
+    for check in checks:
+        colour = "#a33" if check.flagged else "#2e6b3a"
+        lines.append(f"<li style='color:{colour}'>{html.escape(check.text())}</li>")
+    return ("<div style='font-size:12px;margin-top:6px'><b>Against the elevation data</b> "
+            "(neither side is taken as right: the data may be old, a reading may be off)"
+            f"<ul style='padding-left:18px;margin:4px 0'>{''.join(lines)}</ul></div>")

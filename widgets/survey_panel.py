@@ -56,6 +56,7 @@ from .survey_list import (
     IMPORT_HELP_HTML,
     NOTE_HTML,
     START_HTML,
+    crosscheck_html,
     error_html,
     heading_html,
     hint_html,
@@ -134,6 +135,8 @@ class SurveyPanel(Quiet, w.VBox):
         self.message.add_class("eaveline-survey-message")
         self.list_html = w.HTML()
         self.list_html.add_class("eaveline-survey-list")
+        self.crosscheck_html = w.HTML()
+        self.crosscheck_html.add_class("eaveline-survey-crosscheck")
         self.csv_path = w.Text(placeholder="path of a survey CSV", description="CSV file",
                                layout=w.Layout(width="420px"))
         self.import_button = w.Button(description="Import CSV", layout=w.Layout(width="auto"))
@@ -147,6 +150,7 @@ class SurveyPanel(Quiet, w.VBox):
                    layout=w.Layout(align_items="center")),
             self.fields_box, self.readout, self.message,
             w.HTML(heading_html("Surveyed obstructions")), self.list_html,
+            self.crosscheck_html,
             w.HTML(heading_html("Import readings")),
             w.HTML(IMPORT_HELP_HTML),
             w.HBox([self.csv_path, self.import_button], layout=w.Layout(align_items="center")),
@@ -192,6 +196,10 @@ class SurveyPanel(Quiet, w.VBox):
             self._reformat()
         self.index = index
         self._refresh()
+
+    def show_crosscheck(self, checks) -> None:
+        """Show each entry against the elevation data (:func:`layout.elevation.cross_check`)."""
+        self.crosscheck_html.value = crosscheck_html(checks)
 
     def new_entry(self) -> None:
         """Clear the form for a new entry (station, eye height and method carried over)."""

@@ -91,6 +91,11 @@ def main(argv: Sequence[str] | None = None) -> int:
                        shade_model=args.shade_model, paper=args.paper,
                        with_range=args.with_range, with_compare=args.with_compare,
                        metric=args.metric, preparer=args.preparer, licence=args.licence)
+        elif args.command == "from-points":
+            from .from_points import run_from_points  # laspy and rasterio for this one only
+
+            run_from_points(args.tile, site=args.site, radius_m=args.radius, out=args.out,
+                            crs=args.crs, surface=args.surface, timezone=args.timezone)
     except ProjectFileError as err:
         # check lists every problem; the other commands give one line
         print(err if args.command == "check" else f"error: {one_line(err)}", file=sys.stderr)

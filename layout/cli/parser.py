@@ -32,7 +32,7 @@ def fill_orientations(text: str) -> tuple[str, ...]:
 
 
 def command_parser() -> argparse.ArgumentParser:
-    """Return the parser of ``python -m layout``: summary, check, evaluate, batch, compare, report.
+    """Return the parser of ``python -m layout``: summary, check, evaluate, batch, compare, ...
 
     ``batch`` is listed for its help line only; its options are :func:`batch_parser`'s.
     """
@@ -80,8 +80,27 @@ def command_parser() -> argparse.ArgumentParser:
     compare.add_argument("--keep-worst", action="store_true",
                          help="compare the full fills only")
     report_parser(commands)
+    points = commands.add_parser("from-points", help="start a project from a LiDAR tile "
+                                                     "(LAS/LAZ): roof faces, chimneys, trees")
+    points.add_argument("tile", help="a .las or .laz point cloud")
+    points.add_argument("--site", required=True, type=_site, metavar="LAT,LON",
+                        help="the building's latitude and longitude in degrees")
+    points.add_argument("--radius", type=float, default=40.0, metavar="M",
+                        help="crop radius about the site in metres (default 40)")
+    points.add_argument("-o", "--out", required=True, metavar="PROJECT",
+                        help="the project file to write (.eaveline.json)")
+    points.add_argument("--crs", help="the tile's CRS (e.g. EPSG:32632) when the file has none")
+    points.add_argument("--surface", metavar="DSM.tif",
+                        help="a GeoTIFF surface model for the far horizon")
+    points.add_argument("--timezone", help="IANA time zone of the site (default: the "
+                                           "longitude's mean solar offset)")
     return parser
 
+
+def _site(text: str):
+    from .from_points import parse_site
+
+    return parse_site(text)
 
 def report_parser(commands) -> argparse.ArgumentParser:
     """Add ``report`` (the shade report as PDF or HTML) to the subcommands; return its parser."""

@@ -82,6 +82,11 @@ def project_summary(project: Project) -> str:
     out.append(text_table(("face", "modules"), sorted(by_face.items())))
     if layout.notes:
         out += ["", "Notes", *bullets(layout.notes)]
+    if project.sources:
+        out += ["", "Imported items", *bullets(
+            f"{', '.join(s['items'])}: {s['note']} ({s.get('file', s['kind'])}"
+            + (f", acquired {s['acquired']}" if s.get("acquired") else "") + ")"
+            for s in project.sources)]
     out += ["", "Cautions", *bullets((CAUTION, *SAFETY_LINES[1:]))]
     return "\n".join(out)
 
