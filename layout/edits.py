@@ -23,13 +23,16 @@ from .errors import InputError, check_finite
 from .project import Project
 from .scene.building import OVERLAP_TOLERANCE_M2, Building
 from .scene.roof import EDGE_KINDS, RoofFace, building_to_site
+from .scene.site import Site, timezone_at
 
 __all__ = [
     "add_building",
     "add_face",
+    "add_footprints",
     "blank_project",
     "edit_face",
     "move_building",
+    "project_from_footprints",
     "remove_building",
     "rename_building",
 ]
@@ -53,6 +56,98 @@ def blank_project(site, module, clearance, *, units: str = "metric", name: str =
     """
     return Project(site=site, buildings=(), module=module, clearance=clearance, units=units,
                    name=name)
+
+
+#: A footprint further than this from the project's site is named in a note [m]: a file for
+#: another street, or a site typed wrong.
+FAR_FROM_SITE_M = 1000.0
+
+
+def _unique(name: str, taken: set) -> str:
+    if name not in taken:
+        return name
+    k = 2
+    while f"{name} ({k})" in taken:
+        k += 1
+    return f"{name} ({k})"
+
+
+def add_footprints(project: Project, source, *, pitch_deg: float = 0.0,
+                   eave_height_m: float = 3.0) -> tuple[Project, object]:
+    """Return the project with a building over each footprint of a GeoJSON file.
+
+    Parameters
+    ----------
+    project : Project
+        The project; its site is the origin the footprints are placed about.
+    source : str, pathlib.Path or dict
+        The GeoJSON file or its content (:func:`layout.scene.footprints.read_footprints`).
+    pitch_deg : float, default 0
+        Slope of each building's one roof face [degrees] (0: flat); pitches are edited per
+        face afterwards.
+    eave_height_m : float, default 3
+        Eave height of each building [m].
+
+    Returns
+    -------
+    project : Project
+        With the new buildings (a name already taken gets a number: "garage (2)").
+    found : layout.scene.footprints.FootprintImport
+        What the file held, and its notes.
+
+    Raises
+    ------
+    InputError
+        As :func:`layout.scene.footprints.read_footprints`, or when a footprint overlaps a
+        building already there.
+    """
+    # pyproj only for this: `import layout` stays light
+    from .scene.footprints import building_from_footprint, read_footprints
+
+    site = project.site
+    found = read_footprints(source, site_latitude=site.latitude, site_longitude=site.longitude)
+    far = [f"{name} lies {np.hypot(*np.mean(outline, axis=0)) / 1000:.1f} km from the site: "
+           "check the file and the project's site" for outline, name
+           in zip(found.outlines, found.names, strict=True)
+           if np.hypot(*np.mean(outline, axis=0)) > FAR_FROM_SITE_M]
+    found = replace(found, notes=(*found.notes, *far))
+    taken = {b.name for b in project.buildings}
+    for outline, name in zip(found.outlines, found.names, strict=True):
+        name = _unique(name, taken)
+        taken.add(name)
+        try:
+            building = building_from_footprint(outline, name, pitch_deg=pitch_deg,
+                                               eave_height_m=eave_height_m)
+        except InputError as err:
+            raise err.at(f"footprints[{name}]") from None
+        project = add_building(project, building)
+    return project, found
+
+
+def project_from_footprints(source, module, clearance, *, pitch_deg: float = 0.0,
+                            eave_height_m: float = 3.0, units: str = "metric",
+                            name: str = "") -> tuple[Project, object]:
+    """Start a project from a GeoJSON footprint file, its site at the footprints' centroid.
+
+    The time zone is looked up offline from the centroid (:func:`timezone_at`). Other
+    parameters are those of :func:`blank_project` and :func:`add_footprints`.
+
+    Returns
+    -------
+    project : Project
+        A new project with a building over each footprint.
+    found : layout.scene.footprints.FootprintImport
+        What the file held; ``found.site_latitude`` and ``found.site_longitude`` are the site.
+    """
+    from .scene.footprints import read_footprints
+
+    found = read_footprints(source)
+    site = Site(found.site_latitude, found.site_longitude,
+                timezone_at(found.site_latitude, found.site_longitude))
+    project = blank_project(site, module, clearance, units=units, name=name)
+    project, _ = add_footprints(project, source, pitch_deg=pitch_deg,
+                                eave_height_m=eave_height_m)
+    return project, found
 
 
 def _check_clear_of_others(project: Project, building: Building, skip: str | None) -> None:

@@ -197,3 +197,24 @@ def test_a_crossing_outline_is_refused_and_kept_for_fixing(fresh):
     assert len(panel.corners) == 4 and panel.draw_add.disabled
     panel.take_back_corner()
     assert len(panel.corners) == 3
+
+
+def test_importing_footprints_into_a_new_project_moves_its_site(fresh, tmp_path):
+    import json
+
+    path = tmp_path / "studio.geojson"
+    corners = [[-122.6765, 45.5231], [-122.67624, 45.5231], [-122.67624, 45.52317],
+               [-122.6765, 45.52317], [-122.6765, 45.5231]]
+    path.write_text(json.dumps({"type": "Polygon", "coordinates": [corners]}))
+    panel = fresh.roof_panel
+    panel.footprint_path.input.value = str(path)
+    panel.footprint_pitch.input.value = "4/12"
+    assert panel.import_footprints()
+    # the IANA zone of Portland, Oregon (public record)
+    assert fresh.project.site.timezone == "America/Los_Angeles"
+    assert len(fresh.project.buildings) == 1 and fresh.array_layout.count > 0
+    assert "site moved" in panel.footprint_message.value
+    panel.footprint_path.input.value = str(tmp_path / "missing.geojson")
+    assert not panel.import_footprints()
+    assert "cannot be read" in panel.footprint_path.error
+    assert fresh.history.undo_label.startswith("imported 1 footprint")

@@ -11,12 +11,14 @@ from __future__ import annotations
 
 import html
 from collections.abc import Callable
+from dataclasses import replace
 
 import ipywidgets as w
 
 from layout.edits import (
     add_building,
     add_face,
+    add_footprints,
     blank_project,
     edit_face,
     move_building,
@@ -201,6 +203,27 @@ class RoofPanel(Quiet, w.VBox):
             self.draw_name, self.draw_pitch, self.draw_eave, self.draw_eave_edge,
             self.draw_into, self.draw_add, self.draw_message])
 
+        # ---- footprint file
+        self.footprint_path = FieldRow("footprint_file", "GeoJSON file",
+                                       w.Text(placeholder="footprints.geojson"))
+        self.footprint_pitch = FieldRow("pitch_deg", "Pitch (° or 6/12)", w.Text(value="0"))
+        self.footprint_eave = FieldRow("eave_height_m", "Eave height", w.Text(value="3 m"))
+        for row in (self.footprint_path, self.footprint_pitch, self.footprint_eave):
+            row.input.add_class(f"eaveline-footprint-{row.key.replace('_', '-')}")
+        self.footprint_button = w.Button(description="Import the footprints",
+                                         layout=w.Layout(width="auto"))
+        self.footprint_button.add_class("eaveline-import-footprints")
+        self.footprint_button.on_click(lambda _: self.import_footprints())
+        self.footprint_message = w.HTML()
+        footprint_box = w.VBox([
+            w.HTML(_NOTE.format(
+                "Building outlines from a GeoJSON file (longitude and latitude, or a projected "
+                "system named in the file), one building each with one roof face; set each "
+                "face's pitch and edges afterwards. In a project with no buildings yet, the "
+                "site moves to the footprints' centre.")),
+            self.footprint_path, self.footprint_pitch, self.footprint_eave,
+            self.footprint_button, self.footprint_message])
+
         # ---- faces
         self.face = w.Dropdown(options=[], description="Face", layout=w.Layout(width="320px"))
         self.face.add_class("eaveline-face-choice")
@@ -221,9 +244,10 @@ class RoofPanel(Quiet, w.VBox):
         self.sections = w.Accordion(children=[new_box, w.VBox([self.kind, self.template_box,
                                                                self.add_button,
                                                                self.template_message]),
-                                              draw_box, building_box, face_box],
+                                              draw_box, footprint_box, building_box,
+                                              face_box],
                                     titles=("New project", "Add a building", "Draw an outline",
-                                            "Buildings", "Faces"))
+                                            "Import footprints", "Buildings", "Faces"))
         self.sections.selected_index = 1
         super().__init__([self.sections])
         self.add_class("eaveline-roof-panel")
@@ -268,7 +292,7 @@ class RoofPanel(Quiet, w.VBox):
         """Pick a face (as a click on its name on the plan does) and open the Faces section."""
         if name in self.face.options:
             self.face.value = name
-            self.sections.selected_index = 4
+            self.sections.selected_index = 5
 
     # ----------------------------------------------------------------- new project
     def _find_zone(self, _change=None) -> None:
@@ -602,3 +626,55 @@ class RoofPanel(Quiet, w.VBox):
             if building.name == building_name:
                 return len(building.faces)
         return 0
+
+    # ----------------------------------------------------------------- footprints
+    def import_footprints(self) -> bool:
+        """Add a building over each footprint of the GeoJSON file named in the form."""
+        values = {}
+        for row, read in ((self.footprint_pitch, lambda t: parse_pitch(t, field="pitch_deg")),
+                          (self.footprint_eave, lambda t: read_length(t, self.units,
+                                                                      field="eave_height_m"))):
+            row.set_error(None)
+            try:
+                values[row.key] = read(row.input.value)
+            except InputError as err:
+                row.set_error(error_text(err))
+        self.footprint_path.set_error(None)
+        path = self.footprint_path.input.value.strip()
+        if not path:
+            self.footprint_path.set_error("is empty (allowed: the path of a GeoJSON file)")
+            return False
+        if len(values) < 2:
+            return False
+        project = self.project
+        notes = []
+        try:
+            if not project.buildings:  # a new project: its site moves to the footprints
+                from layout.scene.footprints import read_footprints
+
+                found = read_footprints(path)
+                site = Site(found.site_latitude, found.site_longitude,
+                            timezone_at(found.site_latitude, found.site_longitude),
+                            altitude_m=project.site.altitude_m, name=project.site.name)
+                project = replace(project, site=site)
+                notes.append(f"site moved to the footprints' centre, {site.latitude:.6f}, "
+                             f"{site.longitude:.6f} ({site.timezone})")
+            project, found = add_footprints(project, path, pitch_deg=values["pitch_deg"],
+                                            eave_height_m=values["eave_height_m"])
+        except InputError as err:
+            target = (self.footprint_path if err.field.startswith(("footprint_file",
+                                                                   "coordinates", "crs"))
+                      else None)
+            if target is not None:
+                target.set_error(error_text(err))
+            else:
+                self.footprint_message.value = _NOTE.format(html.escape(f"Not imported: {err}"))
+            return False
+        label = f"imported {len(found.outlines)} footprint(s) from {path}"
+        if not self._hand_on(project, label):
+            return False
+        notes += [n for n in found.notes if "centroid" not in n]
+        self.footprint_message.value = _NOTE.format(html.escape(
+            f"Imported {', '.join(found.names)} ({found.crs})."
+            + "".join(f" Note: {n}." for n in notes)))
+        return True

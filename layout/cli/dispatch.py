@@ -91,6 +91,11 @@ def main(argv: Sequence[str] | None = None) -> int:
                        shade_model=args.shade_model, paper=args.paper,
                        with_range=args.with_range, with_compare=args.with_compare,
                        metric=args.metric, preparer=args.preparer, licence=args.licence)
+        elif args.command == "import-footprint":
+            from .footprints import run_import_footprint  # pyproj for this one only
+
+            run_import_footprint(args.footprints, out=args.out, into=args.into, pitch=args.pitch,
+                                 eave_height=args.eave_height)
         elif args.command == "from-points":
             from .from_points import run_from_points  # laspy and rasterio for this one only
 

@@ -7,7 +7,8 @@ import argparse
 from ..fill.faces import FILL_ORIENTATIONS
 from ..power.electrical import SHADE_MODELS
 
-__all__ = ["batch_parser", "command_parser", "fill_orientations", "report_parser"]
+__all__ = ["batch_parser", "command_parser", "fill_orientations", "footprint_parser",
+           "report_parser"]
 
 
 def fill_orientations(text: str) -> tuple[str, ...]:
@@ -80,6 +81,7 @@ def command_parser() -> argparse.ArgumentParser:
     compare.add_argument("--keep-worst", action="store_true",
                          help="compare the full fills only")
     report_parser(commands)
+    footprint_parser(commands)
     points = commands.add_parser("from-points", help="start a project from a LiDAR tile "
                                                      "(LAS/LAZ): roof faces, chimneys, trees")
     points.add_argument("tile", help="a .las or .laz point cloud")
@@ -95,6 +97,26 @@ def command_parser() -> argparse.ArgumentParser:
     points.add_argument("--timezone", help="IANA time zone of the site (default: the "
                                            "longitude's mean solar offset)")
     return parser
+
+
+def footprint_parser(commands) -> argparse.ArgumentParser:
+    """Add ``import-footprint`` (buildings from GeoJSON) to the subcommands; return its parser."""
+    footprint = commands.add_parser("import-footprint",
+                                    help="buildings from a GeoJSON footprint file, in a new "
+                                         "project or an existing one")
+    footprint.add_argument("footprints", help="a GeoJSON file (longitude/latitude, or a "
+                                              "projected CRS named in its 'crs' member)")
+    footprint.add_argument("-o", "--out", required=True, metavar="PROJECT",
+                           help="the project file to write (.eaveline.json)")
+    footprint.add_argument("--into", metavar="PROJECT",
+                           help="add the buildings to this project (about its site) instead "
+                                "of starting one at the footprints' centroid")
+    footprint.add_argument("--pitch", default="0",
+                           help="roof pitch in degrees or rise in 12, e.g. 4/12 (default 0: "
+                                "flat)")
+    footprint.add_argument("--eave-height", default="3 m",
+                           help="eave height with its unit, e.g. '10 ft' (default 3 m)")
+    return footprint
 
 
 def _site(text: str):
