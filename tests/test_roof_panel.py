@@ -218,3 +218,21 @@ def test_importing_footprints_into_a_new_project_moves_its_site(fresh, tmp_path)
     assert not panel.import_footprints()
     assert "cannot be read" in panel.footprint_path.error
     assert fresh.history.undo_label.startswith("imported 1 footprint")
+
+
+def test_dragging_a_buildings_handle_moves_it_and_undo_puts_it_back():
+    import numpy as np
+
+    planner = Planner(load_demo_project())
+    handle = planner.plan.building_markers
+    assert list(handle.names) == [b.name for b in planner.project.buildings]
+    before = planner.project.buildings[0].footprint.centroid.coords[0]
+    k = planner.plan._k  # display units per metre
+    with handle.hold_trait_notifications():  # the front end's drop: x and y together
+        handle.x = np.array([handle.x[0] + 2.0 * k])
+        handle.y = np.array([handle.y[0] - 1.0 * k])
+    after = planner.project.buildings[0].footprint.centroid.coords[0]
+    np.testing.assert_allclose(np.subtract(after, before), (2.0, -1.0), atol=0.01)
+    assert "west" not in planner.history.undo_label and "south" in planner.history.undo_label
+    planner.undo()
+    np.testing.assert_allclose(planner.project.buildings[0].footprint.centroid.coords[0], before)

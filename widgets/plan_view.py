@@ -278,6 +278,8 @@ class PlanView(Quiet, w.VBox):
         self._face_clicked: list[Callable] = []
         self._corner_added: list[Callable] = []
         self._first_corner_clicked: list[Callable] = []
+        self._building_moved: list[Callable] = []
+        self._building_anchors = np.zeros((0, 2))
         self._surveyed_index: list[int] = []
         self.module_values = None
         self.module_values_label = ""
@@ -341,6 +343,11 @@ class PlanView(Quiet, w.VBox):
             interactions={"click": "select", "hover": "tooltip"},
             tooltip=bq.Tooltip(fields=["name"], labels=["click to close the outline"]),
             display_names=False, selected_style={}, unselected_style={})
+        self.building_markers = bq.Scatter(
+            x=[], y=[], scales=scales, marker="cross", default_size=140,
+            colors=[style.PREVIEW_EDGE], stroke="white", stroke_width=1.0, enable_move=True,
+            display_names=False, interactions={"hover": "tooltip"},
+            tooltip=bq.Tooltip(fields=["name"], labels=["drag to move the building"]))
         self.face_targets = bq.Scatter(
             x=[], y=[], scales=scales, marker="square", default_size=90,
             colors=[style.INK], opacities=[0.0], stroke=None,
@@ -392,6 +399,7 @@ class PlanView(Quiet, w.VBox):
                    self.sight_marks, self.edge_labels, self.face_labels, self.selected_mark,
                    self.module_targets, self.face_targets, self.preview_marks,
                    self.draw_lines, self.draw_points, self.first_corner,
+                   self.building_markers,
                    self.station_marks, self.surveyed_markers, self.obstruction_markers],
             axes=[self.x_axis, self.y_axis],
             fig_margin=dict(FIGURE_MARGIN_PX), display_toolbar=False,
@@ -421,6 +429,7 @@ class PlanView(Quiet, w.VBox):
         self.face_targets.observe(self._face_selected, names=["selected"])
         self.draw_points.observe(self._draw_point_added, names=["x"])
         self.first_corner.observe(self._first_corner_selected, names=["selected"])
+        self.building_markers.observe(self._building_marker_moved, names=["x", "y"])
         self.surveyed_markers.observe(self._surveyed_selected, names=["selected"])
         super().__init__([w.HBox([self.zoom_toggle, self.fit_button, self.hint],
                                  layout=w.Layout(align_items="center")),
@@ -474,6 +483,36 @@ class PlanView(Quiet, w.VBox):
     def on_corner_added(self, callback: Callable) -> None:
         """Call ``callback(x_m, y_m)`` with each corner clicked on the plan while drawing."""
         self._corner_added.append(callback)
+
+    def show_buildings(self, names, centres) -> None:
+        """Put a drag handle at each building's centre [m] (``names`` in the same order)."""
+        anchors = np.asarray(centres, dtype=float).reshape(-1, 2) * self._k
+        self._building_anchors = anchors.copy()
+        with self._silently(), self.building_markers.hold_sync():
+            self.building_markers.x, self.building_markers.y = anchors[:, 0], anchors[:, 1]
+            self.building_markers.names = list(names)
+
+    def on_building_moved(self, callback: Callable) -> None:
+        """Call ``callback(name, east_m, north_m)`` when a building's handle is dropped."""
+        self._building_moved.append(callback)
+
+    def _building_marker_moved(self, change) -> None:
+        if self._quiet:
+            return
+        x = np.asarray(self.building_markers.x, dtype=float)
+        y = np.asarray(self.building_markers.y, dtype=float)
+        anchors = self._building_anchors
+        if x.shape != y.shape or len(x) != len(anchors):
+            return
+        moved = np.flatnonzero(np.hypot(x - anchors[:, 0], y - anchors[:, 1]) > 1e-9)
+        if not len(moved):
+            return
+        i = int(moved[0])
+        shift = (x[i] - anchors[i, 0], y[i] - anchors[i, 1])
+        anchors[i] = (x[i], y[i])  # a second notification of the same drop is ignored
+        name = list(self.building_markers.names)[i]
+        for callback in self._building_moved:
+            callback(name, shift[0] / self._k, shift[1] / self._k)
 
     def on_first_corner_clicked(self, callback: Callable) -> None:
         """Call ``callback()`` when the first corner of the outline being drawn is clicked."""

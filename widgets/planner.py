@@ -64,6 +64,7 @@ from pathlib import Path
 
 import ipywidgets as w
 
+from layout.edits import move_building
 from layout.elevation import PROVENANCE, cross_check
 from layout.errors import InputError
 from layout.history import ProjectHistory
@@ -284,6 +285,7 @@ class Planner(w.VBox):
         self.plan.on_corner_added(self.roof_panel.add_corner)
         self.plan.on_first_corner_clicked(self.roof_panel.close_outline)
         self.plan.on_face_clicked(self._face_clicked)
+        self.plan.on_building_moved(self._building_dragged)
         self.elevation_panel = ElevationPanel()
         self.elevation_panel.on_keep(
             lambda project: self.set_project(project, message="Items from elevation data "
@@ -371,6 +373,8 @@ class Planner(w.VBox):
                 and previous.faces == project.faces)
         self.plan.draw(plan_scene(project, result.layout, result.areas), units=project.units,
                        keep_static=keep)
+        self.plan.show_buildings([b.name for b in project.buildings],
+                                 [b.footprint.centroid.coords[0] for b in project.buildings])
         self._show_figures()
         self._draw_shadows()
         self.objects.show(project.obstructions, units=project.units,
@@ -566,6 +570,24 @@ class Planner(w.VBox):
     def _outline_drawn(self, drawing: bool, corners, closed: bool) -> None:
         self.plan.set_drawing(drawing)
         self.plan.show_drawing(corners, closed=closed)
+
+    def _building_dragged(self, name: str, east_m: float, north_m: float) -> None:
+        units = self.project.units
+        east, north = snap_length(east_m, units), snap_length(north_m, units)
+        try:
+            project = move_building(self.project, name, east_m=east, north_m=north)
+        except InputError as err:
+            project = None
+            self._status(f"Not moved: {err}", error=True)
+        label = (f"moved {name} {length_text(abs(east), units)} "
+                 f"{'east' if east >= 0 else 'west'}, {length_text(abs(north), units)} "
+                 f"{'north' if north >= 0 else 'south'}")
+        if project is None or not self.set_project(project, message=label[0].upper() + label[1:]
+                                                   + ".", label=label):
+            # put the handle back where the project still has the building
+            self.plan.show_buildings([b.name for b in self.project.buildings],
+                                     [b.footprint.centroid.coords[0]
+                                      for b in self.project.buildings])
 
     def _face_clicked(self, name: str) -> None:
         self.show_tab("Roof")
