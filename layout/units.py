@@ -65,7 +65,23 @@ _UNIT_M = {
     "ft": FOOT_M, "foot": FOOT_M, "feet": FOOT_M, "'": FOOT_M, "’": FOOT_M,
     "in": INCH_M, "inch": INCH_M, "inches": INCH_M, '"': INCH_M, "”": INCH_M, "''": INCH_M,
 }
-_PART = re.compile(r"\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+))\s*(''|[a-zA-Z]+|['\"’”])?")
+# a number: a mixed number of inches as a tape reads ("6 3/4", "6-3/4"), a fraction ("3/4")
+# or a decimal; then its unit, if any
+_PART = re.compile(
+    r"\s*([-+]?(?:\d+[ \t-]+\d+/\d+|\d+/\d+|\d+(?:\.\d*)?|\.\d+))\s*(''|[a-zA-Z]+|['\"’”])?")
+
+
+def _number(text: str) -> float:
+    """Value of a decimal, a fraction ("3/4") or a mixed number ("6 3/4", "6-3/4")."""
+    text = text.strip()
+    if "/" not in text:
+        return float(text)
+    head, _, fraction = text.rpartition(" ") if " " in text else text.rpartition("-")
+    numerator, denominator = fraction.split("/")
+    if float(denominator) == 0:
+        raise ValueError("a fraction over zero")
+    whole = float(head.strip(" -\t") or 0) if head.strip(" -\t") not in ("", "+") else 0.0
+    return whole + float(numerator) / float(denominator)
 
 
 def parse_length(text, *, default_unit: str = "m", field: str = "length") -> float:
@@ -73,7 +89,9 @@ def parse_length(text, *, default_unit: str = "m", field: str = "length") -> flo
 
     Accepts a bare number (in ``default_unit``), a number with a unit (``"3.2 m"``,
     ``"457 mm"``, ``"18 in"``, ``"36\""``), or feet and inches together (``"11 ft 6 in"``,
-    ``"11' 6\""``, ``"11 ft 6"``: a bare number after feet is inches). A leading minus
+    ``"11' 6\""``, ``"11 ft 6"``: a bare number after feet is inches). Inches may be written
+    with fractions as a tape reads them: ``"6 3/4 in"``, ``"6-3/4 in"``, ``"3/4 in"``,
+    ``"11 ft 6 3/4 in"``. A leading minus
     applies to the whole length.
 
     Parameters
@@ -128,7 +146,11 @@ def parse_length(text, *, default_unit: str = "m", field: str = "length") -> flo
                 field, f"unknown unit {unit!r}", value=text, allowed="m, cm, mm, ft, in, ' or \""
             )
         last_unit_m = _UNIT_M[unit]
-        total += float(number) * last_unit_m
+        try:
+            total += _number(number) * last_unit_m
+        except ValueError:
+            raise InputError(field, "has a fraction over zero", value=text,
+                             allowed="a length such as 3.2 m or 11 ft 6 3/4 in") from None
         position = match.end()
         parts += 1
     if parts == 0 or source[position:].strip():
@@ -139,7 +161,7 @@ def parse_length(text, *, default_unit: str = "m", field: str = "length") -> flo
 
 
 def format_length(metres: float, system: str = "metric", *, digits: int = 2) -> str:
-    """Format a length for display: ``"1.83 m"`` or ``"6 ft 0 in"``.
+    """Format a length for display: ``"1.83 m"``, ``"6 ft 0 in"`` or ``"11 ft 6 3/4 in"``.
 
     Parameters
     ----------
@@ -148,16 +170,25 @@ def format_length(metres: float, system: str = "metric", *, digits: int = 2) -> 
     system : {"metric", "imperial"}
         Unit system to show.
     digits : int
-        Decimals for metres; imperial lengths are rounded to the nearest quarter inch.
+        Decimals for metres. Imperial lengths are rounded to the nearest sixteenth of an inch
+        and written as a tape reads: ``"11 ft 6 3/4 in"``, ``"3/4 in"`` (no feet under a foot),
+        ``"6 ft 0 in"``.
     """
     if system == "metric":
         return f"{metres:.{digits}f} m"
     if system != "imperial":
         raise InputError("system", "unknown unit system", value=system, allowed="metric, imperial")
-    total_in = round(abs(metres) / INCH_M * 4) / 4
-    feet, inches = divmod(total_in, 12)
-    sign = "-" if metres < 0 else ""
-    return f"{sign}{int(feet)} ft {inches:g} in"
+    sixteenths = round(abs(metres) / INCH_M * 16)
+    feet, rest = divmod(sixteenths, 12 * 16)
+    whole, part = divmod(rest, 16)
+    step = math.gcd(part, 16)
+    fraction = f" {part // step}/{16 // step}" if part else ""
+    sign = "-" if sixteenths and metres < 0 else ""
+    if feet:
+        return f"{sign}{int(feet)} ft {whole}{fraction} in"
+    if part and not whole:  # under an inch: "3/4 in", not "0 3/4 in"
+        return f"{sign}{fraction.strip()} in"
+    return f"{sign}{whole}{fraction} in"
 
 
 def pitch_from_rise(rise, run: float = 12.0):

@@ -195,3 +195,29 @@ def test_parse_pitch_names_the_range(text, words):
 
     with pytest.raises(InputError, match=words):
         parse_pitch(text, field="pitch_deg")
+
+
+@pytest.mark.parametrize("metres, text", [
+    # the trade writes inches in sixteenths, reduced (a tape's marks): 3/4 in, not 0.75 in
+    (0.75 * 0.0254, "3/4 in"),
+    (6.5 * 0.0254, "6 1/2 in"),
+    (11 * 0.3048 + 6.75 * 0.0254, "11 ft 6 3/4 in"),
+    (40 * 0.3048 + 0.3125 * 0.0254, "40 ft 0 5/16 in"),
+    (0.0, "0 in"),
+    (-0.75 * 0.0254, "-3/4 in"),
+])
+def test_imperial_lengths_in_sixteenths(metres, text):
+    assert format_length(metres, "imperial") == text
+    assert parse_length(text) == pytest.approx(metres, abs=1e-12)
+
+
+@pytest.mark.parametrize("text, inches", [("6 3/4 in", 6.75), ("6-3/4 in", 6.75),
+                                          ("3/4\"", 0.75), ("1 ft 1/2 in", 12.5),
+                                          ("11' 6-1/2\"", 138.5)])
+def test_parse_length_reads_fractions_of_an_inch(text, inches):
+    assert parse_length(text) == pytest.approx(inches * 0.0254, abs=1e-12)
+
+
+def test_a_fraction_over_zero_is_refused():
+    with pytest.raises(InputError, match="fraction over zero"):
+        parse_length("1/0 in")
