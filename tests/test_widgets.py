@@ -792,19 +792,33 @@ def test_sky_chart_names_the_tree_for_a_module_it_shades(planner):
 
 # --------------------------------------------------------------------------- Hours tab
 def test_heat_map_is_the_cores_month_hour_table(planner):
+    from widgets.charts import MONTH_NAMES, NIGHT
+
     planner.show_tab("Hours")
     module_id = planner.selected_id
     expected = planner.result.module_month_hour(module_id)
-    heat = planner.hours_panel.heat_map.heat
+    heat_map = planner.hours_panel.heat_map
+    heat = heat_map.heat
     hours = [int(h) for h in heat.column]
     assert np.isfinite(expected.to_numpy()).any(axis=0)[hours].all()
-    np.testing.assert_allclose(heat.color, expected[hours].to_numpy(), rtol=1e-12)
+
+    def check(table):
+        values = table[hours].to_numpy()
+        night = ~np.isfinite(values)
+        np.testing.assert_allclose(heat.color[~night], values[~night], rtol=1e-12)
+        # sun below the horizon: the scale's lowest stop, the light grey the note names
+        assert (heat.color[night] == heat_map.colour_scale.min).all()
+        assert heat_map.colour_scale.min < 0
+
+    check(expected)
     planner.hours_panel.hours_scope.value = "layout"
-    whole = planner.result.month_hour
-    hours = [int(h) for h in heat.column]
-    np.testing.assert_allclose(heat.color, whole[hours].to_numpy(), rtol=1e-12)
-    assert list(planner.hours_panel.heat_map.colour_scale.colors) == list(FIGURE_SCALE)
-    assert "shade loss" in planner.hours_panel.heat_map.colour_axis.label
+    check(planner.result.month_hour)
+    scale = heat_map.colour_scale
+    assert list(scale.colors) == [NIGHT, *FIGURE_SCALE]
+    # the figure's stops fall on 0 ... max, as on the plan: one stop width below zero is night
+    assert scale.min == pytest.approx(-scale.max / (len(FIGURE_SCALE) - 1))
+    assert "shade loss" in heat_map.colour_axis.label and min(heat_map.colour_axis.tick_values) == 0
+    assert heat_map.month_axis.tick_labels["1"] == MONTH_NAMES[0] == "Jan"
 
 
 # --------------------------------------------------------------------------- timeline
