@@ -53,7 +53,8 @@ class HoursHeatMap(w.VBox):
                                labels=["month", "hour", "shade loss %"],
                                formats=["", "", ".1f"]))
         self.colour_axis = bq.ColorAxis(scale=self.colour_scale, side="right",
-                                        label="shade loss %", label_offset="44px")
+                                        label="shade loss %", label_offset="44px",
+                                        tick_format=".0f")
         self.month_axis = bq.Axis(scale=self.row_scale, orientation="vertical", side="left",
                                   label="month", label_offset="40px",
                                   tick_labels={str(m): n for m, n in
@@ -64,7 +65,7 @@ class HoursHeatMap(w.VBox):
                   self.month_axis, self.colour_axis],
             display_toolbar=False,
             fig_margin={"top": 12, "bottom": 44, "left": 56, "right": 110},
-            layout=w.Layout(width=f"{width_px}px", height=f"{height_px}px"))
+            layout=w.Layout(width="100%", max_width=f"{width_px}px", height=f"{height_px}px"))
         self.figure.add_class("eaveline-hours")
         self.title = w.HTML()
         self.table: pd.DataFrame | None = None

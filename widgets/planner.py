@@ -85,6 +85,7 @@ from .history_bar import HistoryBar
 from .hours_panel import HoursPanel
 from .loss_band import LossRangePanel, module_bands, range_key
 from .module_panel import ModulePanel
+from .page_style import page_style
 from .plan_view import PlanView, obstruction_anchor, obstruction_label, plan_scene
 from .roof_panel import RoofPanel
 from .sky_panel import SkyPanel
@@ -294,7 +295,8 @@ class Planner(w.VBox):
                                     self.sky_panel, self.hours_panel, self.compare_panel,
                                     self.file_panel, self.elevation_panel],
                           titles=TAB_NAMES,
-                          layout=w.Layout(width="600px", min_width="480px"))
+                          layout=w.Layout(flex="1 1 600px", min_width="480px",
+                                          max_width="760px"))
         self.tabs.add_class("eaveline-side")
         self.tabs.observe(self._tab_changed, names="selected_index")
         self.cautions = w.HTML(
@@ -309,8 +311,10 @@ class Planner(w.VBox):
         super().__init__([
             w.HBox([self.title, w.HBox([self.history_bar, self.units_toggle])],
                    layout=w.Layout(justify_content="space-between", align_items="center")),
-            w.HBox([w.VBox([tools, self.plan, self.timeline, figures]), self.tabs]),
-            self.cautions,
+            # the side panel beside the plan on a wide screen, below it on a narrow one
+            w.HBox([w.VBox([tools, self.plan, self.timeline, figures]), self.tabs],
+                   layout=w.Layout(flex_flow="row wrap", align_items="flex-start")),
+            self.cautions, page_style(),
         ])
         self.add_class("eaveline-planner")
         self.set_project(project)
