@@ -28,7 +28,7 @@ from ..scene.building import Building, compass_name
 from ..scene.roof import RoofFace
 from .planes import Plane
 
-__all__ = ["faces_from_planes", "neighbour_pairs"]
+__all__ = ["faces_from_planes", "level_eaves", "neighbour_pairs"]
 
 #: An edge within this angle of level counts as level (eave, ridge) [degrees]; wider than the
 #: roof model's 1° since fitted planes carry a few tenths of a degree of error.
@@ -202,3 +202,67 @@ def faces_from_planes(planes, labels, x, y, z, footprint, *, spacing_m: float,
         raise InputError("points", "no roof face could be fitted inside the footprint",
                          value=name)
     return Building(tuple(faces), name=name)
+
+
+def level_eaves(footprint: shapely.Polygon, planes, *, tolerance_m: float = 0.25,
+                min_pitch_deg: float = 5.0) -> shapely.Polygon:
+    """Move the eave sides of a rectangular footprint found from points to one eave level.
+
+    Each side of a footprint traced from points carries the sampling error of the points near
+    it. Where two or more sides are eaves (the face over them slopes down across them) and
+    their heights agree within ``tolerance_m``, they are taken to be at one level, as the
+    eaves of most houses are (common practice): the level is their mean, and each eave side
+    moves out or in until its face's plane reaches that level there. The mean of several
+    sides' heights carries less error than any one side, and the faces' planes are known far
+    better than the points' extent. Rakes and sides of a level face are left where they are.
+
+    Parameters
+    ----------
+    footprint : shapely.Polygon
+        A rectangle (four corners) [m].
+    planes : sequence of Plane
+        The roof's planes (heights above the site's ground).
+    tolerance_m : float, default 0.25
+        Largest spread of the eave heights taken as one level [m].
+    min_pitch_deg : float, default 5
+        Faces flatter than this have no eave to level.
+
+    Returns
+    -------
+    shapely.Polygon
+        The footprint with its eave sides moved; the one given when there is nothing to do.
+    """
+    corners = np.asarray(footprint.exterior.coords)[:-1]
+    if len(corners) != 4 or not planes:
+        return footprint
+    centre = corners.mean(axis=0)
+    sides = []
+    for k in range(4):
+        a, b = corners[k], corners[(k + 1) % 4]
+        along = (b - a) / np.linalg.norm(b - a)
+        normal = np.array([along[1], -along[0]])
+        mid = (a + b) / 2
+        if normal @ (mid - centre) < 0:
+            normal = -normal
+        probe = mid - 0.5 * normal  # just inside: the face over this side
+        plane = min(planes, key=lambda p: float(p.height_at(*probe)))
+        grad = -np.array(plane.normal[:2]) / plane.normal[2]  # dz/dx, dz/dy
+        descent = -float(grad @ normal)  # height lost per metre outward
+        eave = (plane.pitch_deg >= min_pitch_deg
+                and descent >= 0.95 * float(np.hypot(*grad)))
+        sides.append((a, along, normal, float(plane.height_at(*mid)), descent, eave))
+    levels = [s[3] for s in sides if s[5]]
+    if len(levels) < 2 or max(levels) - min(levels) > tolerance_m:
+        return footprint
+    level = float(np.mean(levels))
+    lines = []
+    for a, along, normal, height, descent, eave in sides:
+        shift = (height - level) / descent if eave else 0.0
+        lines.append((a + shift * normal, along))
+    out = []
+    for k in range(4):
+        (p, d), (q, e) = lines[k - 1], lines[k]
+        # corner k: where side k-1 meets side k
+        t = np.linalg.solve(np.column_stack([d, -e]), q - p)
+        out.append(tuple(map(float, p + t[0] * d)))
+    return shapely.orient_polygons(shapely.Polygon(out))

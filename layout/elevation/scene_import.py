@@ -19,7 +19,7 @@ from ..scene.building import Building
 from ..scene.obstructions import Block, HorizonProfile, Tree
 from .bumps import RoofBump, roof_bumps
 from .classify import classify_points
-from .faces import faces_from_planes
+from .faces import faces_from_planes, level_eaves
 from .footprints import footprints_from_points, rectangle_from_points
 from .neighbours import neighbour_blocks
 from .planes import segment_planes
@@ -181,6 +181,7 @@ def scene_from_points(cloud: PointCloud, *, footprint=None, name: str = "house",
             on_roof = is_building & shapely.contains_xy(outline, cloud.x, cloud.y)
             rx, ry, rz = cloud.x[on_roof], cloud.y[on_roof], z_site[on_roof]
             planes, labels = segment_planes(rx, ry, rz, density=density)
+            outline = level_eaves(outline, planes)
         if not planes:
             missing.append(f"no roof face: {int(on_roof.sum())} building points inside the "
                            "footprint, too few or not on planes")
