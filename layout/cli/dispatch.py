@@ -100,7 +100,8 @@ def main(argv: Sequence[str] | None = None) -> int:
             from .from_points import run_from_points  # laspy and rasterio for this one only
 
             run_from_points(args.tile, site=args.site, radius_m=args.radius, out=args.out,
-                            crs=args.crs, surface=args.surface, timezone=args.timezone)
+                            crs=args.crs, surface=args.surface, timezone=args.timezone,
+                            footprint=args.footprint)
     except ProjectFileError as err:
         # check lists every problem; the other commands give one line
         print(err if args.command == "check" else f"error: {one_line(err)}", file=sys.stderr)

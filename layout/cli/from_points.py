@@ -37,7 +37,8 @@ def parse_site(text: str) -> tuple[float, float]:
 
 
 def run_from_points(tile, *, site: tuple[float, float], radius_m: float, out, crs=None,
-                    surface=None, timezone: str | None = None, name: str = "house") -> Path:
+                    surface=None, timezone: str | None = None, name: str = "house",
+                    footprint=None) -> Path:
     """Run ``from-points``: import, print what was found, write the project.
 
     Parameters
@@ -55,8 +56,13 @@ def run_from_points(tile, *, site: tuple[float, float], radius_m: float, out, cr
     surface : str or pathlib.Path, optional
         A GeoTIFF surface model for the far horizon.
     timezone : str, optional
+        IANA zone of the site; by default looked up offline from the site's coordinates.
     name : str
         Building name.
+
+    footprint : str or pathlib.Path, optional
+        A GeoJSON file whose first polygon is the building's footprint (instead of finding it
+        from the points).
 
     Returns
     -------
@@ -64,8 +70,17 @@ def run_from_points(tile, *, site: tuple[float, float], radius_m: float, out, cr
         The file written.
     """
     lat, lon = site
+    outline = None
+    if footprint is not None:
+        from ..scene.footprints import read_footprints
+
+        outline = read_footprints(footprint, site_latitude=lat, site_longitude=lon).outlines[0]
+    if timezone is None:
+        from ..scene.site import timezone_at
+
+        timezone = timezone_at(lat, lon)
     scene = import_elevation(tile, site_latitude=lat, site_longitude=lon, radius_m=radius_m,
-                             crs=crs, surface=surface, name=name)
+                             crs=crs, surface=surface, name=name, footprint=outline)
     for line in scene.summary():
         print(line)
     project = project_from_scene(scene, latitude=lat, longitude=lon, timezone=timezone)

@@ -94,8 +94,11 @@ def command_parser() -> argparse.ArgumentParser:
     points.add_argument("--crs", help="the tile's CRS (e.g. EPSG:32632) when the file has none")
     points.add_argument("--surface", metavar="DSM.tif",
                         help="a GeoTIFF surface model for the far horizon")
-    points.add_argument("--timezone", help="IANA time zone of the site (default: the "
-                                           "longitude's mean solar offset)")
+    points.add_argument("--timezone", help="IANA time zone of the site (default: looked up "
+                                           "offline from --site)")
+    points.add_argument("--footprint", metavar="FILE.geojson",
+                        help="the building's footprint from a GeoJSON file (default: found "
+                             "from the points)")
     return parser
 
 

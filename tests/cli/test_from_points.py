@@ -77,3 +77,25 @@ def test_site_must_be_lat_lon(tile, tmp_path):
                            "--site", "95,8.5", "-o", str(tmp_path / "x")],
                           capture_output=True, text=True)
     assert done.returncode == 2 and "--site takes LAT,LON" in done.stderr
+
+
+def test_a_footprint_file_and_the_time_zone_from_the_site(tile, tmp_path, capsys):
+    # the house's own footprint as GeoJSON in longitude and latitude about the same site
+    from layout.scene.geodesy import site_to_lonlat
+
+    path, scene = tile
+    outline = [tuple(c) for c in scene.house.footprint.exterior.coords]
+    lon, lat = site_to_lonlat([c[0] for c in outline], [c[1] for c in outline],
+                              site_latitude=47.3, site_longitude=8.5)
+    footprint = tmp_path / "house.geojson"
+    footprint.write_text(json.dumps({"type": "Polygon", "coordinates": [
+        [[float(a), float(b)] for a, b in zip(lon, lat, strict=True)]]}))
+    status = main(["from-points", str(path), "--site", "47.3,8.5", "--radius", "40",
+                   "--footprint", str(footprint), "-o", str(tmp_path / "given")])
+    assert status == 0
+    project = load_project(tmp_path / "given.eaveline.json")
+    assert len(project.faces) == 4
+    # the IANA zone of Zurich (47.3 N, 8.5 E) is a matter of public record
+    assert project.site.timezone == "Europe/Zurich"
+    plan = sum(f.plan_area_m2 for f in project.faces)
+    assert plan == pytest.approx(scene.house.footprint.area, rel=0.01)
