@@ -164,12 +164,14 @@ def test_a_five_corner_outline_drawn_by_clicking(new_project_url, tmp_path):
 
             page.get_by_text("Draw an outline", exact=True).click()
             page.locator(".eaveline-draw-toggle").click()
+            listing = page.locator(".eaveline-draw-corners")
+            expect(listing).to_contain_text("drawing", timeout=10_000)  # clicks now add corners
+            page.locator(".eaveline-plan").scroll_into_view_if_needed()  # then measure it
             per_x, x0 = _axis_scale(page, "x")
             per_y, y0 = _axis_scale(page, "y")
             # a pentagon of our own: a 12 × 8 m rectangle with a gable point 3 m above it
             corners_m = [(-6.0, -4.0), (6.0, -4.0), (6.0, 4.0), (0.0, 7.0), (-6.0, 4.0)]
             clicked = [(x0 + x * per_x, y0 + y * per_y) for x, y in corners_m]
-            listing = page.locator(".eaveline-draw-corners")
             for k, (px, py) in enumerate(clicked):
                 page.mouse.click(px, py)
                 expect(listing).to_contain_text(f"{k + 1} corner", timeout=10_000)

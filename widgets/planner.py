@@ -295,7 +295,7 @@ class Planner(w.VBox):
                                     self.sky_panel, self.hours_panel, self.compare_panel,
                                     self.file_panel, self.elevation_panel],
                           titles=TAB_NAMES,
-                          layout=w.Layout(flex="1 1 600px", min_width="480px",
+                          layout=w.Layout(flex="1 1 480px", min_width="460px",
                                           max_width="760px"))
         self.tabs.add_class("eaveline-side")
         self.tabs.observe(self._tab_changed, names="selected_index")

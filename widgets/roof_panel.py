@@ -562,6 +562,11 @@ class RoofPanel(Quiet, w.VBox):
         return True
 
     def _show_corners(self) -> None:
+        # the plan learns first (its click-to-add is switched with this), then the listing,
+        # so that a listing that says "drawing" means clicks on the plan are taken
+        for callback in self._drawing_callbacks:
+            callback(self.draw_toggle.value and not self.closed, list(self.corners),
+                     self.closed)
         n = len(self.corners)
         rows = []
         for i in range(n):
@@ -572,16 +577,13 @@ class RoofPanel(Quiet, w.VBox):
                 rows.append(f"edge {i + 1}: {length_text(length, self.units)}")
         state = ("closed" if self.closed else
                  "drawing: click the next corner" if self.draw_toggle.value else "not drawing")
-        self.corner_list.value = _NOTE.format(html.escape(
-            f"{n} corner{'s' if n != 1 else ''}, {state}" + (": " if rows else "")
-            + "; ".join(rows)))
         self.draw_eave_edge.input.max = max(n, 1)
         self.draw_add.disabled = not self.closed
         if self.closed:
             self.draw_message.value = ""
-        for callback in self._drawing_callbacks:
-            callback(self.draw_toggle.value and not self.closed, list(self.corners),
-                     self.closed)
+        self.corner_list.value = _NOTE.format(html.escape(
+            f"{n} corner{'s' if n != 1 else ''}, {state}" + (": " if rows else "")
+            + "; ".join(rows)))
 
     def add_drawn(self) -> bool:
         """Add the closed outline as a roof face: of a new building, or of one chosen."""
