@@ -24,7 +24,7 @@ from .culling import _candidate_ranges, _Column, _crown_ranges, _expand_runs
 from .plates import _plate_geometry, _plate_kernel, _plate_side
 from .ray_tests import _kernel_cost, _ray_effect
 from .rays import RAY_START_M, _check_points, _check_sun
-from .round_solids import _tree_kernel, _tree_kernels
+from .round_solids import _cone_tree_kernels, _tree_kernel, _tree_kernels
 from .sun_sectors import _sun_order, _SunOrder
 
 __all__ = ["DEFAULT_MAX_PAIRS", "Facing", "ShadeHits", "obstruction_hits"]
@@ -209,6 +209,8 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
         order = sun_order if sun_order is not None else _sun_order(sun_v)
         if isinstance(obstruction, Tree):
             kernels = _tree_kernels(obstruction, pts, sun_v, start)
+            if kernels is None:
+                kernels = _cone_tree_kernels(obstruction, pts, sun_v, start)
             if kernels is not None:
                 return _tree_hits(pts, obstruction, kernels, order, facing, max_pairs, sub)
 
@@ -242,15 +244,22 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
 
 def _tree_hits(pts, tree: Tree, kernels, order: _SunOrder, facing, max_pairs: int,
                sub: int) -> ShadeHits:
-    """Hits of a spheroid tree, its crown and its trunk culled apart.
+    """Hits of a tree, its crown and its trunk culled apart.
 
-    The crown's candidates come from its own cap (:func:`_crown_ranges`), the trunk's from its
-    thin column, so a point above the crown base never tests the trunk and a low sun below
-    the crown never tests the crown. A ray through both is blocked by the trunk.
+    The crown's candidates come from its own cap (:func:`_crown_ranges`) for a spheroid, from
+    the crown's bounding column for a cone; the trunk's from its thin column, so a point above
+    the crown base never tests the trunk and a low sun below the crown never tests the crown.
+    A ray through both is blocked by the trunk.
     """
     crown_kernel, trunk_kernel = kernels
     crown = _HitList(lambda p, st: (None, crown_kernel(p, st)), facing, sub)
-    crown.test_runs(order, _crown_ranges(pts, order, tree), max_pairs)
+    if tree.crown_shape == "cone":
+        x0, y0, _, x1, y1, top = tree.bounds
+        crown_runs = _candidate_ranges(pts, order, _Column(
+            (x0, y0, tree.ground_m + tree.crown_base, x1, y1, top)))
+    else:
+        crown_runs = _crown_ranges(pts, order, tree)
+    crown.test_runs(order, crown_runs, max_pairs)
     in_crown = crown.result()
     if trunk_kernel is None:
         return in_crown

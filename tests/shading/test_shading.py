@@ -269,14 +269,15 @@ def test_culling_and_chunking_do_not_change_the_answer(seed, max_pairs):
     assert np.array_equal(shaded(pts, sun, scene, max_pairs=max_pairs), full)
 
 
-def random_trees(rng):
-    """Spheroid trees of every kind a site has: tall and flat crowns, no trunk, on a bank."""
+def random_trees(rng, crown_shape="spheroid"):
+    """Trees of every kind a site has: tall and flat crowns, no trunk, on a bank."""
     trees = []
     for _ in range(4):
         height = rng.uniform(3, 14)
         trees.append(Tree(rng.uniform(-6, 6, 2), height, rng.uniform(0.5, 4),
                           rng.choice([0.0, height * rng.uniform(0.05, 0.8)]),
-                          rng.uniform(0.1, 0.5), ground_m=rng.choice([0.0, -2.0, 1.5])))
+                          rng.uniform(0.1, 0.5), ground_m=rng.choice([0.0, -2.0, 1.5]),
+                          crown_shape=crown_shape))
     return trees
 
 
@@ -286,16 +287,17 @@ def hit_set(hits):
 
 
 @settings(max_examples=25, deadline=None)
-@given(st.integers(0, 10_000))
-def test_tree_crown_and_trunk_culled_apart_give_every_hit(seed):
-    # the sun-up speed path culls a spheroid crown by its exact cap per azimuth sector and the
-    # trunk by its own column; every (step, point) pair and its crown-only flag must be the
-    # same as with no culling at all, for points around, under, above and inside crowns
+@given(st.integers(0, 10_000), st.sampled_from(["spheroid", "cone"]))
+def test_tree_crown_and_trunk_culled_apart_give_every_hit(seed, crown_shape):
+    # the sun-up speed path culls a spheroid crown by its exact cap per azimuth sector (a cone
+    # crown by its bounding column) and the trunk by its own column; every (step, point) pair
+    # and its crown-only flag must be the same as with no culling at all (the direct tests,
+    # the old exact answer), for points around, under, above and inside crowns
     rng = np.random.default_rng(seed)
     pts = np.column_stack([rng.uniform(-9, 9, 60), rng.uniform(-9, 9, 60),
                            rng.uniform(-1, 12, 60)])
     sun = sun_vectors(rng.uniform(0, 360, 300), rng.uniform(0.2, 89.5, 300))
-    for tree in random_trees(rng):
+    for tree in random_trees(rng, crown_shape):
         got = obstruction_hits(pts, sun, tree)
         want = obstruction_hits(pts, sun, tree, cull=False)
         assert len(got) == len(want) and hit_set(got) == hit_set(want)
@@ -643,7 +645,7 @@ def test_tabulated_kernels_equal_the_direct_ones(seed):
     from layout.shading.blocks import _block_kernel, _hit_block
     from layout.shading.plates import _hit_plate, _plate_kernel
     from layout.shading.ray_tests import _ray_effect
-    from layout.shading.round_solids import _tree_kernel
+    from layout.shading.round_solids import _cone_tree_kernels, _tree_kernel
 
     rng = np.random.default_rng(seed)
     scene = random_scene(rng)
@@ -660,6 +662,15 @@ def test_tabulated_kernels_equal_the_direct_ones(seed):
             fast = _tree_kernel(ob, pts, sun, RAY_START_M)
             got, want = fast(p, s), _ray_effect(ob, pts[p], sun[s], RAY_START_M)
             assert np.array_equal(got[0], want[0]) and np.array_equal(got[1], want[1])
+    for tree in random_trees(rng, "cone"):  # the tabulated cone against _hit_cone
+        crown, trunk = _cone_tree_kernels(tree, pts, sun, RAY_START_M)
+        opaque, crown_only = _ray_effect(tree, pts[p], sun[s], RAY_START_M)
+        want_crown = crown_only | (opaque & _hit_cone(*tree.center, tree.crown_radius,
+                                                      tree.ground_m + tree.crown_base,
+                                                      tree.ground_m + tree.height,
+                                                      pts[p], sun[s], RAY_START_M))
+        assert np.array_equal(crown(p, s), want_crown)
+        assert trunk is None or np.array_equal(trunk(p, s), opaque)
     for plate in random_plates(rng):  # quads either way round, a wall, a concave L
         fast = _plate_kernel(plate, pts, sun, RAY_START_M)
         got = fast(p, s)
