@@ -22,6 +22,7 @@ from ..scene.obstructions import PLANE_TOLERANCE_M, Block, HorizonProfile, Plate
 from .blocks import _block_kernel
 from .culling import _candidate_ranges, _Column, _crown_ranges, _expand_runs
 from .plates import _plate_geometry, _plate_kernel, _plate_side
+from .point_groups import _near_points
 from .ray_tests import _kernel_cost, _ray_effect
 from .rays import RAY_START_M, _check_points, _check_sun
 from .round_solids import _cone_tree_kernels, _tree_kernel, _tree_kernels
@@ -182,7 +183,7 @@ class _HitList:
 
 
 def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order,
-                      facing=None) -> ShadeHits:
+                      facing=None, groups=None) -> ShadeHits:
     empty = np.zeros(0, dtype=np.int32)
     if isinstance(obstruction, HorizonProfile):
         blocked = np.asarray(obstruction.blocks_vectors(sun_v), dtype=bool) if len(sun_v) \
@@ -191,6 +192,19 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
     if len(pts) == 0 or len(sun_v) == 0:
         _ray_effect(obstruction, np.zeros((0, 3)), np.zeros((0, 3)), start)  # type check
         return ShadeHits(empty, empty, np.zeros(0, dtype=bool))
+    if cull and groups is not None:
+        # whole groups of points out of the obstruction's reach are dropped first
+        if sun_order is None:
+            sun_order = _sun_order(sun_v)
+        if not len(sun_order.zenith_steps):
+            _ray_effect(obstruction, np.zeros((0, 3)), np.zeros((0, 3)), start)  # type check
+            near = _near_points(groups, sun_order, obstruction)
+            if near is not None:
+                sub_facing = None if facing is None else facing.subset(near)
+                hits = _obstruction_hits(pts[near], sun_v, obstruction, start, max_pairs, cull,
+                                         sun_order, sub_facing)
+                return ShadeHits(hits.step, near[hits.point].astype(np.int32),
+                                 hits.crown_only)
     side = None
     if isinstance(obstruction, Plate):
         # self-shading rule: points in the plate's plane are never shaded by it

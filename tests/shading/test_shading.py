@@ -731,3 +731,28 @@ def test_a_tree_on_a_bank_shades_as_the_same_tree_lifted():
         np.testing.assert_array_equal(transmitted(pts, sun, [banked]),
                                       transmitted(lowered, sun, [flat]))
         assert banked.bounds[2] == 2.75 and banked.bounds[5] == 11.75
+
+
+@settings(max_examples=10, deadline=None)
+@given(st.integers(0, 10_000), st.sampled_from([0.5, 2.0, 7.0]))
+def test_point_groups_keep_every_hit(seed, cell):
+    # the group pre-cull (large point sets: whole groups out of an obstruction's reach are
+    # dropped first) against the old exact answer without it, on random scenes and plates,
+    # with points spread wide and the sun low and high
+    from layout.shading.hits import _obstruction_hits
+    from layout.shading.point_groups import _near_points, _point_groups
+    from layout.shading.sun_sectors import _sun_order
+
+    rng = np.random.default_rng(seed)
+    pts = np.column_stack([rng.uniform(-30, 30, 400), rng.uniform(-30, 30, 400),
+                           rng.uniform(0, 6, 400)])
+    sun = sun_vectors(rng.uniform(0, 360, 200), rng.uniform(0.01, 89.5, 200))
+    order = _sun_order(sun)
+    groups = _point_groups(pts, cell=cell, min_points=0)
+    dropped = 0
+    for ob in [*random_scene(rng), *random_plates(rng)]:
+        got = _obstruction_hits(pts, sun, ob, RAY_START_M, 1 << 19, True, order, None, groups)
+        want = _obstruction_hits(pts, sun, ob, RAY_START_M, 1 << 19, True, order)
+        assert hit_set(got) == hit_set(want) and len(got) == len(want)
+        dropped += _near_points(groups, order, ob) is not None
+    assert dropped  # the pre-cull did drop groups somewhere
