@@ -55,7 +55,9 @@ def _point_groups(points: np.ndarray, *, cell: float = _CELL_M,
 
 
 def _near_points(groups: _PointGroups, sun_order: _SunOrder, obstruction) -> np.ndarray | None:
-    """Indices of the points whose group may see the obstruction; None when every group may.
+    """Return the points whose group may see the obstruction; None when every group may.
+
+    The indices come group by group (ascending within each group).
 
     Only for sun steps that all have an azimuth (no step with the sun straight up or down).
     """
@@ -70,4 +72,4 @@ def _near_points(groups: _PointGroups, sun_order: _SunOrder, obstruction) -> np.
     count = stops - starts
     first = np.cumsum(count) - count
     pos = np.repeat(starts - first, count) + np.arange(int(count.sum()))
-    return np.sort(groups.members[pos])
+    return groups.members[pos]

@@ -154,7 +154,7 @@ def _tree_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
 
 
 def _cone_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
-    """The cone crown test (:func:`_hit_cone`) over (point, step) index pairs, tabulated.
+    """Build the cone crown test (:func:`_hit_cone`) over (point, step) pairs, tabulated.
 
     Every term that depends only on the point or only on the step is computed once, in the
     same operations and order as :func:`_hit_cone`, so each pair gets the same answer bit for
@@ -200,7 +200,7 @@ def _cone_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
 
 
 def _trunk_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
-    """The trunk test (:func:`_hit_vertical_cylinder`) over (point, step) pairs, tabulated.
+    """Build the trunk test (:func:`_hit_vertical_cylinder`) over (point, step) pairs, tabulated.
 
     Needs the sun above the horizon and off the zenith at every step.
     """

@@ -259,6 +259,7 @@ class SkyViewCache:
             dirs = hemisphere_directions(modules[index[0]].normal, n_directions)
             self._groups.append((np.array(index), _check_points(pts), dirs))
         self._caches: dict = {}
+        self._module_plates: tuple | None = None  # built once: the modules never change
         self.tested = 0
 
     def factors(self, obstructions, *, include_modules: bool = True) -> np.ndarray:
@@ -278,7 +279,9 @@ class SkyViewCache:
         """
         scene = tuple(obstructions)
         if include_modules:
-            scene += tuple(Plate.from_module(m) for m in self.modules)
+            if self._module_plates is None:
+                self._module_plates = tuple(Plate.from_module(m) for m in self.modules)
+            scene += self._module_plates
         horizons = tuple(ob for ob in scene if isinstance(ob, HorizonProfile))
         solids = tuple(ob for ob in scene if not isinstance(ob, HorizonProfile))
         out = np.empty(len(self.modules))
