@@ -116,7 +116,7 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
             if factor is None:
                 flat_beam[flat] = 0.0
             else:
-                np.multiply.at(flat_beam, flat, factor[part])
+                flat_beam[flat] *= factor[part]  # each (step, point) once per obstruction
         if direct:
             np.subtract(np.float32(1.0), beam, out=values[:, r0:r1])
         elif regular:
