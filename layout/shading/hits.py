@@ -21,6 +21,7 @@ from ..errors import check_positive
 from ..scene.obstructions import PLANE_TOLERANCE_M, Block, HorizonProfile, Plate, Tree
 from .blocks import _block_kernel
 from .culling import _candidate_ranges, _Column, _crown_ranges, _expand_runs
+from .plate_sets import PlateSet, _plate_set_kernel
 from .plates import _plate_geometry, _plate_kernel, _plate_side
 from .point_groups import _near_points
 from .ray_tests import _kernel_cost, _ray_effect
@@ -206,17 +207,21 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
                 return ShadeHits(hits.step, near[hits.point].astype(np.int32),
                                  hits.crown_only)
     side = None
-    if isinstance(obstruction, Plate):
-        # self-shading rule: points in the plate's plane are never shaded by it
-        dist = _plate_side(obstruction, pts)
-        active = np.flatnonzero(np.abs(dist) > PLANE_TOLERANCE_M)
+    # a plate set is culled as its hull, a plate in the same plane (plate_sets.py)
+    cull_as = obstruction.hull if isinstance(obstruction, PlateSet) else obstruction
+    if isinstance(cull_as, Plate):
+        # self-shading rule: points in the plate's plane are never shaded by it (for a set,
+        # its kernel applies the rule plate by plate: the hull keeps a hair more points)
+        dist = _plate_side(cull_as, pts)
+        tolerance = PLANE_TOLERANCE_M * (1.0 if cull_as is obstruction else 1.0 - 1e-6)
+        active = np.flatnonzero(np.abs(dist) > tolerance)
         if len(active) < len(pts):
             sub_facing = None if facing is None else facing.subset(active)
             hits = _obstruction_hits(pts[active], sun_v, obstruction, start, max_pairs, cull,
                                      sun_order, sub_facing)
             return ShadeHits(hits.step, active[hits.point].astype(np.int32), hits.crown_only)
         # a ray meets the plane only when the sun lies on the far side from the point
-        side = (dist > 0, sun_v @ _plate_geometry(obstruction)[3] < 0)
+        side = (dist > 0, sun_v @ _plate_geometry(cull_as)[3] < 0)
     sub = max(256, max_pairs // _kernel_cost(obstruction))
     order = None
     if cull:
@@ -233,6 +238,8 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
         fast = _block_kernel(obstruction, pts, sun_v, start)
     elif isinstance(obstruction, Plate):
         fast = _plate_kernel(obstruction, pts, sun_v, start)
+    elif isinstance(obstruction, PlateSet):
+        fast = _plate_set_kernel(obstruction, pts, sun_v, start)
     elif isinstance(obstruction, Tree):
         fast = _tree_kernel(obstruction, pts, sun_v, start)
 
@@ -243,7 +250,7 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
 
     found = _HitList(effect, facing, sub)
     if cull:
-        found.test_runs(order, _candidate_ranges(pts, order, obstruction), max_pairs, side)
+        found.test_runs(order, _candidate_ranges(pts, order, cull_as), max_pairs, side)
         if len(order.zenith_steps):
             found.test(np.repeat(np.arange(len(pts)), len(order.zenith_steps)),
                        np.tile(order.zenith_steps, len(pts)))

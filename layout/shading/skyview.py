@@ -49,9 +49,10 @@ import math
 import numpy as np
 
 from ..errors import InputError, check_points, check_positive
-from ..scene.obstructions import HorizonProfile, Plate
+from ..scene.obstructions import HorizonProfile
 from .cache import ShadeCache
 from .hits import DEFAULT_MAX_PAIRS, _obstruction_hits
+from .plate_sets import module_casters
 from .rays import RAY_START_M, _check_points
 from .sun_sectors import _sun_order
 
@@ -280,7 +281,7 @@ class SkyViewCache:
         scene = tuple(obstructions)
         if include_modules:
             if self._module_plates is None:
-                self._module_plates = tuple(Plate.from_module(m) for m in self.modules)
+                self._module_plates = module_casters(self.modules)
             scene += self._module_plates
         horizons = tuple(ob for ob in scene if isinstance(ob, HorizonProfile))
         solids = tuple(ob for ob in scene if not isinstance(ob, HorizonProfile))

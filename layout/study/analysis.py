@@ -44,8 +44,7 @@ from ..power.metrics import (
     month_hour_loss,
     monthly_table,
 )
-from ..scene.obstructions import Plate
-from ..shading import ModuleShade, ShadeCache, module_samples, module_shade
+from ..shading import ModuleShade, ShadeCache, module_casters, module_samples, module_shade
 from ..shading.skyview import SkyViewCache
 from ..sky.weather import Weather
 
@@ -258,7 +257,7 @@ class Analysis:
                 self._cache = ShadeCache(samples.points, self._sun.vectors,
                                          month=self._sun.month, normals=samples.normals)
                 self._samples = samples
-            self._module_plates = tuple(Plate.from_module(m) for m in modules) \
+            self._module_plates = module_casters(modules) \
                 if _needs_module_casters(modules) else ()
             self._geometry, self._casters = geometry, None
             ran.append("points")
