@@ -268,8 +268,14 @@ def module_casters(modules) -> tuple:
     Returns
     -------
     tuple of PlateSet and Plate
-        Together they shade exactly as ``Plate.from_module(m)`` for every module.
+        Together they shade exactly as ``Plate.from_module(m)`` for every module. The last
+        few answers are kept (the sun and the sky-view stages ask for the same modules).
     """
+    return _module_casters(tuple(modules))
+
+
+@functools.lru_cache(maxsize=8)
+def _module_casters(modules: tuple) -> tuple:
     plates = [Plate.from_module(m) for m in modules]
     groups: dict = defaultdict(list)
     for plate in plates:
