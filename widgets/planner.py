@@ -175,7 +175,7 @@ class Planner(w.VBox):
     #: Least time between two previews during a drag [s]: previews follow each other as fast
     #: as the analysis goes (screen rate on a house), with a moment between them for the
     #: kernel to take the drop.
-    PREVIEW_INTERVAL_S = 0.02
+    PREVIEW_INTERVAL_S = 0.01
     #: A drag previews only once it has lasted this long [s]: a quick drag goes straight to
     #: its drop, with the kernel free.
     FIRST_PREVIEW_S = 0.25
