@@ -215,6 +215,8 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
         dist = _plate_side(cull_as, pts)
         tolerance = PLANE_TOLERANCE_M * (1.0 if cull_as is obstruction else 1.0 - 1e-6)
         active = np.flatnonzero(np.abs(dist) > tolerance)
+        if not len(active):  # every point in the plane (modules flush on a face)
+            return ShadeHits(empty, empty, np.zeros(0, dtype=bool))
         if len(active) < len(pts):
             sub_facing = None if facing is None else facing.subset(active)
             hits = _obstruction_hits(pts[active], sun_v, obstruction, start, max_pairs, cull,
