@@ -596,7 +596,8 @@ def drag_message(planner, index, x_display, y_display, event="drag"):
 
 
 def test_dragging_shows_a_live_preview_and_the_drop_keeps_it(planner, demo):
-    planner.preview_interval_s = 0.0  # every move previews (the app waits 0.25 s between)
+    planner.preview_interval_s = 0.0  # every move previews (the app waits 0.25 s first)
+    planner.first_preview_s = 0.0
     try:
         crowns_before = list(planner.plan.tree_marks.x)
         markers_before = list(planner.plan.obstruction_markers.x)
@@ -631,11 +632,13 @@ def test_dragging_shows_a_live_preview_and_the_drop_keeps_it(planner, demo):
             evaluate(dropped).totals["shade_loss_pct"], abs=0.005)
     finally:
         planner.preview_interval_s = planner.PREVIEW_INTERVAL_S
+        planner.first_preview_s = planner.FIRST_PREVIEW_S
 
 
 def test_previews_during_a_drag_are_spaced_out(planner, demo):
-    # with the app's interval, a quick drag (a burst of moves just after the mouse took hold)
-    # runs no preview; later in a drag, a burst of moves runs one
+    # with the app's delays, a quick drag (a burst of moves just after the mouse took hold)
+    # runs no preview; later in a drag, a burst of moves runs one (the next ones come before
+    # the interval after it has passed)
     calls = []
     original = planner.analysis.update
     planner.analysis.update = lambda project: calls.append(project) or original(project)
@@ -644,7 +647,7 @@ def test_previews_during_a_drag_are_spaced_out(planner, demo):
         for k in range(5):
             drag_message(planner, TREE, (-1.0 - 0.1 * k) / FOOT_M, -6.0 / FOOT_M)
         assert calls == []
-        planner._preview_done -= planner.preview_interval_s  # the drag has lasted a while
+        planner._drag_since -= planner.first_preview_s  # the drag has lasted a while
         for k in range(5):
             drag_message(planner, TREE, (-1.0 - 0.1 * k) / FOOT_M, -6.0 / FOOT_M)
         assert len(calls) == 1

@@ -177,6 +177,9 @@ class Planner(w.VBox):
     preview_interval_s : float
         Least time between two live previews while an obstruction is dragged [s]
         (:attr:`PREVIEW_INTERVAL_S` by default).
+    first_preview_s : float
+        How long a drag lasts before its first live preview [s] (:attr:`FIRST_PREVIEW_S` by
+        default).
     compare_result : pandas.DataFrame or None
         The last comparison's table (Compare tab), None before the tab was opened.
     loss_range : layout.study.outlook.ShadeLossRange or None
@@ -193,15 +196,20 @@ class Planner(w.VBox):
     Notes
     -----
     While an obstruction marker is dragged, the plan shows a live preview: from
-    :attr:`preview_interval_s` into the drag and at most that often, the analysis is brought
+    :attr:`first_preview_s` into the drag, as often as the analysis keeps up (one preview at
+    least :attr:`preview_interval_s` after the last), the analysis is brought
     up to date for the marker's place and the module colours, footprints and totals follow
     (exact figures, marked as a preview in the status line). The project itself changes only
     at the drop; a drag that ends where it began puts the figures back.
     """
 
-    #: Least time between two previews during a drag [s]: the kernel stays free most of
-    #: the time, so the drop is handled at once.
-    PREVIEW_INTERVAL_S = 0.25
+    #: Least time between two previews during a drag [s]: previews follow each other as fast
+    #: as the analysis goes (screen rate on a house), with a moment between them for the
+    #: kernel to take the drop.
+    PREVIEW_INTERVAL_S = 0.01
+    #: A drag previews only once it has lasted this long [s]: a quick drag goes straight to
+    #: its drop, with the kernel free.
+    FIRST_PREVIEW_S = 0.25
     #: A recompute shows its stages once it has run this long [s]; a quicker one (a drag of
     #: a tree) only says "Recomputing…" and then "Ready", without a flicker of stages.
     PROGRESS_AFTER_S = 0.15
@@ -215,6 +223,8 @@ class Planner(w.VBox):
         self.last_recompute_s = 0.0
         self.last_timings: dict = {}
         self.preview_interval_s = self.PREVIEW_INTERVAL_S
+        self.first_preview_s = self.FIRST_PREVIEW_S
+        self._drag_since = 0.0
         self.progress_after_s = self.PROGRESS_AFTER_S
         self._busy_since = 0.0
         self._preview_done = 0.0
@@ -502,7 +512,9 @@ class Planner(w.VBox):
                 obstruction_label(old, index), place)
 
     def _obstruction_dragging(self, index: int, x_m: float, y_m: float) -> None:
-        if time.perf_counter() - self._preview_done < self.preview_interval_s \
+        now = time.perf_counter()
+        if now - self._drag_since < self.first_preview_s \
+                or now - self._preview_done < self.preview_interval_s \
                 or not 0 <= index < len(self.project.obstructions):
             return
         try:
@@ -529,9 +541,9 @@ class Planner(w.VBox):
         self._preview_done = time.perf_counter()
 
     def _drag_started(self) -> None:
-        # the first preview comes one interval into the drag: a quick drag goes straight to
-        # its drop, with the kernel free
-        self._preview_done = time.perf_counter()
+        # the first preview comes first_preview_s into the drag: a quick drag goes straight
+        # to its drop, with the kernel free
+        self._drag_since = time.perf_counter()
 
     def _drag_ended(self) -> None:
         if self.analysis is not None and self.analysis.project is not self.project:

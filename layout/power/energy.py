@@ -38,6 +38,7 @@ from .metrics import DEFAULT_TSRF_THRESHOLD_PCT
 __all__ = [
     "EnergyOptions",
     "SunSteps",
+    "building_casters",
     "load_weather",
     "parapet_walls",
     "scene_casters",
@@ -226,8 +227,25 @@ def scene_casters(project) -> tuple:
     tuple
         Obstructions, horizon profiles and :class:`~layout.scene.obstructions.Plate` objects.
     """
+    return tuple(project.scene_obstructions) + building_casters(project)
+
+
+def building_casters(project) -> tuple:
+    """Return the buildings' casters: every roof face as a plate, then the parapet walls.
+
+    They depend on ``project.buildings`` only, so a caller may keep them while obstructions
+    move; :func:`scene_casters` puts them after the obstructions.
+
+    Parameters
+    ----------
+    project : layout.project.Project
+
+    Returns
+    -------
+    tuple of layout.scene.obstructions.Plate
+    """
     faces = tuple(Plate.from_face(face) for face in project.faces)
-    return tuple(project.scene_obstructions) + faces + parapet_walls(project)
+    return faces + parapet_walls(project)
 
 
 def parapet_walls(project) -> tuple:

@@ -527,9 +527,9 @@ class Plate:
         pts = check_points("corners", self.corners, dims=3, min_count=3)
         if len(pts) > 3 and np.allclose(pts[0], pts[-1], atol=1e-9, rtol=0):
             pts = pts[:-1]
-        _, first, counts = np.unique(np.round(pts, 9), axis=0, return_index=True,
-                                     return_counts=True)
-        if (counts > 1).any():
+        rounded = np.round(pts, 9)
+        if len({tuple(row) for row in rounded.tolist()}) < len(pts):  # quick check first
+            _, first, counts = np.unique(rounded, axis=0, return_index=True, return_counts=True)
             dup = int(first[np.flatnonzero(counts > 1)[0]])
             raise InputError(f"corners[{dup}]", "corner is repeated", value=pts[dup].tolist(),
                              allowed="each corner once")

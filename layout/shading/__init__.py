@@ -20,12 +20,17 @@ order they build on each other (each imports only from those above it):
     Exact ray test of a plate (a roof face, a module) and its tabulated kernel.
 ``round_solids``
     Exact ray tests of vertical cylinders, spheroid and cone crowns, and the tree kernels.
+``plate_sets``
+    Plates in one plane cast as one (:class:`PlateSet`, the modules of a rack row) and
+    :func:`module_casters`, exact as the plates one by one.
 ``ray_tests``
     The exact test of any solid obstruction, chosen by its type, and its cost.
 ``sun_sectors``
     The sun steps binned by azimuth sector and sorted by elevation.
 ``culling``
     Angular windows of each obstruction seen from each point, as runs of candidate sun steps.
+``point_groups``
+    Points bucketed in space, so that groups out of an obstruction's reach are dropped first.
 ``hits``
     One obstruction's hits (:func:`obstruction_hits`, :class:`ShadeHits`) and which steps
     light the front of a surface (:class:`Facing`).
@@ -50,6 +55,7 @@ from .hits import DEFAULT_MAX_PAIRS as DEFAULT_MAX_PAIRS
 from .hits import Facing, ShadeHits, obstruction_hits
 from .per_module import DEFAULT_MAX_RAYS as DEFAULT_MAX_RAYS
 from .per_module import ModuleSamples, ModuleShade, module_samples, module_shade
+from .plate_sets import PlateSet, module_casters
 from .rays import RAY_START_M
 
 __all__ = [
@@ -57,9 +63,11 @@ __all__ = [
     "Facing",
     "ModuleSamples",
     "ModuleShade",
+    "PlateSet",
     "ShadeCache",
     "ShadeHits",
     "group_mean",
+    "module_casters",
     "module_samples",
     "module_shade",
     "obstruction_hits",

@@ -75,16 +75,23 @@ def _block_kernel(block: Block, pts: np.ndarray, sun_v: np.ndarray, start: float
     n_parts, n_edges = offset.shape
 
     def kernel(p, st):
-        inv_z = inv_dz[st]
-        s_in = np.maximum(below[p] * inv_z, start)
-        s_out = above[p] * inv_z
+        # the same operations as above, in place (np.take, out=): fewer temporaries
+        inv_z = inv_dz.take(st)
+        s_in = below.take(p)
+        s_in *= inv_z
+        np.maximum(s_in, start, out=s_in)
+        s_out = above.take(p)
+        s_out *= inv_z
         hit = np.zeros(len(p), dtype=bool)
+        term = np.empty(len(p))
         for i in range(n_parts):
-            lo, hi = s_in, s_out
+            lo, hi = (s_in, s_out) if n_parts == 1 else (s_in.copy(), s_out.copy())
             for k in range(n_edges):
-                r = room[i, k][p]
-                lo = np.fmax(lo, r * inv_enter[i, k][st])
-                hi = np.fmin(hi, r * inv_leave[i, k][st])
+                r = room[i, k].take(p)
+                np.multiply(r, inv_enter[i, k].take(st), out=term)
+                np.fmax(lo, term, out=lo)
+                np.multiply(r, inv_leave[i, k].take(st), out=term)
+                np.fmin(hi, term, out=hi)
             hit |= lo <= hi
         return hit, np.zeros(len(p), dtype=bool)
 

@@ -13,6 +13,7 @@ from ..errors import InputError, check_positive
 from .combine import _check_month, _combine_shaded, _combine_transmitted, _prepare_hits
 from .groups import _check_labels, _group_shade_rows
 from .hits import DEFAULT_MAX_PAIRS, Facing, ShadeHits, _obstruction_hits
+from .point_groups import _point_groups
 from .rays import RAY_START_M, _check_points, _check_sun
 from .sun_sectors import _sun_order
 
@@ -61,6 +62,7 @@ class ShadeCache:
         self.ray_start = check_positive("ray_start", ray_start, unit="m")
         self.max_pairs = int(max_pairs)
         self._order = _sun_order(self.sun)
+        self._groups = _point_groups(self.points)
         self._hits: dict = {}
         self._prepared: dict = {}
         self.obstructions: tuple = ()
@@ -78,7 +80,8 @@ class ShadeCache:
                 new[ob] = self._hits[ob]
             else:
                 new[ob] = _obstruction_hits(self.points, self.sun, ob, self.ray_start,
-                                            self.max_pairs, True, self._order, self.facing)
+                                            self.max_pairs, True, self._order, self.facing,
+                                            self._groups)
                 computed += 1
         self._hits = new
         self._prepared = {ob: self._prepared[ob] for ob in new if ob in self._prepared}

@@ -13,6 +13,7 @@ import numpy as np
 from ..errors import InputError, check_positive
 from ..scene.obstructions import Tree
 from .hits import DEFAULT_MAX_PAIRS, ShadeHits, _obstruction_hits
+from .point_groups import _point_groups
 from .rays import RAY_START_M, _check_points, _check_sun
 from .sun_sectors import _sun_order
 
@@ -108,7 +109,8 @@ def shaded(points, sun, obstructions, *, ray_start: float = RAY_START_M,
     sun_v = _check_sun(sun)
     start = check_positive("ray_start", ray_start, unit="m")
     order = _sun_order(sun_v)
-    hits = [_obstruction_hits(pts, sun_v, ob, start, int(max_pairs), cull, order)
+    groups = _point_groups(pts) if cull else None
+    hits = [_obstruction_hits(pts, sun_v, ob, start, int(max_pairs), cull, order, None, groups)
             for ob in obstructions]
     return _combine_shaded(len(sun_v), len(pts), hits)
 
@@ -144,6 +146,8 @@ def transmitted(points, sun, obstructions, *, month=None, ray_start: float = RAY
     start = check_positive("ray_start", ray_start, unit="m")
     m = None if month is None else _check_month(month, len(sun_v))
     order = _sun_order(sun_v)
-    pairs = [(ob, _obstruction_hits(pts, sun_v, ob, start, int(max_pairs), True, order))
+    groups = _point_groups(pts)
+    pairs = [(ob, _obstruction_hits(pts, sun_v, ob, start, int(max_pairs), True, order, None,
+                                    groups))
              for ob in obstructions]
     return _combine_transmitted(len(sun_v), len(pts), pairs, m)

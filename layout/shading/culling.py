@@ -201,6 +201,13 @@ def _window_runs(sun_order: _SunOrder, index, bounds, tighten=None):
     within = np.arange(total) - np.repeat(np.cumsum(span) - span, span)
     sector = (s_lo[local] + within) % _SECTORS
     run_lo, run_hi = e_lo[local], e_hi[local]
+    # a run whose band misses its own sector's sun elevations (a sector the sun never
+    # reaches, a band below the sector's lowest sun) holds no step: dropped before the
+    # searches, and before tightening
+    low, high = sun_order.range_low[:, 0], sun_order.range_high[:, 0]
+    reach = np.flatnonzero((run_hi >= low[sector]) & (run_lo <= high[sector]))
+    if len(reach) < total:
+        local, sector, run_lo, run_hi = local[reach], sector[reach], run_lo[reach], run_hi[reach]
     if tighten is not None:
         run_lo, run_hi = tighten(local, sector, run_lo, run_hi)
     base = sector * 4.0

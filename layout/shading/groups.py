@@ -59,8 +59,9 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
     -----
     Block by block of the rows (at most :data:`_DENSE_BLOCK` values, 64 MB), the beam fraction
     of every point is built densely (point-major, so one point's hits fall close together),
-    the hits are scattered into it, and the points are averaged per group. Hits need sorting
-    by step only when there is more than one block.
+    the hits are scattered into it, and the points are averaged per group. When every group
+    is one point, the values themselves hold the beam (one block, no memory beside the
+    output). Hits need sorting by step only when there is more than one block.
     """
     horizon = np.zeros(n_steps, dtype=bool)
     prepared = []
@@ -93,6 +94,8 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
     row_of = np.zeros(n_steps, dtype=np.intp)  # step -> its column in the values
     row_of[rows] = np.arange(n_rows)
     per = max(1, _DENSE_BLOCK // max(1, n_points))
+    if direct and values.flags.c_contiguous:
+        per = n_rows  # the values block is the beam: no block beside it, however large
     if n_rows > per:
         prepared = [_sorted_by_step(entry, n_steps) for entry in prepared]
     for r0 in range(0, n_rows, per):
@@ -113,7 +116,7 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
             if factor is None:
                 flat_beam[flat] = 0.0
             else:
-                np.multiply.at(flat_beam, flat, factor[part])
+                flat_beam[flat] *= factor[part]  # each (step, point) once per obstruction
         if direct:
             np.subtract(np.float32(1.0), beam, out=values[:, r0:r1])
         elif regular:

@@ -21,10 +21,12 @@ from ..errors import check_positive
 from ..scene.obstructions import PLANE_TOLERANCE_M, Block, HorizonProfile, Plate, Tree
 from .blocks import _block_kernel
 from .culling import _candidate_ranges, _Column, _crown_ranges, _expand_runs
+from .plate_sets import PlateSet, _plate_set_kernel
 from .plates import _plate_geometry, _plate_kernel, _plate_side
+from .point_groups import _near_points
 from .ray_tests import _kernel_cost, _ray_effect
 from .rays import RAY_START_M, _check_points, _check_sun
-from .round_solids import _tree_kernel, _tree_kernels
+from .round_solids import _cone_tree_kernels, _tree_kernel, _tree_kernels
 from .sun_sectors import _sun_order, _SunOrder
 
 __all__ = ["DEFAULT_MAX_PAIRS", "Facing", "ShadeHits", "obstruction_hits"]
@@ -182,7 +184,7 @@ class _HitList:
 
 
 def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order,
-                      facing=None) -> ShadeHits:
+                      facing=None, groups=None) -> ShadeHits:
     empty = np.zeros(0, dtype=np.int32)
     if isinstance(obstruction, HorizonProfile):
         blocked = np.asarray(obstruction.blocks_vectors(sun_v), dtype=bool) if len(sun_v) \
@@ -191,24 +193,45 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
     if len(pts) == 0 or len(sun_v) == 0:
         _ray_effect(obstruction, np.zeros((0, 3)), np.zeros((0, 3)), start)  # type check
         return ShadeHits(empty, empty, np.zeros(0, dtype=bool))
+    if cull and groups is not None:
+        # whole groups of points out of the obstruction's reach are dropped first
+        if sun_order is None:
+            sun_order = _sun_order(sun_v)
+        if not len(sun_order.zenith_steps):
+            _ray_effect(obstruction, np.zeros((0, 3)), np.zeros((0, 3)), start)  # type check
+            near = _near_points(groups, sun_order, obstruction)
+            if near is not None:
+                sub_facing = None if facing is None else facing.subset(near)
+                hits = _obstruction_hits(pts[near], sun_v, obstruction, start, max_pairs, cull,
+                                         sun_order, sub_facing)
+                return ShadeHits(hits.step, near[hits.point].astype(np.int32),
+                                 hits.crown_only)
     side = None
-    if isinstance(obstruction, Plate):
-        # self-shading rule: points in the plate's plane are never shaded by it
-        dist = _plate_side(obstruction, pts)
-        active = np.flatnonzero(np.abs(dist) > PLANE_TOLERANCE_M)
+    # a plate set is culled as its hull, a plate in the same plane (plate_sets.py)
+    cull_as = obstruction.hull if isinstance(obstruction, PlateSet) else obstruction
+    if isinstance(cull_as, Plate):
+        # self-shading rule: points in the plate's plane are never shaded by it (for a set,
+        # its kernel applies the rule plate by plate: the hull keeps a hair more points)
+        dist = _plate_side(cull_as, pts)
+        tolerance = PLANE_TOLERANCE_M * (1.0 if cull_as is obstruction else 1.0 - 1e-6)
+        active = np.flatnonzero(np.abs(dist) > tolerance)
+        if not len(active):  # every point in the plane (modules flush on a face)
+            return ShadeHits(empty, empty, np.zeros(0, dtype=bool))
         if len(active) < len(pts):
             sub_facing = None if facing is None else facing.subset(active)
             hits = _obstruction_hits(pts[active], sun_v, obstruction, start, max_pairs, cull,
                                      sun_order, sub_facing)
             return ShadeHits(hits.step, active[hits.point].astype(np.int32), hits.crown_only)
         # a ray meets the plane only when the sun lies on the far side from the point
-        side = (dist > 0, sun_v @ _plate_geometry(obstruction)[3] < 0)
+        side = (dist > 0, sun_v @ _plate_geometry(cull_as)[3] < 0)
     sub = max(256, max_pairs // _kernel_cost(obstruction))
     order = None
     if cull:
         order = sun_order if sun_order is not None else _sun_order(sun_v)
         if isinstance(obstruction, Tree):
             kernels = _tree_kernels(obstruction, pts, sun_v, start)
+            if kernels is None:
+                kernels = _cone_tree_kernels(obstruction, pts, sun_v, start)
             if kernels is not None:
                 return _tree_hits(pts, obstruction, kernels, order, facing, max_pairs, sub)
 
@@ -217,6 +240,8 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
         fast = _block_kernel(obstruction, pts, sun_v, start)
     elif isinstance(obstruction, Plate):
         fast = _plate_kernel(obstruction, pts, sun_v, start)
+    elif isinstance(obstruction, PlateSet):
+        fast = _plate_set_kernel(obstruction, pts, sun_v, start)
     elif isinstance(obstruction, Tree):
         fast = _tree_kernel(obstruction, pts, sun_v, start)
 
@@ -227,7 +252,7 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
 
     found = _HitList(effect, facing, sub)
     if cull:
-        found.test_runs(order, _candidate_ranges(pts, order, obstruction), max_pairs, side)
+        found.test_runs(order, _candidate_ranges(pts, order, cull_as), max_pairs, side)
         if len(order.zenith_steps):
             found.test(np.repeat(np.arange(len(pts)), len(order.zenith_steps)),
                        np.tile(order.zenith_steps, len(pts)))
@@ -242,15 +267,22 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
 
 def _tree_hits(pts, tree: Tree, kernels, order: _SunOrder, facing, max_pairs: int,
                sub: int) -> ShadeHits:
-    """Hits of a spheroid tree, its crown and its trunk culled apart.
+    """Hits of a tree, its crown and its trunk culled apart.
 
-    The crown's candidates come from its own cap (:func:`_crown_ranges`), the trunk's from its
-    thin column, so a point above the crown base never tests the trunk and a low sun below
-    the crown never tests the crown. A ray through both is blocked by the trunk.
+    The crown's candidates come from its own cap (:func:`_crown_ranges`) for a spheroid, from
+    the crown's bounding column for a cone; the trunk's from its thin column, so a point above
+    the crown base never tests the trunk and a low sun below the crown never tests the crown.
+    A ray through both is blocked by the trunk.
     """
     crown_kernel, trunk_kernel = kernels
     crown = _HitList(lambda p, st: (None, crown_kernel(p, st)), facing, sub)
-    crown.test_runs(order, _crown_ranges(pts, order, tree), max_pairs)
+    if tree.crown_shape == "cone":
+        x0, y0, _, x1, y1, top = tree.bounds
+        crown_runs = _candidate_ranges(pts, order, _Column(
+            (x0, y0, tree.ground_m + tree.crown_base, x1, y1, top)))
+    else:
+        crown_runs = _crown_ranges(pts, order, tree)
+    crown.test_runs(order, crown_runs, max_pairs)
     in_crown = crown.result()
     if trunk_kernel is None:
         return in_crown

@@ -19,11 +19,12 @@ from functools import cached_property
 import numpy as np
 
 from ..errors import InputError, check_positive
-from ..scene.obstructions import Plate
 from .cache import ShadeCache
 from .combine import _check_month, _prepare_hits
 from .groups import _group_shade_rows
 from .hits import DEFAULT_MAX_PAIRS, Facing, _obstruction_hits
+from .plate_sets import module_casters
+from .point_groups import _point_groups
 from .rays import RAY_START_M, _check_sun
 from .sun_sectors import _sun_order
 
@@ -232,7 +233,7 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
     m = None if month is None else _check_month(month, len(sun_v))
     casters = list(obstructions)
     if include_modules:
-        casters += [Plate.from_module(mod) for mod in modules]
+        casters += module_casters(modules)  # rack rows as plate sets, exact all the same
     n_mod, n_cells = len(modules), samples.n_cells
     if cache is not None:
         if cache.points.shape != samples.points.shape \
@@ -258,9 +259,10 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
             sel = slice(m0 * per_module, m1 * per_module)
             pts = samples.points[sel]
             sub_facing = facing.subset(np.arange(len(samples.points))[sel])
+            groups = _point_groups(pts)
             prepared = [_prepare_hits(ob, _obstruction_hits(pts, sun_v, ob, start,
                                                             int(max_pairs), True, order,
-                                                            sub_facing), m)
+                                                            sub_facing, groups), m)
                         for ob in casters]
             labels = samples.cell_group[sel] - m0 * n_cells
             _group_shade_rows(len(sun_v), len(pts), prepared, labels, (m1 - m0) * n_cells,

@@ -15,6 +15,7 @@ import numpy as np
 from ..errors import InputError
 from ..scene.obstructions import Block, Cylinder, Plate, Tree
 from .blocks import _block_planes, _hit_block
+from .plate_sets import PlateSet, _hit_plate_set
 from .plates import _hit_plate, _plate_geometry
 from .round_solids import _hit_cone, _hit_spheroid, _hit_vertical_cylinder
 
@@ -25,6 +26,8 @@ def _ray_effect(obstruction, o, d, start) -> tuple[np.ndarray, np.ndarray]:
         return _hit_block(obstruction, o, d, start), np.zeros(len(o), dtype=bool)
     if isinstance(obstruction, Plate):
         return _hit_plate(obstruction, o, d, start), np.zeros(len(o), dtype=bool)
+    if isinstance(obstruction, PlateSet):
+        return _hit_plate_set(obstruction, o, d, start), np.zeros(len(o), dtype=bool)
     if isinstance(obstruction, Cylinder):
         (cx, cy) = obstruction.center
         hit = _hit_vertical_cylinder(cx, cy, obstruction.radius, obstruction.base,
@@ -57,4 +60,6 @@ def _kernel_cost(obstruction) -> int:
     if isinstance(obstruction, Plate):
         normal = _plate_geometry(obstruction)[4]
         return 2 * normal.shape[0] * normal.shape[1] + 16
+    if isinstance(obstruction, PlateSet):  # a plate or two near each crossing, gathered terms
+        return 16
     return 24

@@ -8,7 +8,8 @@ Method
   quadratic cone inequality intersected with the slab between crown base and apex).
 
 A tree with a spheroid crown also has kernels (:func:`_tree_kernels`) that tabulate the
-per-point and per-step terms once; a cone crown goes through the direct tests.
+per-point and per-step terms once; a cone crown's kernels (:func:`_cone_tree_kernels`) run the
+direct tests on the candidate pairs, so that its crown and trunk are culled apart.
 """
 
 from __future__ import annotations
@@ -126,25 +127,7 @@ def _tree_kernels(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
 
     if tree.crown_base <= 0:
         return crown, None
-    # trunk: vertical cylinder from the ground to crown_base
-    tx, ty = pts[:, 0] - cx, pts[:, 1] - cy
-    tc = tx * tx + ty * ty - tree.trunk_radius ** 2
-    dx, dy = sun_v[:, 0].copy(), sun_v[:, 1].copy()
-    inv_dz = 1.0 / sun_v[:, 2]
-    below = tree.ground_m - pts[:, 2]
-    above = tree.ground_m + tree.crown_base - pts[:, 2]
-
-    def trunk(p, st):
-        a2 = horizontal[st]
-        b2 = tx[p] * dx[st] + ty[p] * dy[st]
-        disc2 = b2 * b2 - a2 * tc[p]
-        root = np.sqrt(np.maximum(disc2, 0.0))
-        inv_z = inv_dz[st]
-        lo = np.maximum(np.maximum((-b2 - root) / a2, below[p] * inv_z), start)
-        hi = np.minimum((-b2 + root) / a2, above[p] * inv_z)
-        return (disc2 >= 0) & (lo <= hi)
-
-    return crown, trunk
+    return crown, _trunk_kernel(tree, pts, sun_v, start)
 
 
 def _tree_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
@@ -167,3 +150,92 @@ def _tree_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
         return trunk, crown & ~trunk
 
     return kernel
+
+
+
+def _cone_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
+    """Build the cone crown test (:func:`_hit_cone`) over (point, step) pairs, tabulated.
+
+    Every term that depends only on the point or only on the step is computed once, in the
+    same operations and order as :func:`_hit_cone`, so each pair gets the same answer bit for
+    bit. Needs the sun above the horizon at every step (the slab's entry is then the ray's
+    crossing of the crown base).
+    """
+    (cx, cy), ground = tree.center, tree.ground_m
+    base, apex = ground + tree.crown_base, ground + tree.height
+    k2 = (tree.crown_radius / (apex - base)) ** 2
+    fx, fy, fz = pts[:, 0] - cx, pts[:, 1] - cy, pts[:, 2] - apex
+    k2fz = k2 * fz
+    qc = fx * fx + fy * fy - k2 * fz * fz
+    oz = pts[:, 2].copy()
+    dx, dy, dz = sun_v[:, 0].copy(), sun_v[:, 1].copy(), sun_v[:, 2].copy()
+    qa = dx * dx + dy * dy - k2 * dz * dz
+    scale = dx * dx + dy * dy + k2 * dz * dz
+    linear = np.abs(qa) <= 1e-12 * scale
+    positive = qa > 0
+
+    def crown(p, st):
+        dzs = dz[st]
+        lo = np.maximum((base - oz[p]) / dzs, start)
+        hi = (apex - oz[p]) / dzs
+        qb = fx[p] * dx[st] + fy[p] * dy[st] - k2fz[p] * dzs
+        a = qa[st]
+        disc = qb * qb - a * qc[p]
+        root = np.sqrt(np.maximum(disc, 0.0))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            r1 = (-qb - root) / a  # the smaller root when a > 0, the larger when a < 0
+            r2 = (-qb + root) / a
+        pos = positive[st]
+        small, big = np.where(pos, r1, r2), np.where(pos, r2, r1)
+        hit_pos = (disc >= 0) & (np.maximum(lo, small) <= np.minimum(hi, big))
+        hit_neg = (disc < 0) | (lo <= np.minimum(hi, small)) | (np.maximum(lo, big) <= hi)
+        hit = np.where(pos, hit_pos, hit_neg)
+        flat = linear[st]
+        if flat.any():  # a ray parallel to the cone's side: the direct test's half line
+            hit[flat] = _hit_cone(cx, cy, tree.crown_radius, base, apex, pts[p[flat]],
+                                  sun_v[st[flat]], start)
+        return hit & (lo <= hi)
+
+    return crown
+
+
+def _trunk_kernel(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
+    """Build the trunk test (:func:`_hit_vertical_cylinder`) over (point, step) pairs, tabulated.
+
+    Needs the sun above the horizon and off the zenith at every step.
+    """
+    cx, cy = tree.center
+    horizontal = sun_v[:, 0] ** 2 + sun_v[:, 1] ** 2
+    tx, ty = pts[:, 0] - cx, pts[:, 1] - cy
+    tc = tx * tx + ty * ty - tree.trunk_radius ** 2
+    dx, dy = sun_v[:, 0].copy(), sun_v[:, 1].copy()
+    inv_dz = 1.0 / sun_v[:, 2]
+    below = tree.ground_m - pts[:, 2]
+    above = tree.ground_m + tree.crown_base - pts[:, 2]
+
+    def trunk(p, st):
+        a2 = horizontal[st]
+        b2 = tx[p] * dx[st] + ty[p] * dy[st]
+        disc2 = b2 * b2 - a2 * tc[p]
+        root = np.sqrt(np.maximum(disc2, 0.0))
+        inv_z = inv_dz[st]
+        lo = np.maximum(np.maximum((-b2 - root) / a2, below[p] * inv_z), start)
+        hi = np.minimum((-b2 + root) / a2, above[p] * inv_z)
+        return (disc2 >= 0) & (lo <= hi)
+
+    return trunk
+
+
+def _cone_tree_kernels(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
+    """Build faster exact kernels for a cone tree's crown and trunk, or None.
+
+    Returns ``(crown, trunk)`` as :func:`_tree_kernels` does: the cone crown tabulated
+    (:func:`_cone_kernel`, the same answers as :func:`_hit_cone` bit for bit) and the trunk
+    as in :func:`_tree_kernels`. Applies to a cone crown when every step has the sun above
+    the horizon and off the zenith; otherwise None.
+    """
+    horizontal = sun_v[:, 0] ** 2 + sun_v[:, 1] ** 2
+    if tree.crown_shape != "cone" or (sun_v[:, 2] <= 0).any() or (horizontal <= 1e-24).any():
+        return None
+    crown = _cone_kernel(tree, pts, sun_v, start)
+    return crown, (_trunk_kernel(tree, pts, sun_v, start) if tree.crown_base > 0 else None)

@@ -49,9 +49,10 @@ import math
 import numpy as np
 
 from ..errors import InputError, check_points, check_positive
-from ..scene.obstructions import HorizonProfile, Plate
+from ..scene.obstructions import HorizonProfile
 from .cache import ShadeCache
 from .hits import DEFAULT_MAX_PAIRS, _obstruction_hits
+from .plate_sets import module_casters
 from .rays import RAY_START_M, _check_points
 from .sun_sectors import _sun_order
 
@@ -259,6 +260,7 @@ class SkyViewCache:
             dirs = hemisphere_directions(modules[index[0]].normal, n_directions)
             self._groups.append((np.array(index), _check_points(pts), dirs))
         self._caches: dict = {}
+        self._module_plates: tuple | None = None  # built once: the modules never change
         self.tested = 0
 
     def factors(self, obstructions, *, include_modules: bool = True) -> np.ndarray:
@@ -278,7 +280,9 @@ class SkyViewCache:
         """
         scene = tuple(obstructions)
         if include_modules:
-            scene += tuple(Plate.from_module(m) for m in self.modules)
+            if self._module_plates is None:
+                self._module_plates = module_casters(self.modules)
+            scene += self._module_plates
         horizons = tuple(ob for ob in scene if isinstance(ob, HorizonProfile))
         solids = tuple(ob for ob in scene if not isinstance(ob, HorizonProfile))
         out = np.empty(len(self.modules))

@@ -33,7 +33,7 @@ from ..errors import InputError
 from ..fill.placed import Layout, PlacedModule
 from ..fill.usable import roof_mounted
 from ..power.electrical import DcPower, dc_power
-from ..power.energy import SunSteps, load_weather, scene_casters, sky_view_ratio, sun_steps
+from ..power.energy import SunSteps, building_casters, load_weather, sky_view_ratio, sun_steps
 from ..power.irradiance import ModuleIrradiance, module_irradiance
 from ..power.metrics import (
     BestOrientation,
@@ -44,8 +44,7 @@ from ..power.metrics import (
     month_hour_loss,
     monthly_table,
 )
-from ..scene.obstructions import Plate
-from ..shading import ModuleShade, ShadeCache, module_samples, module_shade
+from ..shading import ModuleShade, ShadeCache, module_casters, module_samples, module_shade
 from ..shading.skyview import SkyViewCache
 from ..sky.weather import Weather
 
@@ -177,6 +176,8 @@ class Analysis:
         self._samples = None
         self._sky_cache: SkyViewCache | None = None
         self._casters = None
+        self._module_plates: tuple = ()
+        self._buildings = None  # (project.buildings, their casters), kept while they stand
         self._shade: ModuleShade | None = None
         self._sky: np.ndarray | None = None
         self._irradiance_key = None
@@ -256,17 +257,19 @@ class Analysis:
                 self._cache = ShadeCache(samples.points, self._sun.vectors,
                                          month=self._sun.month, normals=samples.normals)
                 self._samples = samples
+            self._module_plates = module_casters(modules) \
+                if _needs_module_casters(modules) else ()
             self._geometry, self._casters = geometry, None
             ran.append("points")
             clock = self._stage("points", clock)
 
-        casters = scene_casters(project)
+        if self._buildings is None or self._buildings[0] != project.buildings:
+            self._buildings = (project.buildings, building_casters(project))
+        casters = tuple(project.scene_obstructions) + self._buildings[1]  # scene_casters
         if (casters, energy.sky_directions) != self._casters:
             if modules:
                 self._say("tracing the sun past every obstruction", 3)
-                every = casters
-                if _needs_module_casters(modules):
-                    every = casters + tuple(Plate.from_module(m) for m in modules)
+                every = casters + self._module_plates
                 self.rays_tested = self._cache.update(every)  # only new or changed casters
                 self._shade = module_shade(
                     modules, project.module, self._sun.vectors, every,

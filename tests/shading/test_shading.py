@@ -18,6 +18,7 @@ from layout.shading import (
     RAY_START_M,
     ShadeCache,
     group_mean,
+    module_casters,
     module_samples,
     module_shade,
     obstruction_hits,
@@ -269,14 +270,15 @@ def test_culling_and_chunking_do_not_change_the_answer(seed, max_pairs):
     assert np.array_equal(shaded(pts, sun, scene, max_pairs=max_pairs), full)
 
 
-def random_trees(rng):
-    """Spheroid trees of every kind a site has: tall and flat crowns, no trunk, on a bank."""
+def random_trees(rng, crown_shape="spheroid"):
+    """Trees of every kind a site has: tall and flat crowns, no trunk, on a bank."""
     trees = []
     for _ in range(4):
         height = rng.uniform(3, 14)
         trees.append(Tree(rng.uniform(-6, 6, 2), height, rng.uniform(0.5, 4),
                           rng.choice([0.0, height * rng.uniform(0.05, 0.8)]),
-                          rng.uniform(0.1, 0.5), ground_m=rng.choice([0.0, -2.0, 1.5])))
+                          rng.uniform(0.1, 0.5), ground_m=rng.choice([0.0, -2.0, 1.5]),
+                          crown_shape=crown_shape))
     return trees
 
 
@@ -286,16 +288,17 @@ def hit_set(hits):
 
 
 @settings(max_examples=25, deadline=None)
-@given(st.integers(0, 10_000))
-def test_tree_crown_and_trunk_culled_apart_give_every_hit(seed):
-    # the sun-up speed path culls a spheroid crown by its exact cap per azimuth sector and the
-    # trunk by its own column; every (step, point) pair and its crown-only flag must be the
-    # same as with no culling at all, for points around, under, above and inside crowns
+@given(st.integers(0, 10_000), st.sampled_from(["spheroid", "cone"]))
+def test_tree_crown_and_trunk_culled_apart_give_every_hit(seed, crown_shape):
+    # the sun-up speed path culls a spheroid crown by its exact cap per azimuth sector (a cone
+    # crown by its bounding column) and the trunk by its own column; every (step, point) pair
+    # and its crown-only flag must be the same as with no culling at all (the direct tests,
+    # the old exact answer), for points around, under, above and inside crowns
     rng = np.random.default_rng(seed)
     pts = np.column_stack([rng.uniform(-9, 9, 60), rng.uniform(-9, 9, 60),
                            rng.uniform(-1, 12, 60)])
     sun = sun_vectors(rng.uniform(0, 360, 300), rng.uniform(0.2, 89.5, 300))
-    for tree in random_trees(rng):
+    for tree in random_trees(rng, crown_shape):
         got = obstruction_hits(pts, sun, tree)
         want = obstruction_hits(pts, sun, tree, cull=False)
         assert len(got) == len(want) and hit_set(got) == hit_set(want)
@@ -608,7 +611,7 @@ def test_module_shade_cache_and_trees():
     again = module_shade(mods, spec, sun, moved, month=month, cache=cache)
     assert again.cell.shape == direct.cell.shape
     assert np.array_equal(again.cell, module_shade(mods, spec, sun, moved, month=month).cell)
-    assert cache.update([*moved, *(Plate.from_module(m) for m in mods)]) == 0
+    assert cache.update([*moved, *module_casters(mods)]) == 0  # as module_shade casts them
     # a crown alone (its trunk ends below the modules): a cell is 0 or 1 - tau
     crown_only = module_shade(mods, spec, sun, [tree],
                               month=month, include_modules=False)
@@ -643,7 +646,7 @@ def test_tabulated_kernels_equal_the_direct_ones(seed):
     from layout.shading.blocks import _block_kernel, _hit_block
     from layout.shading.plates import _hit_plate, _plate_kernel
     from layout.shading.ray_tests import _ray_effect
-    from layout.shading.round_solids import _tree_kernel
+    from layout.shading.round_solids import _cone_tree_kernels, _tree_kernel
 
     rng = np.random.default_rng(seed)
     scene = random_scene(rng)
@@ -660,6 +663,15 @@ def test_tabulated_kernels_equal_the_direct_ones(seed):
             fast = _tree_kernel(ob, pts, sun, RAY_START_M)
             got, want = fast(p, s), _ray_effect(ob, pts[p], sun[s], RAY_START_M)
             assert np.array_equal(got[0], want[0]) and np.array_equal(got[1], want[1])
+    for tree in random_trees(rng, "cone"):  # the tabulated cone against _hit_cone
+        crown, trunk = _cone_tree_kernels(tree, pts, sun, RAY_START_M)
+        opaque, crown_only = _ray_effect(tree, pts[p], sun[s], RAY_START_M)
+        want_crown = crown_only | (opaque & _hit_cone(*tree.center, tree.crown_radius,
+                                                      tree.ground_m + tree.crown_base,
+                                                      tree.ground_m + tree.height,
+                                                      pts[p], sun[s], RAY_START_M))
+        assert np.array_equal(crown(p, s), want_crown)
+        assert trunk is None or np.array_equal(trunk(p, s), opaque)
     for plate in random_plates(rng):  # quads either way round, a wall, a concave L
         fast = _plate_kernel(plate, pts, sun, RAY_START_M)
         got = fast(p, s)
@@ -720,3 +732,99 @@ def test_a_tree_on_a_bank_shades_as_the_same_tree_lifted():
         np.testing.assert_array_equal(transmitted(pts, sun, [banked]),
                                       transmitted(lowered, sun, [flat]))
         assert banked.bounds[2] == 2.75 and banked.bounds[5] == 11.75
+
+
+@settings(max_examples=10, deadline=None)
+@given(st.integers(0, 10_000), st.sampled_from([0.5, 2.0, 7.0]))
+def test_point_groups_keep_every_hit(seed, cell):
+    # the group pre-cull (large point sets: whole groups out of an obstruction's reach are
+    # dropped first) against the old exact answer without it, on random scenes and plates,
+    # with points spread wide and the sun low and high
+    from layout.shading.hits import _obstruction_hits
+    from layout.shading.point_groups import _near_points, _point_groups
+    from layout.shading.sun_sectors import _sun_order
+
+    rng = np.random.default_rng(seed)
+    pts = np.column_stack([rng.uniform(-30, 30, 400), rng.uniform(-30, 30, 400),
+                           rng.uniform(0, 6, 400)])
+    sun = sun_vectors(rng.uniform(0, 360, 200), rng.uniform(0.01, 89.5, 200))
+    order = _sun_order(sun)
+    groups = _point_groups(pts, cell=cell, min_points=0)
+    dropped = 0
+    for ob in [*random_scene(rng), *random_plates(rng)]:
+        got = _obstruction_hits(pts, sun, ob, RAY_START_M, 1 << 19, True, order, None, groups)
+        want = _obstruction_hits(pts, sun, ob, RAY_START_M, 1 << 19, True, order)
+        assert hit_set(got) == hit_set(want) and len(got) == len(want)
+        dropped += _near_points(groups, order, ob) is not None
+    assert dropped  # the pre-cull did drop groups somewhere
+
+
+def random_plate_grid(rng):
+    """Coplanar plates: a random tilted plane holding rows of rectangles, abutting or with gaps."""
+    from layout.shading import PlateSet
+
+    tilt, turn = math.radians(rng.uniform(0, 50)), math.radians(rng.uniform(0, 360))
+    e1 = np.array([math.cos(turn), math.sin(turn), 0.0])
+    e2 = np.array([-math.sin(turn) * math.cos(tilt), math.cos(turn) * math.cos(tilt),
+                   math.sin(tilt)])
+    origin = np.array([*rng.uniform(-3, 3, 2), rng.uniform(2, 4)])
+    width, length = (1.0, 1.7) if rng.random() < 0.5 else (1.7, 1.0)
+    gap = rng.choice([0.0, 0.02, 0.3])
+    plates = []
+    for r in range(int(rng.integers(1, 3))):
+        for c in range(int(rng.integers(2, 7))):
+            a, b = c * (width + gap), r * (length + gap)
+            uv = [(a, b), (a + width, b), (a + width, b + length), (a, b + length)]
+            plates.append(Plate([origin + u * e1 + v * e2 for u, v in uv], kind="module"))
+    return PlateSet(tuple(plates)), origin, e1, e2
+
+
+@settings(max_examples=20, deadline=None)
+@given(st.integers(0, 10_000))
+def test_plate_set_equals_its_plates_one_by_one(seed):
+    # a rack row cast as one plate set must meet exactly the rays its plates meet one by
+    # one (the old exact answer), for points around it, a hair off its plane (the 1 mm rule)
+    # and in it, and suns at any angle, grazing the plane included
+    rng = np.random.default_rng(seed)
+    plate_set, origin, e1, e2 = random_plate_grid(rng)
+    normal = np.cross(e1, e2)
+    pts = [np.column_stack([rng.uniform(-8, 12, 60), rng.uniform(-8, 12, 60),
+                            rng.uniform(0, 8, 60)])]
+    corners = np.vstack([np.asarray(p.corners) for p in plate_set.plates])
+    for off in (0.0, 0.9e-3, 1.1e-3, 0.05, -0.05, -1.1e-3):
+        centre = corners[rng.integers(len(corners), size=8)] + rng.normal(0, 0.4, (8, 3))
+        centre -= np.outer((centre - origin) @ normal, normal)  # onto the plane, then off
+        pts.append(centre + off * normal)
+    pts = np.vstack(pts)
+    sun = [sun_vectors(rng.uniform(0, 360, 150), rng.uniform(0.5, 89, 150))]
+    for angle in (0.0, 1e-7, 1e-5, 1e-3, 2e-2):  # nearly in the plane, either side
+        d = math.cos(angle) * (math.cos(0.3) * e1 + math.sin(0.3) * e2) + math.sin(angle) \
+            * normal * rng.choice([-1, 1])
+        if d[2] > 0:
+            sun.append(d[None])
+    sun = np.vstack(sun)
+    got = obstruction_hits(pts, sun, plate_set)
+    want = set()
+    for plate in plate_set.plates:
+        want |= {(s, p) for s, p, _ in hit_set(obstruction_hits(pts, sun, plate))}
+    assert {(s, p) for s, p, _ in hit_set(got)} == want and len(got) == len(want)
+    assert hit_set(obstruction_hits(pts, sun, plate_set, cull=False)) == hit_set(got)
+
+
+def test_module_casters_shade_as_the_modules_one_by_one():
+    # module_shade casts rack rows as plate sets: the cells' shade is the same, bit for bit,
+    # as with one plate per module (the old exact path); abutting modules share edges
+    from layout.scene.modules import generic_60_cell
+    from layout.shading import PlateSet
+
+    spec = generic_60_cell(330.0)
+    rng = np.random.default_rng(5)
+    sun = sun_vectors(rng.uniform(60, 300, 300), rng.uniform(0.5, 70, 300))
+    for orientation in ("portrait", "landscape"):
+        mods = _rack_modules(spec, orientation, 20.0, 2.4, n_rows=3, n_cols=6)
+        casters = module_casters(mods)
+        assert all(isinstance(c, PlateSet) for c in casters) and len(casters) == 3
+        sets = module_shade(mods, spec, sun, [], include_modules=True)
+        one_by_one = module_shade(mods, spec, sun, [Plate.from_module(m) for m in mods],
+                                  include_modules=False)
+        assert sets.cell.any() and np.array_equal(sets.cell, one_by_one.cell)

@@ -1,0 +1,122 @@
+"""Time a whole evaluation of a warehouse roof of our own, 500 and 5,000 rack modules.
+
+Scene (invented): a flat warehouse roof 8 m high with a 0.9 m parapet, tilted rack rows (10°,
+facing south, GCR 0.55) of 60-cell modules, and rooftop units (blocks of 2.4 × 1.6 × 1.5 m)
+spread over the roof; a site at 40° N, hourly clear sky for a typical year, the module-level
+shade model. The 5,000-module roof has 30 rooftop units; the 500-module roof is the same
+design on about a tenth of the area, with 3.
+
+Each case runs in a child process (``--child``) that builds the project, times
+``Analysis(project)`` (fill, sun, shading of every cell with every module a caster, sky view,
+irradiance, power, tables) and reports its peak resident memory (VmHWM). The parent prints
+both, the 500 → 5,000 cost ratio beside the module ratio, and the targets (5,000 modules:
+<= 30 s, <= 4 GB; cost growing no faster than the module count). The load average is printed
+beside the figures: the machine may be shared.
+
+Run: ``.venv/bin/python benchmarks/warehouse.py [--only 500|5000]``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import subprocess
+import sys
+import time
+
+import numpy as np
+
+from layout import Block, Project, Site, generic_60_cell
+from layout.fill.faces import FillOptions
+from layout.fill.rules import no_setbacks
+from layout.power.electrical import ElectricalOptions
+from layout.power.energy import EnergyOptions
+from layout.runtime import quiet_hugepages
+from layout.scene.building import flat_roof
+
+SITE = Site(40.0, -105.0, "America/Denver", altitude_m=1600.0, name="warehouse site")
+
+#: (roof length, roof width [m], rooftop units) per case, sized for about 500 and 5,000 modules
+CASES = {500: (46.0, 35.0, 3), 5000: (138.0, 112.0, 30)}
+
+
+def warehouse_project(modules: int) -> Project:
+    """The warehouse roof of about ``modules`` rack modules (invented)."""
+    length, width, units = CASES[modules]
+    roof = flat_roof(length, width, 8.0, parapet_height_m=0.9, name="warehouse")
+    rng = np.random.default_rng(12)
+    blocks = []
+    cols = int(np.ceil(np.sqrt(units * length / width)))
+    rows = int(np.ceil(units / cols))
+    for k in range(units):  # rooftop units on a loose grid, jittered
+        i, j = k % cols, k // cols
+        x = (i + 0.5) * length / cols + rng.uniform(-2.0, 2.0) - 1.2
+        y = (j + 0.5) * width / rows + rng.uniform(-2.0, 2.0) - 0.8
+        blocks.append(Block([(x, y), (x + 2.4, y), (x + 2.4, y + 1.6), (x, y + 1.6)], 9.5, 8.0,
+                            kind="other", name=f"RTU {k + 1}"))
+    energy = EnergyOptions(electrical=ElectricalOptions(shade_model="module"))
+    return Project(site=SITE, buildings=(roof,), module=generic_60_cell(400.0),
+                   clearance=no_setbacks(), obstructions=tuple(blocks),
+                   fill=FillOptions(rack_tilt_deg=10.0, rack_gcr=0.55), energy=energy,
+                   name=f"warehouse, about {modules} modules")
+
+
+def peak_rss_mb() -> float:
+    """Peak resident memory of this process [MB] (VmHWM, reset by exec)."""
+    with open("/proc/self/status") as status:
+        for line in status:
+            if line.startswith("VmHWM:"):
+                return int(line.split()[1]) / 1024
+    return float("nan")
+
+
+def child(modules: int) -> None:
+    """Evaluate one case from scratch and print its figures as one JSON line."""
+    from layout.study.analysis import Analysis
+
+    quiet_hugepages()
+    project = warehouse_project(modules)
+    started = time.perf_counter()
+    analysis = Analysis(project)
+    seconds = time.perf_counter() - started
+    print(json.dumps({
+        "modules": len(analysis.result.modules), "obstructions": len(project.obstructions),
+        "seconds": round(seconds, 2), "peak_rss_mb": round(peak_rss_mb(), 1),
+        "stages": {k: round(v, 2) for k, v in analysis.timings.items()},
+        "energy_kwh": round(float(analysis.result.totals["energy_kwh"]), 1),
+        "shade_loss_pct": round(float(analysis.result.totals["shade_loss_pct"]), 3)}))
+
+
+def main() -> None:
+    """Run both cases in child processes and print the figures and the ratio."""
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--only", type=int, choices=sorted(CASES))
+    parser.add_argument("--child", type=int, choices=sorted(CASES), help=argparse.SUPPRESS)
+    args = parser.parse_args()
+    if args.child is not None:
+        child(args.child)
+        return
+    found = {}
+    for modules in [args.only] if args.only else sorted(CASES):
+        load = os.getloadavg()[0]
+        out = subprocess.run([sys.executable, __file__, "--child", str(modules)],
+                             capture_output=True, text=True, check=True)
+        found[modules] = data = json.loads(out.stdout.strip().splitlines()[-1])
+        print(f"warehouse, {data['modules']} modules, {data['obstructions']} rooftop units: "
+              f"whole evaluation {data['seconds']} s, peak RSS {data['peak_rss_mb']:.0f} MB "
+              f"(load {load:.1f}); stages {data['stages']}")
+    if len(found) == 2:
+        small, big = found[500], found[5000]
+        cost = big["seconds"] / small["seconds"]
+        size = big["modules"] / small["modules"]
+        growth = ("no faster than the module count" if cost <= size * 1.05
+                  else "FASTER than the module count: MISSED")
+        print(f"500 -> 5,000: modules x{size:.1f}, time x{cost:.1f} ({growth}); "
+              f"5,000-module targets: {big['seconds']} s (<= 30 s: "
+              f"{'met' if big['seconds'] <= 30 else 'MISSED'}), {big['peak_rss_mb']:.0f} MB "
+              f"(<= 4096 MB: {'met' if big['peak_rss_mb'] <= 4096 else 'MISSED'})")
+
+
+if __name__ == "__main__":
+    main()
