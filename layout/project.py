@@ -27,7 +27,9 @@ from .fill.placement import fill_building_with_areas
 from .fill.rules import ClearanceRules
 from .fill.usable import UsableArea
 from .power.energy import EnergyOptions
+from .power.string_sizing import StringDesign
 from .scene.building import Building
+from .scene.inverter import InverterSpec
 from .scene.modules import ModuleSpec
 from .scene.obstructions import obstruction_from_dict
 from .scene.roof import RoofFace
@@ -49,12 +51,16 @@ __all__ = [
 ]
 
 SCHEMA_KEY = "eaveline_schema_version"
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 FILE_SUFFIX = ".eaveline.json"
 UNIT_SYSTEMS = ("metric", "imperial")
 
 _SECTIONS = (SCHEMA_KEY, "name", "units", "notes", "site", "buildings", "obstructions", "module",
-             "clearance", "fill", "array_faces", "removed", "pathways", "energy", "survey")
+             "clearance", "fill", "array_faces", "removed", "pathways", "energy", "survey",
+             "inverter", "strings")
+
+# What each document version added, for the notes of an older file read by this eaveline.
+_VERSION_ADDED = {2: "module electrical data, the inverter and the string design"}
 
 
 class ProjectFileError(ValueError):
@@ -117,6 +123,15 @@ class Project:
         How lengths are shown and typed in the planner.
     name, notes : str
         Free text.
+    inverter : layout.scene.inverter.InverterSpec or None
+        The string inverter for string sizing; None when not chosen yet.
+    strings : layout.power.string_sizing.StringDesign
+        Design temperatures, Voc method and code limit of string sizing, and the tracking
+        input of each of the user's strings (the strings themselves are
+        ``energy.electrical.strings``).
+    load_notes : tuple of str
+        What loading the file had to say (an older document version, data string sizing
+        will need). Not saved, not compared.
     """
 
     site: Site
@@ -133,6 +148,9 @@ class Project:
     units: str = "metric"
     name: str = ""
     notes: str = ""
+    inverter: InverterSpec | None = None
+    strings: StringDesign = field(default_factory=StringDesign)
+    load_notes: tuple[str, ...] = field(default=(), compare=False, repr=False)
 
     def __post_init__(self):
         object.__setattr__(self, "buildings", tuple(self.buildings))
@@ -247,6 +265,8 @@ def project_to_dict(project: Project) -> dict:
         "removed": [_plain(entry) for entry in project.removed],
         "pathways": dict(project.pathways) if project.pathways is not None else None,
         "energy": project.energy.to_dict(),
+        "inverter": project.inverter.to_dict() if project.inverter is not None else None,
+        "strings": project.strings.to_dict(),
     }
 
 
@@ -378,6 +398,12 @@ def project_from_dict(data, *, source: str = "") -> Project:
     ):
         problems.append(("array_faces", "must be a list of face names, or null for every face"))
         array_faces = None
+    inverter_data = data.get("inverter")
+    inverter = (collect.take("inverter", InverterSpec.from_dict, inverter_data)
+                if inverter_data is not None else None)
+    strings_data = _need(data, "strings", dict, problems, default={})
+    strings = (collect.take("strings", StringDesign.from_dict, strings_data)
+               if strings_data is not None else None)
     units = _need(data, "units", str, problems, default="metric")
     name = _need(data, "name", str, problems, default="") if "name" in data else ""
     notes = _need(data, "notes", str, problems, default="") if "notes" in data else ""
@@ -390,10 +416,23 @@ def project_from_dict(data, *, source: str = "") -> Project:
             fill=fill, array_faces=array_faces, obstructions=tuple(obstructions),
             survey=tuple(survey),
             removed=tuple(removed or ()), pathways=pathways, energy=energy, units=units,
-            name=name, notes=notes,
+            name=name, notes=notes, inverter=inverter, strings=strings,
+            load_notes=_load_notes(version, module),
         )
     except ProjectFileError as err:
         raise ProjectFileError(err.problems, source) from None
+
+
+def _load_notes(version: int, module: ModuleSpec) -> tuple[str, ...]:
+    """Return the notes on an older document, and on data string sizing will ask for."""
+    notes = [f"read from document version {version}; version {later} added "
+             f"{_VERSION_ADDED[later]} (saving writes version {SCHEMA_VERSION})"
+             for later in range(version + 1, SCHEMA_VERSION + 1)]
+    missing = module.missing_electrical()
+    if missing:
+        notes.append("the module has no electrical data: string sizing needs "
+                     + ", ".join(missing) + " (from the module's datasheet)")
+    return tuple(notes)
 
 
 # --------------------------------------------------------------------------- files

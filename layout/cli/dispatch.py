@@ -12,6 +12,7 @@ from .check import run_check
 from .compare import run_compare
 from .evaluate import run_evaluate
 from .parser import batch_parser, command_parser
+from .strings import run_strings
 from .summary import run_summary
 
 __all__ = ["main", "one_line", "portfolio_main"]
@@ -85,6 +86,9 @@ def main(argv: Sequence[str] | None = None) -> int:
                         keep_worst=args.keep_worst, min_tsrf=args.min_tsrf,
                         min_energy=args.min_energy, max_shade_loss=args.max_shade_loss,
                         as_json=args.json)
+        elif args.command == "strings":
+            run_strings(args.project, demo=args.demo, inverter=args.inverter,
+                        method=args.method, as_json=args.json, weather=args.weather)
     except ProjectFileError as err:
         # check lists every problem; the other commands give one line
         print(err if args.command == "check" else f"error: {one_line(err)}", file=sys.stderr)
