@@ -29,7 +29,7 @@ from pathlib import Path
 from ..errors import InputError
 from ..scene.inverter import InverterSpec
 from ..study.analysis import Analysis
-from ..study.string_options import StringingComparison, compare_stringing
+from ..study.string_options import StringingComparison, compare_stringing, project_sizing
 from .json_output import REPORT_VERSION, plain_json, print_json
 from .progress import terminal_progress
 from .project_input import load_command_project, with_overrides
@@ -162,9 +162,7 @@ def run_strings(project: str | None, *, demo: bool = False, inverter: str | None
     spec = read_inverter(inverter) if inverter else None
     loaded, folder = load_command_project(project, demo)
     loaded = with_overrides(loaded, weather=weather)
-    for note in loaded.load_notes:
-        if "electrical data" in note:
-            raise InputError("module", note)
+    project_sizing(loaded, inverter=spec)  # bad sizing input fails before any evaluation
     with terminal_progress() as progress:
         evaluation = Analysis(loaded, base_dir=folder, progress=progress).result
     comparison = compare_stringing(evaluation, inverter=spec)

@@ -76,7 +76,7 @@ STRINGING_METHODS = ("rows", "shade", "project")
 #: Two modules are neighbours when their centres are at most this many long sides apart.
 NEIGHBOUR_FACTOR = 1.5
 
-_MISMATCH = 0.98  # a substring below this share of the face's brightest counts as shaded
+_MISMATCH = 0.95  # a substring below this share of the face's brightest counts as shaded
 
 
 @dataclass(frozen=True)
@@ -314,9 +314,13 @@ def string_by_rows(modules, sizing: StringSizing) -> StringPlan:
 
 
 # --------------------------------------------------------------------------- shade search
-def _candidate_losses(g, w, p_mod, walk, lengths_range, link_ok, feasible,
-                      chunk_values=4_000_000):
-    """Mismatch loss [W·steps] of every run walk[i:i+L]; inf where a link is too long."""
+def _candidate_losses(g, w, p_mod, shaded, walk, lengths_range, link_ok, feasible,
+                      chunk_values=2_000_000):
+    """Mismatch loss [W·steps] of every run walk[i:i+L]; inf where a link is too long.
+
+    Only the (step, run) pairs with a shaded member are computed: a run whose modules all
+    get the face's full light at a step loses nothing there.
+    """
     n = len(walk)
     lo, hi = lengths_range
     loss = np.full((n + 1, hi + 1), np.inf)
@@ -332,14 +336,17 @@ def _candidate_losses(g, w, p_mod, walk, lengths_range, link_ok, feasible,
         if not len(starts):
             continue
         members = walk[starts[:, None] + np.arange(length)]  # (B, L)
+        step_of, run_of = np.nonzero(shaded[:, members].any(axis=2))
         total = np.zeros(len(starts))
-        steps = max(1, chunk_values // max(1, len(starts) * length * s))
-        for lo_t in range(0, len(g), steps):
-            gt = g[lo_t:lo_t + steps][:, members]  # (t, B, L, S)
-            wt = np.broadcast_to(w[lo_t:lo_t + steps][:, members][..., None], gt.shape)
-            t, b = gt.shape[:2]
-            power, _ = _series_best(gt.reshape(t, b, length * s), wt.reshape(t, b, length * s))
-            total += (p_mod[lo_t:lo_t + steps][:, members].sum(axis=2) - power).sum(axis=0)
+        size = max(1, chunk_values // (length * s))
+        for lo_p in range(0, len(step_of), size):
+            t = step_of[lo_p:lo_p + size, None]
+            m = members[run_of[lo_p:lo_p + size]]  # (P, L)
+            gt = g[t, m].reshape(len(m), 1, length * s)
+            wt = np.repeat(w[t, m], s, axis=1).reshape(gt.shape)
+            power, _ = _series_best(gt, wt)
+            lost = p_mod[t, m].sum(axis=1) - power[:, 0]
+            total += np.bincount(run_of[lo_p:lo_p + size], lost, minlength=len(starts))
         loss[starts, length] = np.maximum(total, 0.0)
     return loss
 
@@ -405,7 +412,7 @@ def string_energy_kwh(plan: StringPlan, module_ids, substring_irradiance, temp_c
 
 def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_cell,
                     pdc0: float, *, gamma_pdc: float, step_minutes: float = 60.0,
-                    max_search_steps: int = 1500) -> StringPlan:
+                    max_search_steps: int = 800) -> StringPlan:
     """Group modules that are shaded alike into strings, never doing worse than by rows.
 
     Parameters
@@ -456,6 +463,7 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
         if len(steps) > max_search_steps:
             steps = steps[np.linspace(0, len(steps) - 1, max_search_steps).astype(int)]
         g = g_face[steps]
+        shaded_steps = shaded[steps]
         w = np.asarray(pvlib.pvsystem.pvwatts_dc(1000.0, temp_all[steps][:, members], pdc0 / s,
                                                  gamma_pdc))
         p_mod = dc_module_level(g, temp_all[steps][:, members], pdc0, gamma_pdc=gamma_pdc)
@@ -479,7 +487,8 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
             gaps = np.linalg.norm(np.diff(centres[candidate], axis=0), axis=1)
             link_ok = gaps <= limit + 1e-9
             if len(steps):
-                loss = _candidate_losses(g, w, p_mod, order, (lo, hi), link_ok, feasible)
+                loss = _candidate_losses(g, w, p_mod, shaded_steps, order, (lo, hi), link_ok,
+                                         feasible)
             else:  # no shade on the face: every wireable run loses nothing
                 loss = _wireable_zero(len(order), (lo, hi), link_ok)
             cuts, total = _best_cut(loss, len(order), count, lo, hi)

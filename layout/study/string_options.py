@@ -54,6 +54,11 @@ def project_sizing(project, *, inverter=None) -> StringSizing:
     -------
     layout.power.string_sizing.StringSizing
     """
+    missing = project.module.missing_electrical()
+    if missing:
+        raise InputError(f"module.{missing[0]}", "is needed for string sizing: the project's "
+                         "module has no electrical data", allowed="the datasheet values of "
+                         + ", ".join(missing))
     inverter = inverter if inverter is not None else project.inverter
     if inverter is None:
         raise InputError("inverter", "is needed for string sizing",
