@@ -106,7 +106,9 @@ class FilePanel(w.VBox):
 
     def export_csv(self) -> Path:
         """Write the module table next to the export path; return the path."""
-        target = write_module_table(self.array_layout, self.export_path.value)
+        electrical = self.project.energy.electrical
+        target = write_module_table(self.array_layout, self.export_path.value,
+                                    strings=electrical.strings, inputs=self.project.strings.inputs)
         self._note(f"Wrote {target}")
         return target
 

@@ -35,6 +35,12 @@ Compare
     Portrait, landscape and mixed fills, each with and without its worst modules
     (:func:`layout.study.compare.compare_layouts`), as a table and a bar chart
     (:class:`widgets.compare_panel.ComparePanel`).
+Strings
+    String sizing by NEC 690.7(A) and the stringings by rows, shade-aware and as drawn, side
+    by side (:func:`layout.study.string_options.compare_stringing`,
+    :class:`widgets.strings_panel.StringsPanel`); the chosen option's strings are drawn on the
+    plan (:class:`widgets.string_lines.StringLines`), and while **Draw a string** is pressed a
+    click on a module adds it to a new string.
 File
     Save and load the project; export the module table (CSV) and outlines (GeoJSON)
     (:class:`widgets.file_panel.FilePanel`).
@@ -56,16 +62,19 @@ from __future__ import annotations
 
 import html
 import time
+from dataclasses import replace
 from pathlib import Path
 
 import ipywidgets as w
 
 from layout.errors import InputError
+from layout.power.stringing import check_strings
 from layout.project import ProjectFileError
 from layout.sky.sun import TYPICAL_YEAR
 from layout.study.analysis import Analysis
 from layout.study.compare import compare_layouts
 from layout.study.outlook import shade_loss_range
+from layout.study.string_options import compare_stringing, with_plan
 from layout.units import INCH_M
 
 from .compare_panel import ComparePanel
@@ -77,6 +86,8 @@ from .module_panel import ModulePanel
 from .plan_view import PlanView, obstruction_anchor, obstruction_label, plan_scene
 from .sky_panel import SkyPanel
 from .status_line import StatusLine
+from .string_lines import StringLines
+from .strings_panel import StringsPanel
 from .survey_panel import SurveyPanel
 from .timeline import Timeline, roof_shadows
 from .totals import TotalsPanel, module_note
@@ -108,7 +119,7 @@ FIGURES = {
 }
 
 #: Side panel tabs, in order.
-TAB_NAMES = ("Module", "Objects", "Survey", "Sky", "Hours", "Compare", "File")
+TAB_NAMES = ("Module", "Objects", "Survey", "Sky", "Hours", "Compare", "Strings", "File")
 
 #: Drag positions snap to this grid [m]: 1 cm, or a quarter inch in imperial projects.
 SNAP_M = {"metric": 0.01, "imperial": INCH_M / 4}
@@ -239,11 +250,17 @@ class Planner(w.VBox):
         self.hours_panel.on_scope_changed(self._refresh_tab)
         self.compare_panel = ComparePanel()
         self.compare_panel.on_run(lambda: self._run_compare(force=True))
+        self.strings_panel = StringsPanel()
+        self.strings_panel.on_use(self._use_stringing)
+        self.strings_panel.on_strings(self._strings_drawn)
+        self.strings_panel.on_redraw(self._draw_strings)
+        self.string_lines = StringLines(self.plan)
+        self._strings_for = None
         self.file_panel = FilePanel(path)
         self.file_panel.on_load(self._file_loaded)
         self.tabs = w.Tab(children=[self.module_panel, self.objects, self.survey,
                                     self.sky_panel, self.hours_panel, self.compare_panel,
-                                    self.file_panel],
+                                    self.strings_panel, self.file_panel],
                           titles=TAB_NAMES,
                           layout=w.Layout(width="600px", min_width="480px"))
         self.tabs.add_class("eaveline-side")
@@ -316,6 +333,7 @@ class Planner(w.VBox):
         self._show_band()
         self.module_panel.show(project)
         self._refresh_tab()
+        self._draw_strings()
         self.last_recompute_s = time.perf_counter() - start
         self.last_timings = dict(self.analysis.timings)
         self._status(message or f"Ready (updated in {self.last_recompute_s * 1000:.0f} ms).")
@@ -449,6 +467,12 @@ class Planner(w.VBox):
                            units=self.project.units)
 
     def _module_clicked(self, module_id: str) -> None:
+        if self.strings_panel.drawing:
+            if module_id in self.analysis.result.table.index:
+                self.strings_panel.add_module(module_id)
+            else:
+                self._status(f"Module {module_id} is taken out: it cannot join a string.")
+            return
         if self.click_mode.value == "select":
             if module_id in self.analysis.result.table.index:
                 self.select_module(module_id)
@@ -620,11 +644,66 @@ class Planner(w.VBox):
             self.sky_panel.show(self.project, self.analysis.result, self.selected_id)
         elif name == "Hours":
             self.hours_panel.show(self.analysis.result, self.selected_id)
+        elif name == "Strings":
+            self._run_strings()
         elif name == "Compare":
             if opened:
                 self._run_compare()
             elif self._compare_for is not self.project:  # a second or more: on request only
                 self.compare_panel.show_stale()
+
+    def _run_strings(self) -> None:
+        if self._strings_for is self.project:
+            return
+        self._strings_for = self.project
+        try:
+            comparison = compare_stringing(self.analysis.result)
+        except InputError as err:
+            self.strings_panel.show(self.project, problem=str(err))
+        else:
+            self.strings_panel.show(self.project, comparison)
+        self._draw_strings()
+
+    def _draw_strings(self) -> None:
+        centres = {m.id: tuple(m.centre_3d[:2]) for m in self.analysis.result.modules}
+        self.strings_panel.own_strings = tuple(self.project.energy.electrical.strings or ())
+        self.string_lines.show(self.strings_panel.plan_strings(), centres,
+                               units=self.project.units, draft=self.strings_panel.draft)
+
+    def _use_stringing(self, method: str) -> None:
+        comparison = self.strings_panel.comparison
+        if comparison is None or method not in comparison.plans:
+            self.strings_panel.say("No such option to use yet.", error=True)
+            return
+        try:
+            project = with_plan(self.project, comparison.plans[method])
+        except InputError as err:
+            self.strings_panel.say(str(err), error=True)
+            return
+        label = comparison.table.loc[method, "label"]
+        if self.set_project(project, message=f"Strings {label} kept as the project's."):
+            self.strings_panel.show_on_plan.value = "project"
+            self.strings_panel.say(f"The strings {label} are now the project's.")
+
+    def _strings_drawn(self, strings) -> None:
+        comparison = self.strings_panel.comparison
+        if strings is not None and comparison is not None:
+            try:  # the sizing's limits, before the project changes
+                check_strings(strings, self.analysis.result.modules, comparison.sizing)
+            except InputError as err:
+                self.strings_panel.say(str(err), error=True)
+                return
+        energy = self.project.energy
+        electrical = replace(energy.electrical, strings=strings)
+        project = self.project.with_changes(
+            energy=replace(energy, electrical=electrical),
+            strings=replace(self.project.strings, inputs=None))
+        words = "Strings cleared." if strings is None else f"String S{len(strings)} added."
+        if self.set_project(project, message=words):
+            self.strings_panel.drawn_accepted()
+            self.strings_panel.say(words)
+        else:
+            self.strings_panel.say("Not changed: the status line says why.", error=True)
 
     def _run_compare(self, *, force: bool = False) -> None:
         if self._compare_for is self.project and not force:

@@ -32,6 +32,7 @@ from ..power.stringing import (
 __all__ = [
     "StringingComparison",
     "compare_stringing",
+    "evaluation_strings",
     "module_string_columns",
     "project_sizing",
     "with_plan",
@@ -229,3 +230,28 @@ def module_string_columns(module_ids, strings, inputs=None) -> pd.DataFrame:
     return pd.DataFrame({"string": [label.get(m, "") for m in module_ids],
                          "input": pd.array([number.get(m) for m in module_ids],
                                            dtype="Int64")})
+
+
+def evaluation_strings(evaluation):
+    """Return the strings an evaluation knows, and their inputs when the user gave them.
+
+    Parameters
+    ----------
+    evaluation : layout.study.analysis.Evaluation
+
+    Returns
+    -------
+    strings : tuple of tuple of str or None
+        The strings of the string model when it ran (the user's or the automatic ones),
+        else the user's strings, else None.
+    inputs : tuple of int or None
+        The project's ``strings.inputs`` when they belong to these strings.
+    """
+    project = evaluation.project
+    own = project.energy.electrical.strings
+    power = evaluation.power
+    strings = power.strings if power is not None and power.strings is not None else own
+    inputs = project.strings.inputs
+    if strings is None or strings != own or inputs is None or len(inputs) != len(strings):
+        inputs = None
+    return strings, inputs
