@@ -55,7 +55,7 @@ import numpy as np
 import pvlib
 
 from ..errors import InputError
-from .electrical import _series_best, dc_module_level, dc_strings
+from .electrical import dc_strings
 from .string_sizing import StringSizing
 
 __all__ = [
@@ -77,6 +77,7 @@ STRINGING_METHODS = ("rows", "shade", "project")
 NEIGHBOUR_FACTOR = 1.5
 
 _MISMATCH = 0.95  # a substring below this share of the face's brightest counts as shaded
+_LEVELS = 12  # candidate operating levels per step in the search
 
 
 @dataclass(frozen=True)
@@ -314,40 +315,51 @@ def string_by_rows(modules, sizing: StringSizing) -> StringPlan:
 
 
 # --------------------------------------------------------------------------- shade search
-def _candidate_losses(g, w, p_mod, shaded, walk, lengths_range, link_ok, feasible,
-                      chunk_values=2_000_000):
-    """Mismatch loss [W·steps] of every run walk[i:i+L]; inf where a link is too long.
+def _levels(g: np.ndarray, shaded: np.ndarray, count: int) -> np.ndarray:
+    """Candidate operating levels of a face's strings at each step [W/m²], shape (t, count).
 
-    Only the (step, run) pairs with a shaded member are computed: a run whose modules all
-    get the face's full light at a step loses nothing there.
+    The dimmest of the unshaded substrings (every unshaded substring carries current there)
+    and ``count - 1`` quantiles of the shaded substrings' irradiance.
+    """
+    top = g.max(axis=(1, 2))
+    out = np.empty((len(g), count))
+    for t in range(len(g)):
+        values = g[t].ravel()
+        dim = values < _MISMATCH * top[t]
+        out[t, 0] = values[~dim].min() if (~dim).any() else top[t]
+        out[t, 1:] = (np.quantile(values[dim], np.linspace(0.0, 1.0, count - 1))
+                      if dim.any() else out[t, 0])
+    return out
+
+
+def _run_losses(levels, weight, walk, lengths_range, link_ok, feasible):
+    """Minus the power of every run walk[i:i+L] summed over the steps; inf where unwireable.
+
+    ``weight[t, m, q]`` is module m's substring power per unit irradiance that carries a
+    current set by level q (its substrings at least that bright); a run's power at level q
+    is ``level · Σ weight``, found for every run at once from prefix sums along the walk, and
+    the run works at its best level (one of the candidates, so never above its true best).
     """
     n = len(walk)
     lo, hi = lengths_range
     loss = np.full((n + 1, hi + 1), np.inf)
-    walk = np.asarray(walk)
-    s = g.shape[2]
+    ordered = weight[:, np.asarray(walk)]  # (t, n, Q)
+    prefix = np.concatenate([np.zeros_like(ordered[:, :1]), np.cumsum(ordered, axis=1)],
+                            axis=1)
+    levels = levels[:, None, :].astype(prefix.dtype)
     for length in range(lo, min(hi, n) + 1):
-        starts = np.arange(n - length + 1)
         if not feasible(length):
             continue
+        count = n - length + 1
+        # every run at once: prefix differences over contiguous slices (no copies by index)
+        total = prefix[:, length:length + count] - prefix[:, :count]  # (t, B, Q)
+        total *= levels
+        power = total.max(axis=2).sum(axis=0, dtype=float)
+        wireable = np.ones(count, dtype=bool)
         if length > 1:
             window = np.lib.stride_tricks.sliding_window_view(link_ok, length - 1)
-            starts = starts[window.all(axis=1)]
-        if not len(starts):
-            continue
-        members = walk[starts[:, None] + np.arange(length)]  # (B, L)
-        step_of, run_of = np.nonzero(shaded[:, members].any(axis=2))
-        total = np.zeros(len(starts))
-        size = max(1, chunk_values // (length * s))
-        for lo_p in range(0, len(step_of), size):
-            t = step_of[lo_p:lo_p + size, None]
-            m = members[run_of[lo_p:lo_p + size]]  # (P, L)
-            gt = g[t, m].reshape(len(m), 1, length * s)
-            wt = np.repeat(w[t, m], s, axis=1).reshape(gt.shape)
-            power, _ = _series_best(gt, wt)
-            lost = p_mod[t, m].sum(axis=1) - power[:, 0]
-            total += np.bincount(run_of[lo_p:lo_p + size], lost, minlength=len(starts))
-        loss[starts, length] = np.maximum(total, 0.0)
+            wireable = window.all(axis=1)
+        loss[:count, length] = np.where(wireable, -power, np.inf)
     return loss
 
 
@@ -412,7 +424,7 @@ def string_energy_kwh(plan: StringPlan, module_ids, substring_irradiance, temp_c
 
 def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_cell,
                     pdc0: float, *, gamma_pdc: float, step_minutes: float = 60.0,
-                    max_search_steps: int = 800) -> StringPlan:
+                    max_search_steps: int = 500) -> StringPlan:
     """Group modules that are shaded alike into strings, never doing worse than by rows.
 
     Parameters
@@ -430,7 +442,7 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
         Power temperature coefficient [1/°C].
     step_minutes : float, keyword-only, default 60
         Length of a time step [minutes], for the final energy comparison.
-    max_search_steps : int, keyword-only, default 1500
+    max_search_steps : int, keyword-only, default 500
         Most shaded steps the search visits per face (evenly thinned beyond that; the final
         choice is on every step).
 
@@ -463,10 +475,12 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
         if len(steps) > max_search_steps:
             steps = steps[np.linspace(0, len(steps) - 1, max_search_steps).astype(int)]
         g = g_face[steps]
-        shaded_steps = shaded[steps]
         w = np.asarray(pvlib.pvsystem.pvwatts_dc(1000.0, temp_all[steps][:, members], pdc0 / s,
-                                                 gamma_pdc))
-        p_mod = dc_module_level(g, temp_all[steps][:, members], pdc0, gamma_pdc=gamma_pdc)
+                                                 gamma_pdc)) * 0.001
+        levels = _levels(g, shaded[steps], _LEVELS) if len(steps) else None
+        if levels is not None:  # (t, M, Q): substring power per W/m² carried at each level
+            carries = g[:, :, :, None] >= levels[:, None, None, :] * (1 - 1e-12)
+            weight = (carries.sum(axis=2) * w[:, :, None]).astype(np.float32)
         local = {int(m): k for k, m in enumerate(members)}
         lo, hi = sizing.min_length, sizing.max_length
         count = len(lengths)
@@ -487,8 +501,7 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
             gaps = np.linalg.norm(np.diff(centres[candidate], axis=0), axis=1)
             link_ok = gaps <= limit + 1e-9
             if len(steps):
-                loss = _candidate_losses(g, w, p_mod, shaded_steps, order, (lo, hi), link_ok,
-                                         feasible)
+                loss = _run_losses(levels, weight, order, (lo, hi), link_ok, feasible)
             else:  # no shade on the face: every wireable run loses nothing
                 loss = _wireable_zero(len(order), (lo, hi), link_ok)
             cuts, total = _best_cut(loss, len(order), count, lo, hi)
