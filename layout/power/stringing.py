@@ -5,29 +5,33 @@ Three ways, all within the lengths of a :class:`~layout.power.string_sizing.Stri
 ``"rows"`` (:func:`string_by_rows`)
     On each face, rows from the eave up walked in alternating directions (the way an
     installer runs the wire, as :func:`layout.power.electrical.assign_strings`), cut into the
-    fewest strings the longest allowed length gives, of as equal a length as possible.
+    fewest strings of allowed length, one more for each tracking input left free, of as
+    equal a length as possible.
 ``"shade"`` (:func:`string_by_shade`)
     The same modules and the same number of strings per face, grouped so that modules shaded
     at the same hours share a string. A string carries one current, so a shaded module in a
     string of sunlit ones either drags their current down or is bypassed; modules shaded
     together lose little by being together. The search walks each face along a few wireable
     paths (rows or columns in a snake, from either side) and cuts each path into strings by
-    dynamic programming over the cut points, minimising the string model's mismatch loss
-    (below) summed over the year; it then keeps the better, on the exact annual energy, of
-    its best cut and the row stringing, so it never loses to it.
+    dynamic programming over the cut points, maximising the strings' summed power through the
+    string model (below); it then keeps the better, on the exact annual energy, of its best
+    cut and the row stringing, so it never loses to it.
 ``"project"`` (:func:`check_strings`)
     The user's own strings (clicked on the plan), checked against the sizing.
 
-Mismatch loss
--------------
-With :func:`layout.power.electrical.dc_module_level` the power ``P_m(t)`` of each module at its
-own best point, and ``P_s(t)`` a string's power at its best point
-(:func:`layout.power.electrical.dc_strings`), the string's loss at a step is
-``Σ_{m ∈ s} P_m(t) − P_s(t) >= 0``. At a step where every substring on the face gets the same
-irradiance, every grouping has zero loss, so the search only visits the steps where some
-substring on the face gets less than 98 % of the face's brightest (beam shade); the diffuse
-differences it leaves out are the same for every grouping to first order, and the final
-choice is made on the exact energy.
+The search's objective
+----------------------
+In the string model of bypass diodes (:mod:`layout.power.electrical`) a string working at the
+current set by an irradiance level ``g`` delivers ``g/1000 · Σ w_j`` over its substrings
+brighter than ``g`` (``w_j`` a substring's power at 1000 W/m²), at its best level. The search
+evaluates every run of consecutive modules along a walk at once: with a few candidate levels
+per step (the dimmest unshaded substring of the face, and quantiles of the shaded ones), the
+sum ``Σ w_j`` of a run at each level is a difference of prefix sums along the walk. A run's
+power is the best of its candidates, never above its true best. Only the steps where some
+substring on the face gets less than 95 % of the face's brightest are visited (at most
+``max_search_steps`` of them, evenly thinned): at the other steps every grouping of the face
+gives nearly the same power. The final choice between the search's grouping and the rows is
+made on the exact string model over every step.
 
 Wireable strings
 ----------------
