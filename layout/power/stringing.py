@@ -52,6 +52,7 @@ decide the wiring (NFPA 70 Article 690).
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
 
@@ -101,6 +102,9 @@ class StringPlan:
         Longest distance between consecutive modules of each string [m].
     notes : tuple of str
         What the method did, in words.
+    energy_kwh : tuple of float or None
+        Annual DC energy of each string through the string model [kWh], when the method
+        computed it (:func:`string_by_shade` does, for the plan it returns).
     """
 
     method: str
@@ -109,6 +113,7 @@ class StringPlan:
     unstrung: tuple[str, ...] = ()
     links_m: tuple[float, ...] = ()
     notes: tuple[str, ...] = ()
+    energy_kwh: tuple[float, ...] | None = None
 
     @property
     def inputs_used(self) -> int:
@@ -428,7 +433,8 @@ def string_energy_kwh(plan: StringPlan, module_ids, substring_irradiance, temp_c
 
 def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_cell,
                     pdc0: float, *, gamma_pdc: float, step_minutes: float = 60.0,
-                    max_search_steps: int = 500) -> StringPlan:
+                    max_search_steps: int = 500, baseline: StringPlan | None = None
+                    ) -> StringPlan:
     """Group modules that are shaded alike into strings, never doing worse than by rows.
 
     Parameters
@@ -446,6 +452,9 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
         Power temperature coefficient [1/°C].
     step_minutes : float, keyword-only, default 60
         Length of a time step [minutes], for the final energy comparison.
+    baseline : StringPlan, keyword-only, optional
+        The row stringing of the same modules and sizing, when the caller has it (its
+        ``energy_kwh`` is then not computed again).
     max_search_steps : int, keyword-only, default 500
         Most shaded steps the search visits per face (evenly thinned beyond that; the final
         choice is on every step).
@@ -462,7 +471,7 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
     if g_all.ndim != 3 or g_all.shape[1] != len(modules) or temp_all.shape != g_all.shape[:2]:
         raise InputError("substring_irradiance", "must be (time, module, substring) for the "
                          "modules given, with temp_cell (time, module)", value=g_all.shape)
-    rows = string_by_rows(modules, sizing)
+    rows = baseline if baseline is not None else string_by_rows(modules, sizing)
     layout = _rows_layout(modules, sizing)
     limit = _neighbour_limit(modules)
     centres = _centres(modules)
@@ -529,14 +538,16 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
         return _as_shade(rows, "the shade-aware grouping needs more tracking inputs than the "
                                "inverter has; the row stringing is kept")
     ids = [m.id for m in modules]
-    energy = {plan.method: string_energy_kwh(plan, ids, g_all, temp_all, pdc0,
-                                             gamma_pdc=gamma_pdc,
-                                             step_minutes=step_minutes).sum()
-              for plan in (rows, shade)}
-    if energy["shade"] + 1e-9 < energy["rows"]:
-        return _as_shade(rows, "no grouping beat the row stringing on the year's energy; "
-                               "the row stringing is kept")
-    return shade
+    energy = {}
+    for plan in (rows, shade):
+        energy[plan.method] = plan.energy_kwh or tuple(string_energy_kwh(
+            plan, ids, g_all, temp_all, pdc0, gamma_pdc=gamma_pdc,
+            step_minutes=step_minutes).tolist())
+    if sum(energy["shade"]) + 1e-9 < sum(energy["rows"]):
+        return dataclasses.replace(
+            _as_shade(rows, "no grouping beat the row stringing on the year's energy; the "
+                            "row stringing is kept"), energy_kwh=energy["rows"])
+    return dataclasses.replace(shade, energy_kwh=energy["shade"])
 
 
 def _wireable_zero(n, lengths_range, link_ok):
@@ -555,9 +566,7 @@ def _unstrung_idx(modules, plan):
 
 
 def _as_shade(rows: StringPlan, note: str) -> StringPlan:
-    return StringPlan(method="shade", strings=rows.strings, inputs=rows.inputs,
-                      unstrung=rows.unstrung, links_m=rows.links_m,
-                      notes=(*rows.notes, note))
+    return dataclasses.replace(rows, method="shade", notes=(*rows.notes, note))
 
 
 # --------------------------------------------------------------------------- user strings

@@ -135,12 +135,21 @@ def compare_stringing(evaluation, *, inverter=None, methods=STRINGING_METHODS
     electrical = project.energy.electrical
     spec = project.module
     step = evaluation.weather.step_minutes
-    plans = {"rows": string_by_rows(modules, sizing)}
+    ids = [m.id for m in modules]
+
+    def energy_of(plan):
+        return tuple(string_energy_kwh(plan, ids, irr.substring_effective, irr.temp_cell,
+                                       spec.power_w, gamma_pdc=electrical.gamma_pdc,
+                                       step_minutes=step).tolist())
+
+    rows_plan = string_by_rows(modules, sizing)
+    plans = {"rows": replace(rows_plan, energy_kwh=energy_of(rows_plan))}
     notes = []
     if "shade" in methods:
         plans["shade"] = string_by_shade(modules, sizing, irr.substring_effective,
                                          irr.temp_cell, spec.power_w,
-                                         gamma_pdc=electrical.gamma_pdc, step_minutes=step)
+                                         gamma_pdc=electrical.gamma_pdc, step_minutes=step,
+                                         baseline=plans["rows"])
     if "project" in methods:
         if electrical.strings:
             inputs = project.strings.inputs
@@ -148,13 +157,11 @@ def compare_stringing(evaluation, *, inverter=None, methods=STRINGING_METHODS
                                              inputs=inputs)
         else:
             notes.append("the project has no strings of its own yet (draw them on the plan)")
-    ids = [m.id for m in modules]
     face_of = {m.id: m.face for m in modules}
     rows, per_string = [], []
     for method, plan in plans.items():
-        energy = string_energy_kwh(plan, ids, irr.substring_effective, irr.temp_cell,
-                                   spec.power_w, gamma_pdc=electrical.gamma_pdc,
-                                   step_minutes=step)
+        energy = np.asarray(plan.energy_kwh if plan.energy_kwh is not None
+                            else energy_of(plan))
         strung = sum(len(s) for s in plan.strings)
         rows.append({"method": method, "label": METHOD_LABELS[method],
                      "strings": len(plan.strings), "modules": strung,
