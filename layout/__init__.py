@@ -30,6 +30,7 @@ from .fill.rules import (
     no_setbacks,
 )
 from .fill.usable import usable_area
+from .power.string_sizing import StringDesign
 from .project import Project, ProjectFileError, load_demo_project, load_project, save_project
 from .scene.building import (
     Building,
@@ -40,6 +41,7 @@ from .scene.building import (
     l_shaped_hip_roof,
     shed_roof,
 )
+from .scene.inverter import InverterSpec, generic_inverter_7kw, generic_inverter_50kw
 from .scene.modules import ModuleSpec, generic_60_cell, generic_72_cell, generic_108_half_cell
 from .scene.obstructions import Block, Cylinder, HorizonProfile, Tree
 from .scene.roof import RoofFace
@@ -57,6 +59,7 @@ __all__ = [
     "FillOptions",
     "HorizonProfile",
     "InputError",
+    "InverterSpec",
     "Layout",
     "ModuleSpec",
     "PlacedModule",
@@ -64,6 +67,7 @@ __all__ = [
     "ProjectFileError",
     "RoofFace",
     "Site",
+    "StringDesign",
     "Tree",
     "compare_orientations",
     "feet_to_m",
@@ -73,6 +77,8 @@ __all__ = [
     "generic_60_cell",
     "generic_72_cell",
     "generic_108_half_cell",
+    "generic_inverter_7kw",
+    "generic_inverter_50kw",
     "hip_roof",
     "ifc_2015_residential",
     "ifc_2021_commercial",

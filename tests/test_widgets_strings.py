@@ -128,3 +128,15 @@ def test_sizing_problem_is_shown_not_raised(demo):
     planner.show_tab("Strings")
     assert planner.strings_panel.comparison is None
     assert "inverter" in planner.strings_panel.sizing_html.value
+
+
+def test_loading_an_older_file_says_what_string_sizing_needs(planner):
+    from pathlib import Path
+
+    old = Path(__file__).parent / "data" / "demo_house_v1.eaveline.json"
+    planner.file_panel.project_path.value = str(old)
+    assert planner.load()
+    message = planner.file_panel.file_message.value
+    assert "document version 1" in message and "string sizing needs voc_v" in message
+    planner.show_tab("Strings")
+    assert "electrical data" in planner.strings_panel.sizing_html.value

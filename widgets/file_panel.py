@@ -101,7 +101,8 @@ class FilePanel(w.VBox):
             self._note("The file was read but the roof cannot be filled; see the status "
                        "line.", error=True)
             return False
-        self._note(f"Loaded {self.project_path.value}")
+        notes = "".join(f"\n- {note}" for note in project.load_notes)
+        self._note(f"Loaded {self.project_path.value}{notes}")
         return True
 
     def export_csv(self) -> Path:

@@ -352,18 +352,21 @@ def _run_losses(levels, weight, walk, lengths_range, link_ok, feasible):
     n = len(walk)
     lo, hi = lengths_range
     loss = np.full((n + 1, hi + 1), np.inf)
-    ordered = weight[:, np.asarray(walk)]  # (t, n, Q)
-    prefix = np.concatenate([np.zeros_like(ordered[:, :1]), np.cumsum(ordered, axis=1)],
-                            axis=1)
-    levels = levels[:, None, :].astype(prefix.dtype)
+    if levels is not None:
+        ordered = weight[:, np.asarray(walk)]  # (t, n, Q)
+        prefix = np.concatenate([np.zeros_like(ordered[:, :1]), np.cumsum(ordered, axis=1)],
+                                axis=1)
+        levels = levels[:, None, :].astype(prefix.dtype)
     for length in range(lo, min(hi, n) + 1):
         if not feasible(length):
             continue
         count = n - length + 1
-        # every run at once: prefix differences over contiguous slices (no copies by index)
-        total = prefix[:, length:length + count] - prefix[:, :count]  # (t, B, Q)
-        total *= levels
-        power = total.max(axis=2).sum(axis=0, dtype=float)
+        power = np.zeros(count)  # no shade on the face: every grouping gives the same
+        if levels is not None:
+            # every run at once: prefix differences over contiguous slices (no index copies)
+            total = prefix[:, length:length + count] - prefix[:, :count]  # (t, B, Q)
+            total *= levels
+            power = total.max(axis=2).sum(axis=0, dtype=float)
         wireable = np.ones(count, dtype=bool)
         if length > 1:
             window = np.lib.stride_tricks.sliding_window_view(link_ok, length - 1)
@@ -490,8 +493,10 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
         g = g_face[steps]
         w = np.asarray(pvlib.pvsystem.pvwatts_dc(1000.0, temp_all[steps][:, members], pdc0 / s,
                                                  gamma_pdc)) * 0.001
-        levels = _levels(g, shaded[steps], _LEVELS) if len(steps) else None
-        if levels is not None:  # (t, M, Q): substring power per W/m² carried at each level
+        levels = weight = None
+        if len(steps):
+            levels = _levels(g, shaded[steps], _LEVELS)
+            # (t, M, Q): a module's substring power per W/m² that carries each level's current
             carries = g[:, :, :, None] >= levels[:, None, None, :] * (1 - 1e-12)
             weight = (carries.sum(axis=2) * w[:, :, None]).astype(np.float32)
         local = {int(m): k for k, m in enumerate(members)}
@@ -513,10 +518,7 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
             order = [local[i] for i in candidate]
             gaps = np.linalg.norm(np.diff(centres[candidate], axis=0), axis=1)
             link_ok = gaps <= limit + 1e-9
-            if len(steps):
-                loss = _run_losses(levels, weight, order, (lo, hi), link_ok, feasible)
-            else:  # no shade on the face: every wireable run loses nothing
-                loss = _wireable_zero(len(order), (lo, hi), link_ok)
+            loss = _run_losses(levels, weight, order, (lo, hi), link_ok, feasible)
             cuts, total = _best_cut(loss, len(order), count, lo, hi)
             if cuts is not None and total < best_loss - 1e-9:
                 best_cuts, best_walk, best_loss = cuts, candidate, total
@@ -548,16 +550,6 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
             _as_shade(rows, "no grouping beat the row stringing on the year's energy; the "
                             "row stringing is kept"), energy_kwh=energy["rows"])
     return dataclasses.replace(shade, energy_kwh=energy["shade"])
-
-
-def _wireable_zero(n, lengths_range, link_ok):
-    lo, hi = lengths_range
-    loss = np.full((n + 1, hi + 1), np.inf)
-    for length in range(lo, min(hi, n) + 1):
-        for start in range(n - length + 1):
-            if link_ok[start:start + length - 1].all():
-                loss[start, length] = 0.0
-    return loss
 
 
 def _unstrung_idx(modules, plan):

@@ -81,3 +81,12 @@ def test_errors_are_one_line(tmp_path, capsys):
     assert "electrical data" in err and "voc_v" in err
     with pytest.raises(SystemExit):
         main(["strings", "--demo", "--inverter", str(bad), "--from-project"])
+
+
+def test_summary_names_the_inverter_and_the_notes_of_an_older_file(capsys):
+    assert main(["summary", str(V1_DEMO)]) == 0
+    out = capsys.readouterr().out
+    assert "Strings: no inverter chosen; design temperatures not typed yet" in out
+    assert "read from document version 1" in out and "string sizing needs" in out
+    assert main(["summary", "--demo"]) == 0
+    assert "design temperatures -26 °C to 34 °C" in capsys.readouterr().out

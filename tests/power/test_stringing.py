@@ -170,3 +170,16 @@ def test_tree_on_one_corner_gains_measurably():
     assert comparison.table.loc["rows", "modules"] == 26
     assert comparison.shade_gain_kwh > 50.0
     assert comparison.shade_gain_pct > 0.3
+
+
+def test_no_shade_gives_the_same_energy_and_valid_strings():
+    g = np.full((48, len(MODULES), 3), 800.0)
+    temp = np.full((48, len(MODULES)), 40.0)
+    rows = string_by_rows(MODULES, SIZING)
+    shade = string_by_shade(MODULES, SIZING, g, temp, SPEC.power_w,
+                            gamma_pdc=DEFAULT_GAMMA_PDC)
+    assert sum(shade.energy_kwh) == pytest.approx(
+        string_energy_kwh(rows, [m.id for m in MODULES], g, temp, SPEC.power_w,
+                          gamma_pdc=DEFAULT_GAMMA_PDC, step_minutes=60).sum())
+    assert len(shade.strings) == len(rows.strings)
+    assert all(SIZING.min_length <= len(s) <= SIZING.max_length for s in shade.strings)
