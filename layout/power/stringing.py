@@ -633,6 +633,15 @@ def check_strings(strings, modules, sizing: StringSizing, *, inputs=None) -> Str
                                          f"({sizing.strings_per_input_limit})")
     unstrung = tuple(m.id for m in modules if m.id not in seen)
     notes = [f"{len(unstrung)} module(s) in no string"] if unstrung else []
+    links = _links(modules, strings_idx)
+    limit = _neighbour_limit(modules)
+    for i, members in enumerate(strings_idx):
+        faces_of = sorted({modules[k].face for k in members})
+        if len(faces_of) > 1:
+            notes.append(f"S{i + 1} spans faces {', '.join(faces_of)}: modules facing other "
+                         "ways in one string lose to mismatch")
+        if links[i] > limit + 1e-9:
+            notes.append(f"S{i + 1} has a {links[i]:.1f} m jump between consecutive modules "
+                         "(a run of wire longer than to a neighbour)")
     return StringPlan(method="project", strings=tuple(strings), inputs=tuple(chosen),
-                      unstrung=unstrung, links_m=_links(modules, strings_idx),
-                      notes=tuple(notes))
+                      unstrung=unstrung, links_m=links, notes=tuple(notes))

@@ -84,6 +84,8 @@ def test_user_strings_are_checked_against_the_sizing():
     plan = check_strings([ids[:6], ids[6:12]], MODULES, SIZING)
     assert plan.method == "project" and plan.inputs == (0, 1)
     assert len(plan.unstrung) == len(ids) - 12
+    jumpy = check_strings([ids[:5] + ids[-1:]], MODULES, SIZING)  # the last one far away
+    assert any("S1 has a" in note and "jump" in note for note in jumpy.notes)
     cases = [
         ([ids[:13]], None, "strings[0]", "longer"),           # beyond the Voc limit
         ([ids[:3]], None, "strings[0]", "shorter"),           # below the tracking window
