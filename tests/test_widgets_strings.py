@@ -107,6 +107,10 @@ def test_use_an_option_and_draw_a_string_by_clicks(planner, reference, tmp_path)
     assert planner.project.energy.electrical.strings == (tuple(ids[:6]),)
     assert not panel.draw_toggle.value and panel.draft == []
     assert planner.string_lines.shown == (tuple(ids[:6]),)
+    # six of the thirteen modules: the table gives no gain over the rows for them
+    table = planner.strings_panel.comparison.table
+    assert table.loc["project", "modules"] == 6 and np.isnan(table.loc["project", "gain_kwh"])
+    assert "hold 6 of the 13 modules" in planner.strings_panel.options_html.value
 
 
 def test_a_string_the_sizing_refuses_leaves_the_project_unchanged(planner):

@@ -31,7 +31,8 @@ def options_table(table) -> str:
     """Return the stringing options (one row per method) as an HTML table."""
     rows = []
     for method, r in table.iterrows():
-        gain = "" if method == "rows" else f"{r.gain_kwh:+,.0f} ({r.gain_pct:+.2f} %)"
+        gain = ("" if method == "rows" or r.gain_kwh != r.gain_kwh  # NaN: other modules
+                else f"{r.gain_kwh:+,.0f} ({r.gain_pct:+.2f} %)")
         rows.append(
             f"<tr data-method='{html.escape(str(method))}'><td>{html.escape(r.label)}</td>"
             f"<td style='text-align:right'>{int(r.strings)}</td>"
@@ -86,6 +87,11 @@ class StringsPanel(w.VBox):
         self.finish_button = w.Button(description="Finish string", disabled=True)
         self.clear_button = w.Button(description="Clear strings")
         self.note = w.HTML()
+        for widget, name in ((self.draw_toggle, "draw"), (self.finish_button, "finish"),
+                             (self.clear_button, "clear"), (self.use_rows, "use-rows"),
+                             (self.use_shade, "use-shade"), (self.note, "note"),
+                             (self.sizing_html, "sizing")):
+            widget.add_class(f"eaveline-strings-{name}")
         self.comparison = None
         self.draft: list[str] = []
         self._callbacks: dict[str, list[Callable]] = {"use": [], "strings": [], "redraw": []}

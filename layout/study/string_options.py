@@ -79,7 +79,7 @@ class StringingComparison:
     table : pandas.DataFrame
         One row per method (index ``method``): ``label``, ``strings``, ``modules``,
         ``inputs_used``, ``dc_ac_ratio``, ``energy_kwh``, ``gain_kwh`` and ``gain_pct`` over
-        the row stringing.
+        the row stringing (NaN for an option that strings other modules than the rows).
     strings : pandas.DataFrame
         One row per string of every plan: ``method``, ``string`` (label), ``input``
         (1-based), ``face``, ``modules``, ``energy_kwh``, ``longest_link_m``.
@@ -177,6 +177,13 @@ def compare_stringing(evaluation, *, inverter=None, methods=STRINGING_METHODS
     table["gain_kwh"] = table["energy_kwh"] - base
     with np.errstate(invalid="ignore", divide="ignore"):
         table["gain_pct"] = np.where(base > 0, 100.0 * table["gain_kwh"] / base, np.nan)
+    # a gain is only a gain over the same modules: the user's strings may hold fewer
+    other = table["modules"] != table.loc["rows", "modules"]
+    table.loc[other, ["gain_kwh", "gain_pct"]] = np.nan
+    for method in table.index[other]:
+        notes.append(f"the strings {METHOD_LABELS[method]} hold {table.loc[method, 'modules']} "
+                     f"of the {table.loc['rows', 'modules']} modules the rows string: no gain "
+                     "is given")
     return StringingComparison(sizing=sizing, plans=plans, table=table,
                                strings=pd.DataFrame(per_string), notes=tuple(notes))
 
