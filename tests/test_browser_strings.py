@@ -11,7 +11,14 @@ for those five modules. Like tests/test_browser.py it fails, never skips, withou
 import dataclasses
 import re
 
-from test_browser import CHROMIUM_ARGS, _centre, browser_tools, voila_url  # noqa: F401
+from test_browser import (  # noqa: F401 - the fixtures are used by name
+    CHROMIUM_ARGS,
+    _centre,
+    browser_tools,
+    open_planner,
+    plan_marker,
+    voila_url,
+)
 
 from layout import load_demo_project
 from layout.power.electrical import ElectricalOptions
@@ -32,16 +39,10 @@ def test_a_string_drawn_by_clicks_in_the_browser(voila_url, browser_tools, tmp_p
     with sync_playwright() as p:
         browser = p.chromium.launch(executable_path=browser_tools, args=CHROMIUM_ARGS)
         try:
-            page = browser.new_page(viewport={"width": 1400, "height": 1100})
-            page.route("**/*", lambda route: route.continue_()
-                       if route.request.url.startswith(voila_url) else route.abort())
-            page.goto(voila_url, wait_until="domcontentloaded")
-            plan = page.locator(".eaveline-plan")
+            page, plan = open_planner(browser, voila_url)
 
             def marker(name):
-                point = plan.locator("g.object_grp").filter(
-                    has=page.locator("text.dot_text", has_text=re.compile(f"^{re.escape(name)}$")))
-                return point.locator("path.dot")
+                return plan_marker(page, plan, name)
 
             marker(names[2]).wait_for(timeout=40_000)
             expect(page.locator(".eaveline-totals")).to_contain_text("shade loss",
