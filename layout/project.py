@@ -239,6 +239,11 @@ def _cross_check(project: Project) -> list[tuple[str, str]]:
         for face_name in project.pathways:
             if face_name not in seen:
                 problems.append((f"pathways.{face_name}", "names no face of this project"))
+    inputs, own = project.strings.inputs, project.energy.electrical.strings
+    if inputs is not None and len(inputs) != len(own or ()):
+        problems.append(("strings.inputs", f"gives {len(inputs)} tracking inputs for "
+                                           f"{len(own or ())} strings in "
+                                           "energy.electrical.strings (one each, or null)"))
     for i, face_name in enumerate(project.array_faces or ()):
         if face_name not in seen:
             problems.append((f"array_faces[{i}]", f"{face_name!r} names no face of this project "

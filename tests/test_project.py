@@ -244,3 +244,12 @@ def test_inverter_and_string_design_round_trip_and_report_their_paths(demo, docu
     paths = [path for path, _ in info.value.problems]
     assert "inverter.mppt_min_v" in paths and "strings.record_low_c" in paths
     assert "module.imp_a" in paths
+
+
+def test_string_inputs_must_match_the_strings(document):
+    document["strings"]["inputs"] = [0, 1]
+    with pytest.raises(ProjectFileError) as info:
+        project_from_dict(document)
+    assert info.value.problems[0][0] == "strings.inputs"
+    document["energy"]["electrical"]["strings"] = [["south/r0c0"], ["south/r0c1"]]
+    assert project_from_dict(document).strings.inputs == (0, 1)
