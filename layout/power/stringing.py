@@ -103,8 +103,8 @@ class StringPlan:
     notes : tuple of str
         What the method did, in words.
     energy_kwh : tuple of float or None
-        Annual DC energy of each string through the string model [kWh], when the method
-        computed it (:func:`string_by_shade` does, for the plan it returns).
+        Annual DC energy of each string through the string model [kWh], when known
+        (:func:`string_by_shade` gives it when its ``baseline`` carried the rows' energies).
     """
 
     method: str
@@ -456,8 +456,9 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
     step_minutes : float, keyword-only, default 60
         Length of a time step [minutes], for the final energy comparison.
     baseline : StringPlan, keyword-only, optional
-        The row stringing of the same modules and sizing, when the caller has it (its
-        ``energy_kwh`` is then not computed again).
+        The row stringing of the same modules and sizing, when the caller has it; with its
+        ``energy_kwh`` the returned plan carries its own, and only the strings the two
+        plans do not share are evaluated.
     max_search_steps : int, keyword-only, default 500
         Most shaded steps the search visits per face (evenly thinned beyond that; the final
         choice is on every step).
@@ -514,11 +515,16 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
                  _row_walk(modules, walk, from_left=False),
                  _column_walk(modules, walk, from_left=True),
                  _column_walk(modules, walk, from_left=False)]
-        for candidate in walks:
+        for turn, candidate in enumerate(walks):
             order = [local[i] for i in candidate]
             gaps = np.linalg.norm(np.diff(centres[candidate], axis=0), axis=1)
             link_ok = gaps <= limit + 1e-9
             loss = _run_losses(levels, weight, order, (lo, hi), link_ok, feasible)
+            if turn == 0:  # the row walk: where nothing is to gain, keep the rows' cuts
+                start = 0
+                for length in lengths:
+                    loss[start, length] -= 1e-9 * max(1.0, abs(loss[start, length]))
+                    start += length
             cuts, total = _best_cut(loss, len(order), count, lo, hi)
             if cuts is not None and total < best_loss - 1e-9:
                 best_cuts, best_walk, best_loss = cuts, candidate, total
@@ -539,13 +545,24 @@ def string_by_shade(modules, sizing: StringSizing, substring_irradiance, temp_ce
     except InputError:
         return _as_shade(rows, "the shade-aware grouping needs more tracking inputs than the "
                                "inverter has; the row stringing is kept")
+    # the exact energy of the strings the two plans do not share decides between them
     ids = [m.id for m in modules]
-    energy = {}
-    for plan in (rows, shade):
-        energy[plan.method] = plan.energy_kwh or tuple(string_energy_kwh(
-            plan, ids, g_all, temp_all, pdc0, gamma_pdc=gamma_pdc,
-            step_minutes=step_minutes).tolist())
-    if sum(energy["shade"]) + 1e-9 < sum(energy["rows"]):
+    complete = rows.energy_kwh is not None  # then the shared strings' energies are known
+    known = ({frozenset(x): e for x, e in zip(rows.strings, rows.energy_kwh, strict=True)}
+             if complete else {})
+    shared = {frozenset(x) for x in rows.strings} & {frozenset(x) for x in shade.strings}
+    needed = {frozenset(x): x for x in (*rows.strings, *shade.strings)
+              if frozenset(x) not in known and frozenset(x) not in shared}
+    if needed:
+        values = string_energy_kwh(dataclasses.replace(rows, strings=tuple(needed.values())),
+                                   ids, g_all, temp_all, pdc0, gamma_pdc=gamma_pdc,
+                                   step_minutes=step_minutes)
+        known.update(zip(needed, values.tolist(), strict=True))
+    differs = {plan.method: sum(known[frozenset(x)] for x in plan.strings
+                                if frozenset(x) not in shared) for plan in (rows, shade)}
+    energy = {plan.method: tuple(known[frozenset(x)] for x in plan.strings) if complete
+              else None for plan in (rows, shade)}
+    if differs["shade"] + 1e-9 < differs["rows"]:
         return dataclasses.replace(
             _as_shade(rows, "no grouping beat the row stringing on the year's energy; the "
                             "row stringing is kept"), energy_kwh=energy["rows"])

@@ -135,13 +135,18 @@ def _random_shade(seed: int, n_steps: int = 120):
 @given(st.integers(0, 10_000))
 def test_shade_aware_never_loses_to_rows(seed):
     g, temp = _random_shade(seed)
-    rows = string_by_rows(MODULES, SIZING)
-    shade = string_by_shade(MODULES, SIZING, g, temp, SPEC.power_w,
-                            gamma_pdc=DEFAULT_GAMMA_PDC)
     ids = [m.id for m in MODULES]
-    energy = {plan.method: string_energy_kwh(plan, ids, g, temp, SPEC.power_w,
-                                             gamma_pdc=DEFAULT_GAMMA_PDC,
-                                             step_minutes=60).sum() for plan in (rows, shade)}
+    rows = string_by_rows(MODULES, SIZING)
+    rows = dataclasses.replace(rows, energy_kwh=tuple(string_energy_kwh(
+        rows, ids, g, temp, SPEC.power_w, gamma_pdc=DEFAULT_GAMMA_PDC, step_minutes=60)))
+    shade = string_by_shade(MODULES, SIZING, g, temp, SPEC.power_w,
+                            gamma_pdc=DEFAULT_GAMMA_PDC, baseline=rows)
+    exact = {plan.method: string_energy_kwh(plan, ids, g, temp, SPEC.power_w,
+                                            gamma_pdc=DEFAULT_GAMMA_PDC, step_minutes=60)
+             for plan in (rows, shade)}
+    # the energies the plan carries (shared strings taken from the rows) are the exact ones
+    np.testing.assert_allclose(shade.energy_kwh, exact["shade"], rtol=1e-12)
+    energy = {method: values.sum() for method, values in exact.items()}
     assert energy["shade"] >= energy["rows"] - 1e-9
     # the same modules, as many strings, each of an allowed length on its own input
     assert sorted(itertools.chain(*shade.strings)) == sorted(itertools.chain(*rows.strings))
@@ -180,8 +185,10 @@ def test_no_shade_gives_the_same_energy_and_valid_strings():
     rows = string_by_rows(MODULES, SIZING)
     shade = string_by_shade(MODULES, SIZING, g, temp, SPEC.power_w,
                             gamma_pdc=DEFAULT_GAMMA_PDC)
-    assert sum(shade.energy_kwh) == pytest.approx(
-        string_energy_kwh(rows, [m.id for m in MODULES], g, temp, SPEC.power_w,
-                          gamma_pdc=DEFAULT_GAMMA_PDC, step_minutes=60).sum())
+    ids = [m.id for m in MODULES]
+    energy = [string_energy_kwh(plan, ids, g, temp, SPEC.power_w, gamma_pdc=DEFAULT_GAMMA_PDC,
+                                step_minutes=60).sum() for plan in (rows, shade)]
+    assert energy[1] == pytest.approx(energy[0])
+    assert shade.strings == rows.strings  # nothing to gain: the rows' cuts are kept
     assert len(shade.strings) == len(rows.strings)
     assert all(SIZING.min_length <= len(s) <= SIZING.max_length for s in shade.strings)
