@@ -63,7 +63,7 @@ def test_tab_shows_the_three_options_and_the_sizing(planner, reference):
 def test_options_drawn_as_lines_through_module_centres(planner, reference):
     planner.show_tab("Strings")
     panel = planner.strings_panel
-    panel.show_on_plan.value = "shade"
+    assert panel.show_on_plan.value == "shade"  # no strings of its own: the suggestion shows
     strings = reference.plans["shade"].strings
     assert planner.string_lines.shown == strings
     k = unit_factor(planner.project.units)  # the demo is drawn in feet

@@ -191,6 +191,8 @@ class StringsPanel(w.VBox):
                 f"{html.escape(problem)}</div>")
             self.options_html.value = ""
             return
+        if not self.own_strings and not self.drawing and self.show_on_plan.value == "project":
+            self.show_on_plan.value = "shade"  # nothing drawn yet: show the suggestion
         lines = "".join(f"<li>{html.escape(line)}</li>" for line in comparison.sizing.lines())
         self.sizing_html.value = (
             "<div style='font-size:12px'><b>String sizing (NEC 690.7(A))</b>"
