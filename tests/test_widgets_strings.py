@@ -144,3 +144,25 @@ def test_loading_an_older_file_says_what_string_sizing_needs(planner):
     assert "document version 1" in message and "string sizing needs voc_v" in message
     planner.show_tab("Strings")
     assert "electrical data" in planner.strings_panel.sizing_html.value
+
+
+def test_design_temperatures_typed_in_the_tab(planner):
+    planner.show_tab("Strings")
+    panel = planner.strings_panel
+    assert panel.low_text.value == "-26" and panel.high_text.value == "34"
+    panel.low_text.value = "-40"
+    panel.method_menu.value = "table"
+    panel.apply_design.click()
+    assert planner.project.strings.record_low_c == -40.0
+    assert planner.project.strings.voc_method == "table"
+    # Table 690.7(A) at -40 °C: 1.25 (from memory, see tests/power/test_string_sizing.py)
+    assert panel.comparison.sizing.voc_factor == 1.25
+    assert "record low -40 °C" in panel.sizing_html.value
+    before = planner.project
+    panel.low_text.value = "36"  # above the design high: refused, the project unchanged
+    panel.apply_design.click()
+    assert planner.project is before
+    assert "record_low_c" in panel.note.value and "below design_high_c" in panel.note.value
+    panel.low_text.value = "cold"
+    panel.apply_design.click()
+    assert planner.project is before and "not a temperature" in panel.note.value

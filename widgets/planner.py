@@ -254,6 +254,7 @@ class Planner(w.VBox):
         self.strings_panel.on_use(self._use_stringing)
         self.strings_panel.on_strings(self._strings_drawn)
         self.strings_panel.on_redraw(self._draw_strings)
+        self.strings_panel.on_design(self._design_typed)
         self.string_lines = StringLines(self.plan)
         self._strings_for = None
         self.file_panel = FilePanel(path)
@@ -684,6 +685,16 @@ class Planner(w.VBox):
         if self.set_project(project, message=f"Strings {label} kept as the project's."):
             self.strings_panel.show_on_plan.value = "project"
             self.strings_panel.say(f"The strings {label} are now the project's.")
+
+    def _design_typed(self, values: dict) -> None:
+        try:
+            design = replace(self.project.strings, **values)
+        except InputError as err:
+            self.strings_panel.say(str(err), error=True)
+            return
+        if self.set_project(self.project.with_changes(strings=design),
+                            message="String design temperatures and limits changed."):
+            self.strings_panel.say("Sized again with the values typed.")
 
     def _strings_drawn(self, strings) -> None:
         comparison = self.strings_panel.comparison

@@ -94,7 +94,8 @@ class StringsPanel(w.VBox):
             widget.add_class(f"eaveline-strings-{name}")
         self.comparison = None
         self.draft: list[str] = []
-        self._callbacks: dict[str, list[Callable]] = {"use": [], "strings": [], "redraw": []}
+        self._callbacks: dict[str, list[Callable]] = {"use": [], "strings": [], "redraw": [],
+                                                      "design": []}
         self.own_strings: tuple = ()
         self.use_rows.on_click(lambda _: self._call("use", "rows"))
         self.use_shade.on_click(lambda _: self._call("use", "shade"))
@@ -102,7 +103,24 @@ class StringsPanel(w.VBox):
         self.clear_button.on_click(lambda _: self._call("strings", None))
         self.draw_toggle.observe(self._drawing_changed, names="value")
         self.show_on_plan.observe(lambda _: self._call("redraw"), names="value")
+        self.low_text = w.Text(description="Record low °C", placeholder="typed, e.g. -18",
+                               layout=w.Layout(width="190px"))
+        self.high_text = w.Text(description="Design high °C", placeholder="e.g. 36",
+                                layout=w.Layout(width="190px"))
+        self.method_menu = w.Dropdown(options=[("module coefficient", "coefficient"),
+                                               ("Table 690.7(A)", "table")],
+                                      description="Voc", layout=w.Layout(width="230px"))
+        self.code_menu = w.Dropdown(options=[("600 V (1-2 family dwelling)", 600.0),
+                                             ("1000 V", 1000.0), ("1500 V", 1500.0)],
+                                    description="Code limit", layout=w.Layout(width="290px"))
+        self.apply_design = w.Button(description="Apply", tooltip="Size again with these")
+        self.apply_design.on_click(lambda _: self._design_typed())
+        for widget, name in ((self.low_text, "low"), (self.high_text, "high"),
+                             (self.apply_design, "apply")):
+            widget.add_class(f"eaveline-strings-{name}")
         super().__init__([
+            w.HBox([self.low_text, self.high_text, self.method_menu]),
+            w.HBox([self.code_menu, self.apply_design]),
             self.sizing_html, self.options_html, self.show_on_plan,
             w.HBox([self.use_rows, self.use_shade]),
             w.HBox([self.draw_toggle, self.finish_button, self.clear_button]),
@@ -119,6 +137,23 @@ class StringsPanel(w.VBox):
     def on_strings(self, callback: Callable) -> None:
         """Call ``callback(strings)`` with the project's new strings (None: clear them)."""
         self._callbacks["strings"].append(callback)
+
+    def on_design(self, callback: Callable) -> None:
+        """Call ``callback(values)`` with the typed design values (StringDesign fields)."""
+        self._callbacks["design"].append(callback)
+
+    def _design_typed(self) -> None:
+        values = {"voc_method": self.method_menu.value,
+                  "code_max_voltage_v": float(self.code_menu.value)}
+        for key, field in (("record_low_c", self.low_text), ("design_high_c", self.high_text)):
+            text = field.value.strip().replace("°C", "").replace("−", "-")
+            try:
+                values[key] = float(text) if text else None
+            except ValueError:
+                self.say(f"{key}: {field.value!r} is not a temperature (°C, e.g. -18)",
+                         error=True)
+                return
+        self._call("design", values)
 
     def on_redraw(self, callback: Callable) -> None:
         """Call ``callback()`` when the strings on the plan should be drawn again."""
@@ -185,6 +220,11 @@ class StringsPanel(w.VBox):
         """Show a comparison, or the problem that stopped it; remember the project's strings."""
         self.own_strings = tuple(project.energy.electrical.strings or ())
         self.comparison = comparison
+        design = project.strings
+        self.low_text.value = "" if design.record_low_c is None else f"{design.record_low_c:g}"
+        self.high_text.value = "" if design.design_high_c is None else f"{design.design_high_c:g}"
+        self.method_menu.value = design.voc_method
+        self.code_menu.value = design.code_max_voltage_v
         if comparison is None:
             self.sizing_html.value = (
                 "<div style='font-size:12px;color:#8a2d2d'>String sizing cannot run: "
