@@ -36,7 +36,8 @@ Compare
     (:func:`layout.study.compare.compare_layouts`), as a table and a bar chart
     (:class:`widgets.compare_panel.ComparePanel`).
 Strings
-    String sizing by NEC 690.7(A) and the stringings by rows, shade-aware and as drawn, side
+    The design temperatures, Voc method and code limit typed; string sizing by NEC 690.7(A)
+    and the stringings by rows, shade-aware and as drawn, side
     by side (:func:`layout.study.string_options.compare_stringing`,
     :class:`widgets.strings_panel.StringsPanel`); the chosen option's strings are drawn on the
     plan (:class:`widgets.string_lines.StringLines`), and while **Draw a string** is pressed a

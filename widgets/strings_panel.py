@@ -6,6 +6,9 @@ sizing used and the limit that sets each length (NEC 690.7(A)), and the options 
 shade-aware and as drawn, with their annual energy and the gain over the row stringing. It
 reports edits through callbacks and never changes the project itself:
 
+- **Apply** hands the planner the design values typed above the sizing: the record low and
+  design high temperatures [°C], the Voc correction (module coefficient or Table 690.7(A))
+  and the code's voltage limit;
 - **Use by rows** / **Use shade-aware** hand the planner that option's strings to keep;
 - **Draw a string**: while it is pressed, clicks on modules add them in order to a new string
   (a click on the last one takes it back); **Finish string** hands the planner the project's
