@@ -33,6 +33,7 @@ from .fill.rules import (
 )
 from .fill.usable import usable_area
 from .history import ProjectHistory
+from .power.string_sizing import StringDesign
 from .project import Project, ProjectFileError, load_demo_project, load_project, save_project
 from .scene.building import (
     Building,
@@ -43,6 +44,7 @@ from .scene.building import (
     l_shaped_hip_roof,
     shed_roof,
 )
+from .scene.inverter import InverterSpec, generic_inverter_7kw, generic_inverter_50kw
 from .scene.modules import ModuleSpec, generic_60_cell, generic_72_cell, generic_108_half_cell
 from .scene.obstructions import Block, Cylinder, HorizonProfile, Tree
 from .scene.roof import RoofFace
@@ -68,6 +70,7 @@ __all__ = [
     "FillOptions",
     "HorizonProfile",
     "InputError",
+    "InverterSpec",
     "Layout",
     "ModuleSpec",
     "PlacedModule",
@@ -77,6 +80,7 @@ __all__ = [
     "RoofFace",
     "RoofTemplate",
     "Site",
+    "StringDesign",
     "Tree",
     "add_building",
     "compare_orientations",
@@ -88,6 +92,8 @@ __all__ = [
     "generic_60_cell",
     "generic_72_cell",
     "generic_108_half_cell",
+    "generic_inverter_7kw",
+    "generic_inverter_50kw",
     "hip_roof",
     "ifc_2015_residential",
     "ifc_2021_commercial",

@@ -27,7 +27,9 @@ from .fill.placement import fill_building_with_areas
 from .fill.rules import ClearanceRules
 from .fill.usable import UsableArea
 from .power.energy import EnergyOptions
+from .power.string_sizing import StringDesign
 from .scene.building import Building
+from .scene.inverter import InverterSpec
 from .scene.modules import ModuleSpec
 from .scene.obstructions import obstruction_from_dict
 from .scene.roof import RoofFace
@@ -49,16 +51,19 @@ __all__ = [
 ]
 
 SCHEMA_KEY = "eaveline_schema_version"
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 FILE_SUFFIX = ".eaveline.json"
 UNIT_SYSTEMS = ("metric", "imperial")
 
 _SECTIONS = (SCHEMA_KEY, "name", "units", "notes", "site", "buildings", "obstructions", "module",
              "clearance", "fill", "array_faces", "removed", "pathways", "energy", "survey",
-             "sources")
+             "sources", "inverter", "strings")
 
 #: Keys of one entry of ``sources``: where imported items came from.
 SOURCE_KEYS = ("kind", "note", "file", "crs", "acquired", "items")
+
+# What each document version added, for the notes of an older file read by this eaveline.
+_VERSION_ADDED = {2: "module electrical data, the inverter and the string design"}
 
 
 class ProjectFileError(ValueError):
@@ -127,6 +132,15 @@ class Project:
         the items, e.g. "from elevation data, not surveyed"), ``items`` (names of the
         buildings, faces and obstructions it gave) and optionally ``file``, ``crs`` and
         ``acquired`` (ISO date).
+    inverter : layout.scene.inverter.InverterSpec or None
+        The string inverter for string sizing; None when not chosen yet.
+    strings : layout.power.string_sizing.StringDesign
+        Design temperatures, Voc method and code limit of string sizing, and the tracking
+        input of each of the user's strings (the strings themselves are
+        ``energy.electrical.strings``).
+    load_notes : tuple of str
+        What loading the file had to say (an older document version, data string sizing
+        will need). Not saved, not compared.
     """
 
     site: Site
@@ -144,6 +158,9 @@ class Project:
     name: str = ""
     notes: str = ""
     sources: tuple = ()
+    inverter: InverterSpec | None = None
+    strings: StringDesign = field(default_factory=StringDesign)
+    load_notes: tuple[str, ...] = field(default=(), compare=False, repr=False)
 
     def __post_init__(self):
         object.__setattr__(self, "sources", parse_sources(self.sources))
@@ -240,6 +257,11 @@ def _cross_check(project: Project) -> list[tuple[str, str]]:
         for face_name in project.pathways:
             if face_name not in seen:
                 problems.append((f"pathways.{face_name}", "names no face of this project"))
+    inputs, own = project.strings.inputs, project.energy.electrical.strings
+    if inputs is not None and len(inputs) != len(own or ()):
+        problems.append(("strings.inputs", f"gives {len(inputs)} tracking inputs for "
+                                           f"{len(own or ())} strings in "
+                                           "energy.electrical.strings (one each, or null)"))
     for i, face_name in enumerate(project.array_faces or ()):
         if face_name not in seen:
             problems.append((f"array_faces[{i}]", f"{face_name!r} names no face of this project "
@@ -295,6 +317,8 @@ def project_to_dict(project: Project) -> dict:
         "removed": [_plain(entry) for entry in project.removed],
         "pathways": dict(project.pathways) if project.pathways is not None else None,
         "energy": project.energy.to_dict(),
+        "inverter": project.inverter.to_dict() if project.inverter is not None else None,
+        "strings": project.strings.to_dict(),
         **sources,
     }
 
@@ -428,6 +452,12 @@ def project_from_dict(data, *, source: str = "") -> Project:
         problems.append(("array_faces", "must be a list of face names, or null for every face"))
         array_faces = None
     sources = collect.take("sources", parse_sources, data.get("sources", []))
+    inverter_data = data.get("inverter")
+    inverter = (collect.take("inverter", InverterSpec.from_dict, inverter_data)
+                if inverter_data is not None else None)
+    strings_data = _need(data, "strings", dict, problems, default={})
+    strings = (collect.take("strings", StringDesign.from_dict, strings_data)
+               if strings_data is not None else None)
     units = _need(data, "units", str, problems, default="metric")
     name = _need(data, "name", str, problems, default="") if "name" in data else ""
     notes = _need(data, "notes", str, problems, default="") if "notes" in data else ""
@@ -440,10 +470,23 @@ def project_from_dict(data, *, source: str = "") -> Project:
             fill=fill, array_faces=array_faces, obstructions=tuple(obstructions),
             survey=tuple(survey),
             removed=tuple(removed or ()), pathways=pathways, energy=energy, units=units,
-            name=name, notes=notes, sources=sources or (),
+            name=name, notes=notes, sources=sources or (), inverter=inverter,
+            strings=strings, load_notes=_load_notes(version, module),
         )
     except ProjectFileError as err:
         raise ProjectFileError(err.problems, source) from None
+
+
+def _load_notes(version: int, module: ModuleSpec) -> tuple[str, ...]:
+    """Return the notes on an older document, and on data string sizing will ask for."""
+    notes = [f"read from document version {version}; version {later} added "
+             f"{_VERSION_ADDED[later]} (saving writes version {SCHEMA_VERSION})"
+             for later in range(version + 1, SCHEMA_VERSION + 1)]
+    missing = module.missing_electrical()
+    if missing:
+        notes.append("the module has no electrical data: string sizing needs "
+                     + ", ".join(missing) + " (from the module's datasheet)")
+    return tuple(notes)
 
 
 # --------------------------------------------------------------------------- files

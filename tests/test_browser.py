@@ -92,6 +92,22 @@ def _centre(box) -> tuple[float, float]:
     return box["x"] + box["width"] / 2, box["y"] + box["height"] / 2
 
 
+def open_planner(browser, voila_url):
+    """Open the planner in a new page (nothing fetched off 127.0.0.1); return page and plan."""
+    page = browser.new_page(viewport={"width": 1400, "height": 1100})
+    page.route("**/*", lambda route: route.continue_()
+               if route.request.url.startswith(voila_url) else route.abort())
+    page.goto(voila_url, wait_until="domcontentloaded")
+    return page, page.locator(".eaveline-plan")
+
+
+def plan_marker(page, plan, name):
+    """Return the dot of the obstruction marker named ``name`` on the plan."""
+    point = plan.locator("g.object_grp").filter(
+        has=page.locator("text.dot_text", has_text=re.compile(f"^{re.escape(name)}$")))
+    return point.locator("path.dot")
+
+
 def _loss(text: str) -> float:
     return float(re.search(r"shade loss ([\d.]+) %", text).group(1))
 
@@ -108,16 +124,10 @@ def test_dragging_the_tree_updates_the_annual_shade_loss(voila_url, browser_tool
     with sync_playwright() as p:
         browser = p.chromium.launch(executable_path=browser_tools, args=CHROMIUM_ARGS)
         try:
-            page = browser.new_page(viewport={"width": 1400, "height": 1100})
-            page.route("**/*", lambda route: route.continue_()
-                       if route.request.url.startswith(voila_url) else route.abort())
-            page.goto(voila_url, wait_until="domcontentloaded")
-            plan = page.locator(".eaveline-plan")
+            page, plan = open_planner(browser, voila_url)
 
             def marker(name):
-                point = plan.locator("g.object_grp").filter(
-                    has=page.locator("text.dot_text", has_text=re.compile(f"^{re.escape(name)}$")))
-                return point.locator("path.dot")
+                return plan_marker(page, plan, name)
 
             marker(tree_name).wait_for(timeout=40_000)
             totals = page.locator(".eaveline-totals")

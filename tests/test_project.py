@@ -208,3 +208,48 @@ def test_survey_readings_round_trip_and_stand_in_the_scene(demo, tmp_path):
     again = load_project(save_project(edited, tmp_path / "surveyed"))
     assert again.survey == edited.survey
     assert again.scene_obstructions == edited.scene_obstructions
+
+
+# --------------------------------------------------------------------------- version 2
+V1_DEMO = os.path.join(os.path.dirname(__file__), "data", "demo_house_v1.eaveline.json")
+
+
+def test_a_version_1_file_still_loads_with_a_note(demo):
+    old = load_project(V1_DEMO)
+    assert old.inverter is None and old.strings.record_low_c is None
+    assert old.module.missing_electrical()  # the version 1 module has sizes only
+    assert old.buildings == demo.buildings and old.obstructions == demo.obstructions
+    assert any("document version 1" in note for note in old.load_notes)
+    assert any("string sizing needs voc_v" in note for note in old.load_notes)
+    assert not demo.load_notes  # the bundled demo is current and complete
+
+
+def test_a_version_1_file_is_saved_as_the_current_version(tmp_path):
+    path = save_project(load_project(V1_DEMO), tmp_path / "upgraded")
+    document = json.loads(path.read_text())
+    assert document[SCHEMA_KEY] == SCHEMA_VERSION == 2
+    assert document["inverter"] is None
+    assert "voc_v" not in document["module"]  # nothing is invented for the user
+    assert load_project(path).load_notes[-1].startswith("the module has no electrical data")
+
+
+def test_inverter_and_string_design_round_trip_and_report_their_paths(demo, document):
+    assert demo.inverter is not None and demo.strings.record_low_c == -26.0
+    assert project_from_dict(document) == demo
+    document["inverter"]["mppt_min_v"] = 900.0
+    document["strings"]["record_low_c"] = 50.0
+    document["module"]["imp_a"] = 99.0
+    with pytest.raises(ProjectFileError) as info:
+        project_from_dict(document)
+    paths = [path for path, _ in info.value.problems]
+    assert "inverter.mppt_min_v" in paths and "strings.record_low_c" in paths
+    assert "module.imp_a" in paths
+
+
+def test_string_inputs_must_match_the_strings(document):
+    document["strings"]["inputs"] = [0, 1]
+    with pytest.raises(ProjectFileError) as info:
+        project_from_dict(document)
+    assert info.value.problems[0][0] == "strings.inputs"
+    document["energy"]["electrical"]["strings"] = [["south/r0c0"], ["south/r0c1"]]
+    assert project_from_dict(document).strings.inputs == (0, 1)

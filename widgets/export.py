@@ -14,6 +14,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from layout.study.string_options import module_string_columns
+
 __all__ = [
     "SITE_FRAME",
     "layout_geojson",
@@ -26,7 +28,8 @@ __all__ = [
 SITE_FRAME = "site-local metres: x east, y north, z up (not longitude/latitude)"
 
 
-def module_table(layout, *, figures: pd.DataFrame | None = None) -> pd.DataFrame:
+def module_table(layout, *, figures: pd.DataFrame | None = None, strings=None,
+                 inputs=None) -> pd.DataFrame:
     """One row per placed module.
 
     Parameters
@@ -36,13 +39,18 @@ def module_table(layout, *, figures: pd.DataFrame | None = None) -> pd.DataFrame
     figures : pandas.DataFrame, optional
         Per-module figures indexed by module id (annual energy, shade loss ...), joined on
         the right when given.
+    strings : sequence of sequence of str, optional
+        Module ids of each string (the project's ``energy.electrical.strings``).
+    inputs : sequence of int, optional
+        Tracking input (0-based) of each string.
 
     Returns
     -------
     pandas.DataFrame
         Indexed by ``id``: ``face``, ``row``, ``column``, ``orientation``, ``active``,
         ``centre_x_m``, ``centre_y_m``, ``centre_z_m`` [m, site frame], ``tilt_deg`` and
-        ``azimuth_deg`` [degrees].
+        ``azimuth_deg`` [degrees], ``string`` (``"S1"``…, empty when in no string) and
+        ``input`` (1-based, missing when unknown).
     """
     removed = {m.id for m in layout.removed_modules}
     records = []
@@ -57,6 +65,9 @@ def module_table(layout, *, figures: pd.DataFrame | None = None) -> pd.DataFrame
     columns = ["id", "face", "row", "column", "orientation", "active", "centre_x_m",
                "centre_y_m", "centre_z_m", "tilt_deg", "azimuth_deg"]
     table = pd.DataFrame.from_records(records, columns=columns).set_index("id")
+    wiring = module_string_columns(list(table.index), strings, inputs)
+    wiring.index = table.index
+    table = table.join(wiring)
     if figures is not None:
         table = table.join(figures)
     return table

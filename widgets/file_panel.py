@@ -128,12 +128,15 @@ class FilePanel(w.VBox):
             self._note("The file was read but the roof cannot be filled; see the status "
                        "line.", error=True)
             return False
-        self._note(f"Loaded {self.project_path.value}")
+        notes = "".join(f"\n- {note}" for note in project.load_notes)
+        self._note(f"Loaded {self.project_path.value}{notes}")
         return True
 
     def export_csv(self) -> Path:
         """Write the module table next to the export path; return the path."""
-        target = write_module_table(self.array_layout, self.export_path.value)
+        electrical = self.project.energy.electrical
+        target = write_module_table(self.array_layout, self.export_path.value,
+                                    strings=electrical.strings, inputs=self.project.strings.inputs)
         self._note(f"Wrote {target}")
         return target
 

@@ -35,6 +35,13 @@ Compare
     Portrait, landscape and mixed fills, each with and without its worst modules
     (:func:`layout.study.compare.compare_layouts`), as a table and a bar chart
     (:class:`widgets.compare_panel.ComparePanel`).
+Strings
+    The design temperatures, Voc method and code limit typed; string sizing by NEC 690.7(A)
+    and the stringings by rows, shade-aware and as drawn, side
+    by side (:func:`layout.study.string_options.compare_stringing`,
+    :class:`widgets.strings_panel.StringsPanel`); the chosen option's strings are drawn on the
+    plan (:class:`widgets.string_lines.StringLines`), and while **Draw a string** is pressed a
+    click on a module adds it to a new string.
 File
     Save and load the project; export the module table (CSV) and outlines (GeoJSON)
     (:class:`widgets.file_panel.FilePanel`).
@@ -60,6 +67,7 @@ from __future__ import annotations
 
 import html
 import time
+from dataclasses import replace
 from pathlib import Path
 
 import ipywidgets as w
@@ -68,6 +76,7 @@ from layout.edits import move_building
 from layout.elevation import PROVENANCE, cross_check
 from layout.errors import InputError
 from layout.history import ProjectHistory
+from layout.power.stringing import check_strings
 from layout.project import ProjectFileError
 from layout.project_imports import with_obstructions
 from layout.report import ReportOptions, write_report
@@ -75,6 +84,7 @@ from layout.sky.sun import TYPICAL_YEAR
 from layout.study.analysis import Analysis
 from layout.study.compare import compare_layouts
 from layout.study.outlook import shade_loss_range
+from layout.study.string_options import compare_stringing, with_plan
 from layout.units import INCH_M
 
 from .compare_panel import ComparePanel
@@ -90,6 +100,8 @@ from .plan_view import PlanView, obstruction_anchor, obstruction_label, plan_sce
 from .roof_panel import RoofPanel
 from .sky_panel import SkyPanel
 from .status_line import StatusLine
+from .string_lines import StringLines
+from .strings_panel import StringsPanel
 from .survey_panel import SurveyPanel
 from .timeline import Timeline, roof_shadows
 from .totals import TotalsPanel, module_note
@@ -121,8 +133,8 @@ FIGURES = {
 }
 
 #: Side panel tabs, in order.
-TAB_NAMES = ("Roof", "Module", "Objects", "Survey", "Sky", "Hours", "Compare", "File",
-             "Elevation data")
+TAB_NAMES = ("Roof", "Module", "Objects", "Survey", "Sky", "Hours", "Compare", "Strings",
+             "File", "Elevation data")
 
 #: Drag positions snap to this grid [m]: 1 cm, or a quarter inch in imperial projects.
 SNAP_M = {"metric": 0.01, "imperial": INCH_M / 4}
@@ -285,6 +297,13 @@ class Planner(w.VBox):
         self.hours_panel.on_scope_changed(self._refresh_tab)
         self.compare_panel = ComparePanel()
         self.compare_panel.on_run(lambda: self._run_compare(force=True))
+        self.strings_panel = StringsPanel()
+        self.strings_panel.on_use(self._use_stringing)
+        self.strings_panel.on_strings(self._strings_drawn)
+        self.strings_panel.on_redraw(self._draw_strings)
+        self.strings_panel.on_design(self._design_typed)
+        self.string_lines = StringLines(self.plan)
+        self._strings_for = None
         self.file_panel = FilePanel(path)
         self.file_panel.on_load(self._file_loaded)
         self.file_panel.on_saved(self._saved)
@@ -303,7 +322,7 @@ class Planner(w.VBox):
                                                               "added"))
         self.tabs = w.Tab(children=[self.roof_panel, self.module_panel, self.objects, self.survey,
                                     self.sky_panel, self.hours_panel, self.compare_panel,
-                                    self.file_panel, self.elevation_panel],
+                                    self.strings_panel, self.file_panel, self.elevation_panel],
                           titles=TAB_NAMES,
                           layout=w.Layout(flex="1 1 480px", min_width="460px",
                                           max_width="760px"))
@@ -399,6 +418,7 @@ class Planner(w.VBox):
         self.module_panel.show(project)
         self.roof_panel.show(project)
         self._refresh_tab()
+        self._draw_strings()
         if self.history is None:
             self.history = ProjectHistory(project)
         elif record:
@@ -559,6 +579,12 @@ class Planner(w.VBox):
                            units=self.project.units)
 
     def _module_clicked(self, module_id: str) -> None:
+        if self.strings_panel.drawing:
+            if module_id in self.analysis.result.table.index:
+                self.strings_panel.add_module(module_id)
+            else:
+                self._status(f"Module {module_id} is taken out: it cannot join a string.")
+            return
         if self.click_mode.value == "select":
             if module_id in self.analysis.result.table.index:
                 self.select_module(module_id)
@@ -817,11 +843,76 @@ class Planner(w.VBox):
             self.sky_panel.show(self.project, self.analysis.result, self.selected_id)
         elif name == "Hours":
             self.hours_panel.show(self.analysis.result, self.selected_id)
+        elif name == "Strings":
+            self._run_strings()
         elif name == "Compare":
             if opened:
                 self._run_compare()
             elif self._compare_for is not self.project:  # a second or more: on request only
                 self.compare_panel.show_stale()
+
+    def _run_strings(self) -> None:
+        if self._strings_for is self.project:
+            return
+        self._strings_for = self.project
+        try:
+            comparison = compare_stringing(self.analysis.result)
+        except InputError as err:
+            self.strings_panel.show(self.project, problem=str(err))
+        else:
+            self.strings_panel.show(self.project, comparison)
+        self._draw_strings()
+
+    def _draw_strings(self) -> None:
+        centres = {m.id: tuple(m.centre_3d[:2]) for m in self.analysis.result.modules}
+        self.strings_panel.own_strings = tuple(self.project.energy.electrical.strings or ())
+        self.string_lines.show(self.strings_panel.plan_strings(), centres,
+                               units=self.project.units, draft=self.strings_panel.draft)
+
+    def _use_stringing(self, method: str) -> None:
+        comparison = self.strings_panel.comparison
+        if comparison is None or method not in comparison.plans:
+            self.strings_panel.say("No such option to use yet.", error=True)
+            return
+        try:
+            project = with_plan(self.project, comparison.plans[method])
+        except InputError as err:
+            self.strings_panel.say(str(err), error=True)
+            return
+        label = comparison.table.loc[method, "label"]
+        if self.set_project(project, message=f"Strings {label} kept as the project's."):
+            self.strings_panel.show_on_plan.value = "project"
+            self.strings_panel.say(f"The strings {label} are now the project's.")
+
+    def _design_typed(self, values: dict) -> None:
+        try:
+            design = replace(self.project.strings, **values)
+        except InputError as err:
+            self.strings_panel.say(str(err), error=True)
+            return
+        if self.set_project(self.project.with_changes(strings=design),
+                            message="String design temperatures and limits changed."):
+            self.strings_panel.say("Sized again with the values typed.")
+
+    def _strings_drawn(self, strings) -> None:
+        comparison = self.strings_panel.comparison
+        if strings is not None and comparison is not None:
+            try:  # the sizing's limits, before the project changes
+                check_strings(strings, self.analysis.result.modules, comparison.sizing)
+            except InputError as err:
+                self.strings_panel.say(str(err), error=True)
+                return
+        energy = self.project.energy
+        electrical = replace(energy.electrical, strings=strings)
+        project = self.project.with_changes(
+            energy=replace(energy, electrical=electrical),
+            strings=replace(self.project.strings, inputs=None))
+        words = "Strings cleared." if strings is None else f"String S{len(strings)} added."
+        if self.set_project(project, message=words):
+            self.strings_panel.drawn_accepted()
+            self.strings_panel.say(words)
+        else:
+            self.strings_panel.say("Not changed: the status line says why.", error=True)
 
     def _run_compare(self, *, force: bool = False) -> None:
         if self._compare_for is self.project and not force:

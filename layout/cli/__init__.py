@@ -17,6 +17,11 @@ compare [PROJECT | --demo] [--orientations O,O] [--min-tsrf PCT] [--min-energy K
         [--max-shade-loss PCT] [--keep-worst] [--json] [--weather FILE] [--shade-model MODEL]
     Portrait, landscape and mixed fills side by side, each also without its worst modules
     (TSRF below the project's threshold unless limits are given): :mod:`layout.study.compare`.
+strings [PROJECT | --demo] [--inverter FILE | --from-project]
+        [--method rows|shade|project] [--json] [--weather FILE]
+    String sizing by NEC 690.7(A) from the project's design temperatures, module and inverter;
+    the row, shade-aware and drawn stringings side by side with their annual energy
+    (:mod:`layout.study.string_options`), and the chosen one's strings and inputs.
 batch SOURCE -o OUT [--format parquet|csv] [--module-tables] [--scheduler ADDRESS | --serial]
     Evaluate every project of a folder (or listed in a CSV) on Dask, one row per project, with
     failures in their rows; a rerun skips what is already written (:mod:`layout.study.portfolio`;
@@ -35,8 +40,8 @@ Modules
 :mod:`.parser` holds every command's options and help; :mod:`.dispatch` turns argv into a call
 of the command's function and errors into exit statuses; one module per command does the work
 and the printing from plain values (:mod:`.summary`, :mod:`.check`, :mod:`.evaluate`, with the
-keys of the JSON report, :mod:`.compare`, :mod:`.batch`, :mod:`.report`). Nothing else in
-``layout`` imports this package.
+keys of the JSON report, :mod:`.compare`, :mod:`.strings`, :mod:`.batch`, :mod:`.report`,
+:mod:`.footprints`, :mod:`.from_points`). Nothing else in ``layout`` imports this package.
 """
 
 from .compare import comparison_report, comparison_summary

@@ -13,6 +13,7 @@ from .compare import run_compare
 from .evaluate import run_evaluate
 from .parser import batch_parser, command_parser
 from .report import run_report
+from .strings import run_strings
 from .summary import run_summary
 
 __all__ = ["main", "one_line", "portfolio_main"]
@@ -102,6 +103,9 @@ def main(argv: Sequence[str] | None = None) -> int:
             run_from_points(args.tile, site=args.site, radius_m=args.radius, out=args.out,
                             crs=args.crs, surface=args.surface, timezone=args.timezone,
                             footprint=args.footprint)
+        elif args.command == "strings":
+            run_strings(args.project, demo=args.demo, inverter=args.inverter,
+                        method=args.method, as_json=args.json, weather=args.weather)
     except ProjectFileError as err:
         # check lists every problem; the other commands give one line
         print(err if args.command == "check" else f"error: {one_line(err)}", file=sys.stderr)

@@ -50,6 +50,7 @@ from pathlib import Path
 from ..errors import InputError
 from ..power.metrics import face_table
 from ..study.analysis import Analysis, Evaluation
+from ..study.string_options import evaluation_strings, module_string_columns
 from .json_output import REPORT_VERSION, plain_json, print_json
 from .progress import terminal_progress
 from .project_input import load_command_project, with_overrides
@@ -206,6 +207,9 @@ def evaluation_summary(evaluation: Evaluation) -> str:
 def write_tables(evaluation: Evaluation, folder) -> list[Path]:
     """Write the per-module, per-face, monthly and month × hour tables as CSV files.
 
+    The module table gains the ``string`` and ``input`` columns of
+    :func:`layout.study.string_options.module_string_columns` (empty without strings).
+
     Parameters
     ----------
     evaluation : layout.study.analysis.Evaluation
@@ -224,7 +228,11 @@ def write_tables(evaluation: Evaluation, folder) -> list[Path]:
     project = evaluation.project
     faces = face_table(evaluation.table, power_w=project.module.power_w,
                        tsrf_threshold_pct=project.energy.tsrf_threshold_pct)
-    frames = (evaluation.table, faces, evaluation.monthly, evaluation.month_hour)
+    strings, inputs = evaluation_strings(evaluation)
+    columns = module_string_columns(list(evaluation.table.index), strings, inputs)
+    columns.index = evaluation.table.index
+    modules = evaluation.table.join(columns)
+    frames = (modules, faces, evaluation.monthly, evaluation.month_hour)
     written = []
     for name, frame in zip(CSV_FILES, frames, strict=True):
         path = folder / name

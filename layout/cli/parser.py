@@ -6,6 +6,7 @@ import argparse
 
 from ..fill.faces import FILL_ORIENTATIONS
 from ..power.electrical import SHADE_MODELS
+from ..power.stringing import STRINGING_METHODS
 
 __all__ = ["batch_parser", "command_parser", "fill_orientations", "footprint_parser",
            "report_parser"]
@@ -99,6 +100,23 @@ def command_parser() -> argparse.ArgumentParser:
     points.add_argument("--footprint", metavar="FILE.geojson",
                         help="the building's footprint from a GeoJSON file (default: found "
                              "from the points)")
+    strings = commands.add_parser("strings", help="string sizing (NEC 690.7(A)) and the rows, "
+                                                  "shade-aware and drawn stringings compared")
+    strings.add_argument("project", nargs="?", help="a .eaveline.json project file")
+    strings.add_argument("--demo", action="store_true", help="use the bundled demo project")
+    source = strings.add_mutually_exclusive_group()
+    source.add_argument("--inverter", metavar="FILE",
+                        help="a JSON file with the inverter's fields (instead of the "
+                             "project's)")
+    source.add_argument("--from-project", action="store_true",
+                        help="use the project's inverter (the default)")
+    strings.add_argument("--method", choices=STRINGING_METHODS, default="shade",
+                         help="the stringing printed in full (default shade); all are "
+                              "compared")
+    strings.add_argument("--weather", metavar="FILE",
+                         help="a TMY3 .csv, TMY2 .tm2 or EPW .epw weather file (instead of "
+                              "the project's; default clear sky)")
+    strings.add_argument("--json", action="store_true", help="print one JSON object")
     return parser
 
 

@@ -80,8 +80,20 @@ def project_summary(project: Project) -> str:
         + (f", {len(layout.removed)} removed by the user" if layout.removed else ""),
     ]
     out.append(text_table(("face", "modules"), sorted(by_face.items())))
-    if layout.notes:
-        out += ["", "Notes", *bullets(layout.notes)]
+    inverter = project.inverter
+    design = project.strings
+    out += ["", "Strings: " + (
+        f"inverter {inverter.name or '(unnamed)'} × {inverter.count}, "
+        f"{inverter.total_inputs} tracking inputs, {inverter.total_ac_power_w / 1000:.1f} kW AC"
+        if inverter is not None else "no inverter chosen")
+        + "; design temperatures "
+        + (f"{design.record_low_c:g} °C to {design.design_high_c:g} °C"
+           if design.record_low_c is not None and design.design_high_c is not None
+           else "not typed yet")
+        + " (python -m layout strings)"]
+    notes = (*layout.notes, *project.load_notes)
+    if notes:
+        out += ["", "Notes", *bullets(notes)]
     if project.sources:
         out += ["", "Imported items", *bullets(
             f"{', '.join(s['items'])}: {s['note']} ({s.get('file', s['kind'])}"

@@ -23,6 +23,15 @@ Each bypass diode protects one substring, a band of cells:
   substring.
 - ``substring_axis="width"``: each substring is a band of whole cell rows running across the
   module.
+
+Electrical data
+---------------
+String sizing (:mod:`layout.power.string_sizing`) needs the datasheet values at standard test
+conditions: ``voc_v``, ``isc_a``, ``vmp_v``, ``imp_a``, the temperature coefficients of Voc and
+of Pmax (``temp_coeff_voc_pct``, ``temp_coeff_pmax_pct``, in %/°C as datasheets print them) and
+the module's maximum system voltage (``max_system_voltage_v``). They are optional, so that a
+module known only by its size and power still lays out and shades; :meth:`ModuleSpec.
+missing_electrical` names the ones a sizing would need.
 """
 
 from __future__ import annotations
@@ -32,9 +41,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..errors import InputError, check_fields, check_positive
+from ..errors import InputError, check_fields, check_positive, check_range
 
 __all__ = [
+    "ELECTRICAL_FIELDS",
     "MAX_EFFICIENCY",
     "STC_IRRADIANCE_W_M2",
     "SUBSTRING_AXES",
@@ -56,10 +66,17 @@ MAX_EFFICIENCY = 0.337
 #: Allowed values of :attr:`ModuleSpec.substring_axis`.
 SUBSTRING_AXES = ("length", "width")
 
+#: The optional electrical fields of :class:`ModuleSpec` (values at STC), in document order.
+ELECTRICAL_FIELDS = ("voc_v", "isc_a", "vmp_v", "imp_a", "temp_coeff_voc_pct",
+                     "temp_coeff_pmax_pct", "max_system_voltage_v")
+
 _FIELDS = (
     "length_m", "width_m", "power_w", "cell_rows", "cell_columns", "bypass_diodes",
-    "substring_axis", "name",
+    "substring_axis", "name", *ELECTRICAL_FIELDS,
 )
+
+# Vmp · Imp is the STC power; datasheets round both, so allow this much disagreement.
+_POWER_TOLERANCE = 0.03
 
 
 def _check_count(field: str, value, *, low: int = 1, high: int = 1000) -> int:
@@ -102,6 +119,19 @@ class ModuleSpec:
         ``cell_columns`` must divide evenly among the diodes; with ``"width"``, ``cell_rows``.
     name : str, default ""
         A label for the user.
+    voc_v, vmp_v : float, optional
+        Open-circuit and maximum-power voltage at STC [V]; ``vmp_v < voc_v``.
+    isc_a, imp_a : float, optional
+        Short-circuit and maximum-power current at STC [A]; ``imp_a < isc_a``. When both
+        ``vmp_v`` and ``imp_a`` are given their product must be ``power_w`` within 3 %.
+    temp_coeff_voc_pct : float, optional
+        Temperature coefficient of Voc [%/°C], -1 to 0 (crystalline silicon about -0.25 to
+        -0.35, common practice).
+    temp_coeff_pmax_pct : float, optional
+        Temperature coefficient of Pmax [%/°C], -1 to 0.
+    max_system_voltage_v : float, optional
+        The module's rated maximum system voltage [V], 100 to 1500 (600, 1000 or 1500 V on
+        datasheets).
     """
 
     length_m: float
@@ -112,6 +142,13 @@ class ModuleSpec:
     bypass_diodes: int = 3
     substring_axis: str = "length"
     name: str = ""
+    voc_v: float | None = None
+    isc_a: float | None = None
+    vmp_v: float | None = None
+    imp_a: float | None = None
+    temp_coeff_voc_pct: float | None = None
+    temp_coeff_pmax_pct: float | None = None
+    max_system_voltage_v: float | None = None
 
     def __post_init__(self):
         set_ = object.__setattr__
@@ -156,6 +193,37 @@ class ModuleSpec:
             )
         if not isinstance(self.name, str):
             raise InputError("name", "must be text", value=self.name)
+        self._check_electrical()
+
+    def _check_electrical(self):
+        set_ = object.__setattr__
+        ranges = {"voc_v": (0.1, 1500.0, "V"), "isc_a": (0.01, 100.0, "A"),
+                  "vmp_v": (0.1, 1500.0, "V"), "imp_a": (0.01, 100.0, "A"),
+                  "temp_coeff_voc_pct": (-1.0, 0.0, "%/°C"),
+                  "temp_coeff_pmax_pct": (-1.0, 0.0, "%/°C"),
+                  "max_system_voltage_v": (100.0, 1500.0, "V")}
+        for key, (low, high, unit) in ranges.items():
+            value = getattr(self, key)
+            if value is not None:
+                set_(self, key, check_range(key, value, low, high, unit=unit))
+        if self.voc_v is not None and self.vmp_v is not None and self.vmp_v >= self.voc_v:
+            raise InputError("vmp_v", "must be below voc_v", value=self.vmp_v,
+                             allowed=f"below {self.voc_v:g} V")
+        if self.isc_a is not None and self.imp_a is not None and self.imp_a >= self.isc_a:
+            raise InputError("imp_a", "must be below isc_a", value=self.imp_a,
+                             allowed=f"below {self.isc_a:g} A")
+        if self.vmp_v is not None and self.imp_a is not None:
+            product = self.vmp_v * self.imp_a
+            if abs(product / self.power_w - 1) > _POWER_TOLERANCE:
+                raise InputError(
+                    "imp_a", f"times vmp_v gives {product:.0f} W, not the module's power_w "
+                    f"of {self.power_w:g} W", value=self.imp_a,
+                    allowed=f"{self.power_w / self.vmp_v * (1 - _POWER_TOLERANCE):.2f} to "
+                            f"{self.power_w / self.vmp_v * (1 + _POWER_TOLERANCE):.2f} A")
+
+    def missing_electrical(self) -> tuple[str, ...]:
+        """Names of the electrical fields not given (string sizing needs all of them)."""
+        return tuple(key for key in ELECTRICAL_FIELDS if getattr(self, key) is None)
 
     # ----------------------------------------------------------------- derived values
     @property
@@ -240,7 +308,11 @@ class ModuleSpec:
     # ----------------------------------------------------------------- data
     def to_dict(self) -> dict:
         """Plain-data form used by the project file."""
-        return {key: getattr(self, key) for key in _FIELDS}
+        data = {key: getattr(self, key) for key in _FIELDS}
+        for key in ELECTRICAL_FIELDS:  # a module without electrical data keeps a short form
+            if data[key] is None:
+                del data[key]
+        return data
 
     @classmethod
     def from_dict(cls, data: dict) -> ModuleSpec:
@@ -261,8 +333,25 @@ def _samples_per_side(samples_per_cell) -> int:
 
 
 # Typical outer sizes, REFERENCES.md "typical module sizes" (common practice).
+# Electrical data of the generic modules are plausible values of our own, inside the ranges
+# crystalline-silicon datasheets print (common practice), not any maker's datasheet: about
+# 0.66 V open-circuit and 0.55 V at maximum power per full cell in series, Isc 6 % above Imp,
+# Voc coefficient -0.29 %/°C (half cells -0.27), Pmax coefficient -0.37 %/°C (half cells
+# -0.35), rated for 1000 V systems. Imp follows from the power asked for (Pmax = Vmp · Imp,
+# to 0.01 A).
+def _generic(length_m, width_m, power_w, rows, name, voc_v, vmp_v, beta_voc, gamma_pmax):
+    imp = round(power_w / vmp_v, 2)
+    return ModuleSpec(length_m, width_m, power_w, cell_rows=rows, cell_columns=6, name=name,
+                      voc_v=voc_v, isc_a=round(imp * 1.06, 2), vmp_v=vmp_v, imp_a=imp,
+                      temp_coeff_voc_pct=beta_voc, temp_coeff_pmax_pct=gamma_pmax,
+                      max_system_voltage_v=1000.0)
+
+
 def generic_60_cell(power_w: float, *, name: str = "generic 60-cell") -> ModuleSpec:
     """Return a generic 60-cell module: 1.650 m × 0.991 m, 10 × 6 cells, 3 diodes (common practice).
+
+    Electrical data of our own: Voc 39.6 V, Vmp 33.0 V, Imp = power / Vmp, Isc = 1.06 Imp,
+    -0.29 %/°C (Voc), -0.37 %/°C (Pmax), 1000 V.
 
     Parameters
     ----------
@@ -271,12 +360,15 @@ def generic_60_cell(power_w: float, *, name: str = "generic 60-cell") -> ModuleS
     name : str
         Label.
     """
-    return ModuleSpec(1.650, 0.991, power_w, cell_rows=10, cell_columns=6, name=name)
+    return _generic(1.650, 0.991, power_w, 10, name, 39.6, 33.0, -0.29, -0.37)
 
 
 def generic_72_cell(power_w: float, *, name: str = "generic 72-cell") -> ModuleSpec:
     """Return a generic 72-cell module: 1.956 m × 0.991 m, 12 × 6 cells, 3 diodes (common practice).
 
+    Electrical data of our own: Voc 47.5 V, Vmp 39.6 V, Imp = power / Vmp, Isc = 1.06 Imp,
+    -0.29 %/°C (Voc), -0.37 %/°C (Pmax), 1000 V.
+
     Parameters
     ----------
     power_w : float
@@ -284,7 +376,7 @@ def generic_72_cell(power_w: float, *, name: str = "generic 72-cell") -> ModuleS
     name : str
         Label.
     """
-    return ModuleSpec(1.956, 0.991, power_w, cell_rows=12, cell_columns=6, name=name)
+    return _generic(1.956, 0.991, power_w, 12, name, 47.5, 39.6, -0.29, -0.37)
 
 
 def generic_108_half_cell(power_w: float, *,
@@ -293,7 +385,9 @@ def generic_108_half_cell(power_w: float, *,
 
     Sizes are common practice. The two halves of a half-cell module are wired in parallel
     behind the same three diodes, so each substring is still a band of two columns running
-    the full length (``substring_axis="length"``).
+    the full length (``substring_axis="length"``), and 54 half cells are in series.
+    Electrical data of our own: Voc 37.2 V, Vmp 31.0 V, Imp = power / Vmp, Isc = 1.06 Imp,
+    -0.27 %/°C (Voc), -0.35 %/°C (Pmax), 1000 V.
 
     Parameters
     ----------
@@ -302,4 +396,4 @@ def generic_108_half_cell(power_w: float, *,
     name : str
         Label.
     """
-    return ModuleSpec(1.722, 1.134, power_w, cell_rows=18, cell_columns=6, name=name)
+    return _generic(1.722, 1.134, power_w, 18, name, 37.2, 31.0, -0.27, -0.35)
