@@ -25,6 +25,7 @@ import bqplot as bq
 import ipywidgets as w
 import numpy as np
 import shapely
+from shapely.ops import polylabel
 
 from layout.report.plan import zone_category
 from layout.units import FOOT_M, format_length
@@ -206,6 +207,23 @@ def _padded(rings: list[np.ndarray], k: float) -> tuple[list, list]:
         xs.append((pad[:, 0] * k).tolist())
         ys.append((pad[:, 1] * k).tolist())
     return xs, ys
+
+
+def free_spot(region, scene: PlanScene | None) -> np.ndarray:
+    """Return a point of ``region`` [m] clear of the modules, where a click target can sit.
+
+    The pole of inaccessibility of the region less the modules (grown by 0.2 m), so a face's
+    or a building's handle does not cover a module's click; the centroid when modules cover
+    it all.
+    """
+    modules = [shapely.Polygon(corners) for _, corners, _ in (scene.modules if scene else ())]
+    free = region
+    if modules:
+        free = shapely.difference(region, shapely.buffer(shapely.union_all(modules), 0.2))
+    if free.is_empty or free.area < 0.05:
+        return np.asarray(region.centroid.coords[0])
+    parts = sorted(shapely.get_parts(free), key=lambda g: g.area, reverse=True)
+    return np.asarray(polylabel(parts[0], tolerance=0.05).coords[0])
 
 
 def _hatch(geometry, spacing: float) -> list[np.ndarray]:
@@ -397,9 +415,8 @@ class PlanView(Quiet, w.VBox):
                    self.module_fill_marks, self.removed_marks, self.flag_marks,
                    self.shadow_marks, self.tree_marks, self.obstruction_marks,
                    self.sight_marks, self.edge_labels, self.face_labels, self.selected_mark,
-                   self.module_targets, self.face_targets, self.preview_marks,
-                   self.draw_lines, self.draw_points, self.first_corner,
-                   self.building_markers,
+                   self.face_targets, self.building_markers, self.module_targets,
+                   self.preview_marks, self.draw_lines, self.draw_points, self.first_corner,
                    self.station_marks, self.surveyed_markers, self.obstruction_markers],
             axes=[self.x_axis, self.y_axis],
             fig_margin=dict(FIGURE_MARGIN_PX), display_toolbar=False,
@@ -484,9 +501,10 @@ class PlanView(Quiet, w.VBox):
         """Call ``callback(x_m, y_m)`` with each corner clicked on the plan while drawing."""
         self._corner_added.append(callback)
 
-    def show_buildings(self, names, centres) -> None:
-        """Put a drag handle at each building's centre [m] (``names`` in the same order)."""
-        anchors = np.asarray(centres, dtype=float).reshape(-1, 2) * self._k
+    def show_buildings(self, names, footprints) -> None:
+        """Put a drag handle on each building's footprint [m], clear of its modules."""
+        spots = [free_spot(footprint, self._scene) for footprint in footprints]
+        anchors = np.asarray(spots, dtype=float).reshape(-1, 2) * self._k
         self._building_anchors = anchors.copy()
         with self._silently(), self.building_markers.hold_sync():
             self.building_markers.x, self.building_markers.y = anchors[:, 0], anchors[:, 1]
@@ -774,9 +792,10 @@ class PlanView(Quiet, w.VBox):
             self.face_labels.x = [float(c[0] * k) for c in centroids.values()]
             self.face_labels.y = [float(c[1] * k) for c in centroids.values()]
             self.face_labels.text = list(centroids)
-            self.face_targets.x = [float(c[0] * k) for c in centroids.values()]
-            self.face_targets.y = [float(c[1] * k) for c in centroids.values()]
-            self.face_targets.names = list(centroids)
+            spots = [free_spot(shapely.Polygon(ring), scene) for _, ring in scene.faces]
+            self.face_targets.x = [float(c[0] * k) for c in spots]
+            self.face_targets.y = [float(c[1] * k) for c in spots]
+            self.face_targets.names = [name for name, _ in scene.faces]
             self.face_targets.selected = None
             self.module_targets.x = (centres[:, 0] * k).tolist()
             self.module_targets.y = (centres[:, 1] * k).tolist()

@@ -341,7 +341,10 @@ class Planner(w.VBox):
             w.HBox([self.title, w.HBox([self.history_bar, self.units_toggle])],
                    layout=w.Layout(justify_content="space-between", align_items="center")),
             # the side panel beside the plan on a wide screen, below it on a narrow one
-            w.HBox([w.VBox([tools, self.plan, self.timeline, figures]), self.tabs],
+            w.HBox([w.VBox([tools, self.plan, self.timeline, figures],
+                           layout=w.Layout(flex=f"0 1 {self.plan.width_px + 80}px",
+                                           min_width=f"{self.plan.width_px + 20}px")),
+                    self.tabs],
                    layout=w.Layout(flex_flow="row wrap", align_items="flex-start")),
             self.cautions, page_style(),
         ])
@@ -407,7 +410,7 @@ class Planner(w.VBox):
         self.plan.draw(plan_scene(project, result.layout, result.areas), units=project.units,
                        keep_static=keep)
         self.plan.show_buildings([b.name for b in project.buildings],
-                                 [b.footprint.centroid.coords[0] for b in project.buildings])
+                                 [b.footprint for b in project.buildings])
         self._show_figures()
         self._draw_shadows()
         self.objects.show(project.obstructions, units=project.units,
@@ -628,8 +631,7 @@ class Planner(w.VBox):
                                                    + ".", label=label):
             # put the handle back where the project still has the building
             self.plan.show_buildings([b.name for b in self.project.buildings],
-                                     [b.footprint.centroid.coords[0]
-                                      for b in self.project.buildings])
+                                     [b.footprint for b in self.project.buildings])
 
     def _face_clicked(self, name: str) -> None:
         self.show_tab("Roof")
