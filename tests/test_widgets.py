@@ -334,8 +334,13 @@ def test_compare_tab_is_the_cores_comparison(planner, demo, reference):
     assert table["modules"].tolist() == core["modules"].tolist()
     assert table["energy_kwh"].to_numpy() == pytest.approx(core["energy_kwh"].to_numpy(),
                                                             rel=1e-9)
+    # a "without the worst" option that dropped nothing would repeat the row above: left out
+    shown = core[~(core.index.str.endswith("without the worst") & (core["dropped"] == 0))]
+    assert list(planner.compare_panel.compare_bars.x) == list(shown.index)
     assert list(planner.compare_panel.compare_bars.y) == pytest.approx(
-        core["energy_kwh"].tolist(), rel=1e-9)
+        shown["energy_kwh"].tolist(), rel=1e-9)
+    assert planner.compare_panel.compare_html.value.count("without the worst") == (
+        shown.index.str.endswith("without the worst").sum())
     # the option in force fills like Project.layout(), and the plan's analysis is put back
     assert table.loc["portrait", "modules"] == demo.layout().count
     assert planner.analysis.project is demo

@@ -18,9 +18,38 @@ import ipywidgets as w
 import numpy as np
 import pandas as pd
 
+from layout.sky.paths import MONTH_NAMES
+
 from . import style
 
-__all__ = ["HoursHeatMap", "daylight_hours"]
+__all__ = ["HoursHeatMap", "LazyFigure", "daylight_hours", "reveal_figures"]
+
+
+class LazyFigure(w.Box):
+    """A place for a bqplot figure in a tab that may be hidden when the page first draws.
+
+    A figure drawn inside a hidden tab measures zero by zero, and bqplot then sets negative
+    sizes on its plot area (errors in the browser's console). The figure is put in its place
+    only by :meth:`reveal`, which the planner calls when the tab is opened.
+    """
+
+    def __init__(self, figure):
+        self.figure = figure
+        super().__init__([], layout=w.Layout(width="100%"))
+
+    def reveal(self) -> None:
+        """Put the figure on the page (once)."""
+        if not self.children:
+            self.children = [self.figure]
+
+
+def reveal_figures(widget) -> None:
+    """Reveal every :class:`LazyFigure` inside ``widget`` (a tab's panel being opened)."""
+    if isinstance(widget, LazyFigure):
+        widget.reveal()
+        return
+    for child in getattr(widget, "children", ()):
+        reveal_figures(child)
 
 
 def daylight_hours(table: pd.DataFrame) -> list[int]:
@@ -29,9 +58,6 @@ def daylight_hours(table: pd.DataFrame) -> list[int]:
     return [int(h) for h, ok in zip(table.columns, finite, strict=True) if ok]
 
 
-#: Month names on month axes, January first.
-MONTH_NAMES = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov",
-               "Dec")
 #: Cells where the sun is below the horizon: a light grey that recedes behind every figure.
 NIGHT = "#ececec"
 
@@ -54,7 +80,7 @@ class HoursHeatMap(w.VBox):
                                formats=["", "", ".1f"]))
         self.colour_axis = bq.ColorAxis(scale=self.colour_scale, side="right",
                                         label="shade loss %", label_offset="44px",
-                                        tick_format=".0f")
+                                        tick_format=".0f", num_ticks=3)
         self.month_axis = bq.Axis(scale=self.row_scale, orientation="vertical", side="left",
                                   label="month", label_offset="40px",
                                   tick_labels={str(m): n for m, n in
@@ -69,7 +95,7 @@ class HoursHeatMap(w.VBox):
         self.figure.add_class("eaveline-hours")
         self.title = w.HTML()
         self.table: pd.DataFrame | None = None
-        super().__init__([self.title, self.figure, w.HTML(
+        super().__init__([self.title, LazyFigure(self.figure), w.HTML(
             "<div style='font-size:11px;color:#5d6b6a'>Light grey: the sun is below the "
             "horizon in that month and hour. Hover a cell for its figure.</div>")])
 

@@ -13,12 +13,24 @@ import bqplot as bq
 import ipywidgets as w
 
 from . import style
+from .charts import LazyFigure
 
 __all__ = ["ComparePanel", "comparison_table"]
 
 
+def shown_options(table):
+    """Return the options worth a row of their own.
+
+    A "without the worst" option that dropped nothing repeats the option above it and is left
+    out.
+    """
+    repeat = table.index.str.endswith("without the worst") & (table["dropped"] == 0)
+    return table[~repeat]
+
+
 def comparison_table(table, *, current: str) -> str:
     """Return the comparison table (one row per option) as HTML, ``current`` in bold."""
+    table = shown_options(table)
     rows = []
     for option, r in table.iterrows():
         weight = "bold" if option == current else "normal"
@@ -32,10 +44,12 @@ def comparison_table(table, *, current: str) -> str:
             f"<td style='text-align:right'>{r.tsrf_mean_pct:.1f}</td>"
             f"<td style='text-align:right'>{int(r.dropped)}</td></tr>")
     basis = html.escape(str(table.attrs.get("energy_basis", "DC")))
-    return ("<table style='font-size:12px;border-collapse:collapse'>"
-            "<tr><th style='text-align:left'>layout</th><th>modules</th><th>kWp</th>"
-            f"<th>kWh a year ({basis})</th><th>kWh/kWp</th><th>shade loss %</th>"
-            "<th>mean TSRF %</th><th>dropped</th></tr>" + "".join(rows) + "</table>")
+    head = "".join(f"<th style='padding:0 4px'>{h}</th>" for h in (
+        "modules", "kWp", f"kWh/yr ({basis})", "kWh/kWp", "shade loss %", "mean TSRF %",
+        "dropped"))
+    return ("<div style='overflow-x:auto'><table style='font-size:12px;border-collapse:collapse;"
+            "white-space:nowrap'><tr><th style='text-align:left'>layout</th>" + head + "</tr>"
+            + "".join(rows) + "</table></div>")
 
 
 class ComparePanel(w.VBox):
@@ -56,26 +70,29 @@ class ComparePanel(w.VBox):
     def __init__(self):
         self.compare_html = w.HTML()
         self.compare_html.add_class("eaveline-compare-table")
-        x = bq.OrdinalScale()
+        # horizontal bars: the options' names read along their own rows, never crowded
+        x = bq.OrdinalScale(reverse=True)
         y = bq.LinearScale(min=0.0)
         self.compare_bars = bq.Bars(x=[], y=[], scales={"x": x, "y": y},
+                                    orientation="horizontal",
                                     colors=[style.FIGURE_SCALE[4]], padding=0.25)
         self.compare_figure = bq.Figure(
             marks=[self.compare_bars],
-            axes=[bq.Axis(scale=x, label="layout", tick_rotate=-25),
-                  bq.Axis(scale=y, side="left", orientation="vertical",
-                          label="annual energy [kWh]", tick_format=",.0f")],
-            fig_margin={"top": 16, "bottom": 96, "left": 72, "right": 16},
+            axes=[bq.Axis(scale=x, orientation="vertical", side="left"),
+                  bq.Axis(scale=y, label="annual energy [kWh]", tick_format=",.0f",
+                          num_ticks=4)],
+            fig_margin={"top": 10, "bottom": 44, "left": 180, "right": 24},
             display_toolbar=False,
-            layout=w.Layout(width="560px", height="300px"))
+            layout=w.Layout(width="100%", max_width="560px", height="240px"))
         self.compare_figure.add_class("eaveline-compare-chart")
-        self.compare_button = w.Button(description="Compare again")
+        self.compare_button = w.Button(description="Compare again",
+                                       layout=w.Layout(width="auto", flex="0 0 auto"))
         self.compare_note = w.HTML()
         super().__init__([
             w.HTML("<div style='font-size:12px;color:#5d6b6a'>The same faces, setbacks, gaps "
                    "and removals filled in each orientation, each also without its modules "
                    "below the TSRF threshold; every option evaluated like the plan.</div>"),
-            self.compare_html, self.compare_figure,
+            self.compare_html, LazyFigure(self.compare_figure),
             w.HBox([self.compare_button, self.compare_note],
                    layout=w.Layout(align_items="center"))])
 
@@ -85,15 +102,18 @@ class ComparePanel(w.VBox):
 
     def show(self, comparison, *, current: str) -> None:
         """Show a comparison; ``current`` is the project's own orientation (in bold)."""
-        table = comparison.table
+        table = shown_options(comparison.table)
         self.compare_html.value = comparison_table(table, current=current)
         with self.compare_bars.hold_sync():
             self.compare_bars.x = list(table.index)
             self.compare_bars.y = table["energy_kwh"].astype(float).tolist()
         threshold = comparison.limits.get("min_tsrf_pct")
+        none_dropped = len(table) < len(comparison.table)
         self.compare_note.value = (
             f"<span style='font-size:11px;color:#5d6b6a'>Dropped: modules below "
-            f"{threshold:g} % TSRF. {html.escape(comparison.caveat)}</span>"
+            f"{threshold:g} % TSRF"
+            + (" (options with none below it are shown once)" if none_dropped else "")
+            + f". {html.escape(comparison.caveat)}</span>"
             if threshold is not None else "")
 
     def show_stale(self) -> None:

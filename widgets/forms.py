@@ -308,8 +308,8 @@ class ObstructionForm(Quiet, w.VBox):
         if isinstance(o, Block):
             axes = _rectangle_axes(o.footprint)
             if axes is not None:
-                rows.append(self._length_row("side_a", "Side along first edge", axes[2]))
-                rows.append(self._length_row("side_b", "Side along second edge", axes[3]))
+                rows.append(self._length_row("side_a", "Side, first edge", axes[2]))
+                rows.append(self._length_row("side_b", "Side, second edge", axes[3]))
             rows.append(self._length_row("top", "Top height", o.top))
             rows.append(self._length_row("base", "Base height", o.base))
         elif isinstance(o, Cylinder):

@@ -24,6 +24,7 @@ from layout.fill.rules import (
 
 from .forms import FieldRow, error_text, length_text, read_length
 from .quiet import Quiet
+from .unit_text import in_units
 
 __all__ = ["SETBACK_PRESETS", "ModulePanel"]
 
@@ -183,8 +184,9 @@ class ModulePanel(Quiet, w.VBox):
 
     def show_rules(self, project, layout) -> None:
         """Show the module count, kWp, the rules' name and the ridge setbacks of a fill."""
-        rules = [n for n in layout.notes if n.startswith("ridge setback")]
-        others = [n for n in layout.notes if not n.startswith("ridge setback")]
+        notes = [in_units(n, project.units) for n in layout.notes]
+        rules = [n for n in notes if n.startswith("ridge setback")]
+        others = [n for n in notes if not n.startswith("ridge setback")]
         self.rule_label.value = (
             f"<div style='font-size:13px;color:#34403f'><b>{layout.count}</b> modules · "
             f"<b>{layout.kwp(project.module):.2f}</b> kWp · "

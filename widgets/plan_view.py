@@ -31,6 +31,7 @@ from layout.report.plan import zone_category
 from layout.units import FOOT_M, format_length
 
 from . import style
+from .plan_key import PlanKey
 from .quiet import Quiet
 
 __all__ = [
@@ -448,9 +449,10 @@ class PlanView(Quiet, w.VBox):
         self.first_corner.observe(self._first_corner_selected, names=["selected"])
         self.building_markers.observe(self._building_marker_moved, names=["x", "y"])
         self.surveyed_markers.observe(self._surveyed_selected, names=["selected"])
-        super().__init__([w.HBox([self.zoom_toggle, self.fit_button, self.hint],
+        self.key = PlanKey()
+        super().__init__([w.HBox([self.zoom_toggle, self.fit_button, self.key.toggle, self.hint],
                                  layout=w.Layout(align_items="center")),
-                          self.figure])
+                          self.key, self.figure])
 
     # ----------------------------------------------------------------- callbacks
     def on_obstruction_moved(self, callback: Callable) -> None:

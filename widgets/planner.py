@@ -87,6 +87,7 @@ from layout.study.outlook import shade_loss_range
 from layout.study.string_options import compare_stringing, with_plan
 from layout.units import INCH_M
 
+from .charts import reveal_figures
 from .compare_panel import ComparePanel
 from .elevation_panel import ElevationPanel
 from .file_panel import FilePanel
@@ -836,6 +837,9 @@ class Planner(w.VBox):
 
     # ================================================================= side panel
     def _tab_changed(self, change) -> None:
+        index = change["new"]
+        if index is not None:
+            reveal_figures(self.tabs.children[index])  # charts drawn only once visible
         self._refresh_tab(opened=True)
 
     def _refresh_tab(self, *, opened: bool = False) -> None:

@@ -48,7 +48,7 @@ MODULE_CHOICES = {
 #: Template fields in the order the form shows them: (field, label, kinds that use it).
 _TEMPLATE_FIELDS = (
     ("name", "Building name", None),
-    ("length_m", "Length (along the ridge)", None),
+    ("length_m", "Length (ridge way)", None),
     ("width_m", "Width", None),
     ("wing_length_m", "Wing length", ("l_gable", "l_hip")),
     ("wing_width_m", "Wing width", ("l_gable", "l_hip")),

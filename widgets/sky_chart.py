@@ -26,6 +26,7 @@ from layout.sky.paths import KEY_PATHS, MONTH_NAMES, SunPath, sun_paths
 from layout.sky.sun import TYPICAL_YEAR
 
 from . import style
+from .charts import LazyFigure
 from .plan_view import polygon_rings
 
 __all__ = [
@@ -115,7 +116,7 @@ class SkyChart(w.HBox):
         self.regions: list[SkyRegion] = []
         self.paths: list[SunPath] = []
         self._paths_for = None
-        super().__init__([w.VBox([self.title, self.figure]), self.table])
+        super().__init__([w.VBox([self.title, LazyFigure(self.figure)]), self.table])
 
     def show(self, *, site, casters, point, module_id: str, monthly: pd.DataFrame,
              year: int = TYPICAL_YEAR, basis: str = "DC") -> None:

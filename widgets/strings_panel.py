@@ -107,9 +107,11 @@ class StringsPanel(w.VBox):
         self.draw_toggle.observe(self._drawing_changed, names="value")
         self.show_on_plan.observe(lambda _: self._call("redraw"), names="value")
         self.low_text = w.Text(description="Record low °C", placeholder="typed, e.g. -18",
-                               layout=w.Layout(width="190px"))
+                               style={"description_width": "100px"},
+                               layout=w.Layout(width="210px"))
         self.high_text = w.Text(description="Design high °C", placeholder="e.g. 36",
-                                layout=w.Layout(width="190px"))
+                                style={"description_width": "100px"},
+                                layout=w.Layout(width="210px"))
         self.method_menu = w.Dropdown(options=[("module coefficient", "coefficient"),
                                                ("Table 690.7(A)", "table")],
                                       description="Voc", layout=w.Layout(width="230px"))
