@@ -129,9 +129,14 @@ def test_planner_layout_is_project_layout(planner, demo):
 
 
 def test_ridge_rule_in_force_is_shown(planner, demo):
+    from widgets.unit_text import in_units
+
     ridge = [n for n in demo.layout().notes if n.startswith("ridge setback")]
     assert ridge, "the demo has a ridge"
-    assert ridge[0] in planner.module_panel.rule_label.value.replace("&#x27;", "'")
+    # shown in the project's units (feet): the metric figure in brackets is dropped
+    shown = in_units(ridge[0], demo.units)
+    assert "mm" not in shown and "18 in" in shown
+    assert shown in planner.module_panel.rule_label.value.replace("&#x27;", "'")
 
 
 def test_plan_axes_are_equal_and_in_feet_for_an_imperial_project(planner, demo):
