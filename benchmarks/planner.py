@@ -86,6 +86,71 @@ def python_side(drags: int) -> dict:
             "stages": {k: statistics.median(v) for k, v in stages.items()}}
 
 
+def roof_edit_side(repeats: int) -> dict:
+    """Median seconds, Python side, of a face's pitch edit and of undo and redo on the demo."""
+    from layout import load_demo_project
+    from widgets import Planner
+
+    planner = Planner(load_demo_project())
+    panel = planner.roof_panel
+    panel.select_face("south")
+    edit, undo, redo = [], [], []
+    for i in range(repeats + 1):
+        panel.pitch.input.value = f"{30 + i % 2}"
+        start = time.perf_counter()
+        assert panel.apply_face()
+        middle = time.perf_counter()
+        assert planner.undo()
+        after_undo = time.perf_counter()
+        assert planner.redo()
+        end = time.perf_counter()
+        if i:  # the first round warms caches
+            edit.append(middle - start)
+            undo.append(after_undo - middle)
+            redo.append(end - after_undo)
+    return {"edit": statistics.median(edit), "undo": statistics.median(undo),
+            "redo": statistics.median(redo)}
+
+
+def browser_roof_edits(page, repeats: int) -> dict:
+    """Median seconds in the browser from Apply (a face's pitch) and from Undo and Redo to the
+    new totals on the page."""
+    page.locator(".eaveline-side .lm-TabBar-tab", has_text="Roof").click()
+    page.get_by_text("Faces", exact=True).click()
+    page.locator(".eaveline-face-choice select").select_option("south")
+    row = page.locator(".eaveline-roof-panel .widget-hbox", has_text="Pitch (° or 6/12)").last
+    field = row.locator("input")
+
+    def until_totals_change(action) -> float:
+        before = page.locator(".eaveline-totals").inner_text()
+        start = time.perf_counter()
+        action()
+        page.wait_for_function(
+            "b => document.querySelector('.eaveline-totals').innerText !== b", arg=before,
+            polling="raf", timeout=30_000)
+        seconds = time.perf_counter() - start
+        page.wait_for_function(
+            "() => document.querySelector('.eaveline-status').innerText.startsWith('Ready')"
+            " || document.querySelector('.eaveline-status').innerText.startsWith('Undone')"
+            " || document.querySelector('.eaveline-status').innerText.startsWith('Redone')"
+            " || document.querySelector('.eaveline-status').innerText.startsWith('Edited')",
+            polling="raf", timeout=30_000)
+        return seconds
+
+    edit, undo, redo = [], [], []
+    for i in range(repeats + 1):
+        field.fill(f"{30 + i % 2}")
+        times = (until_totals_change(lambda: page.locator(".eaveline-apply-face").click()),
+                 until_totals_change(lambda: page.locator("button.eaveline-undo").click()),
+                 until_totals_change(lambda: page.locator("button.eaveline-redo").click()))
+        if i:
+            edit.append(times[0])
+            undo.append(times[1])
+            redo.append(times[2])
+    return {"edit": statistics.median(edit), "undo": statistics.median(undo),
+            "redo": statistics.median(redo)}
+
+
 #: Page script: record the time of every change of the totals on screen, a frame apart at
 #: least (one preview writes its figures in one frame).
 WATCH_TOTALS = """() => {
@@ -229,6 +294,7 @@ def browser_side(drags: int) -> dict:
             rates.clear()
             # over about 1.2 s, with previews; the spots keep alternating
             slow_ms, previewed = timed_drags(60, 0.02, drags + 1)
+            roof = browser_roof_edits(page, drags)
 
             # ---- the toy: no computation
             page.goto(f"{base}/voila/render/toy.ipynb", wait_until="domcontentloaded")
@@ -264,7 +330,7 @@ def browser_side(drags: int) -> dict:
             "slow": statistics.median(slow_ms), "previewed": previewed,
             "preview_rate": statistics.median(r for r, _ in rates),
             "preview_steady": statistics.median(r for _, r in rates),
-            "planner_all": planner_ms, "toy_all": toy_ms, "slow_all": slow_ms}
+            "planner_all": planner_ms, "toy_all": toy_ms, "slow_all": slow_ms, "roof": roof}
 
 
 def main(argv=None) -> int:
@@ -284,6 +350,10 @@ def main(argv=None) -> int:
           f"{py['total'] * 1000:.0f} ms (target 100 ms); analysis.update "
           f"{py['analysis'] * 1000:.0f} ms [{stages} ms], widgets "
           f"{(py['total'] - py['analysis']) * 1000:.0f} ms")
+    roof = roof_edit_side(max(args.drags, 3))
+    print(f"Python side of a face's pitch edit on the demo (median of {max(args.drags, 3)}): "
+          f"{roof['edit'] * 1000:.0f} ms; undo {roof['undo'] * 1000:.0f} ms, redo "
+          f"{roof['redo'] * 1000:.0f} ms")
     if args.python_only:
         return 0
     web = browser_side(args.drags)
@@ -297,6 +367,11 @@ def main(argv=None) -> int:
           f"per second between the first and the last (target >= 20)")
     print(f"Browser, no-computation widget round trip (median of {args.drags}): "
           f"{web['toy'] * 1000:.0f} ms")
+    roof_web = web["roof"]
+    print(f"Browser, a face's pitch applied to new totals on the page (median of {args.drags}):"
+          f" {roof_web['edit'] * 1000:.0f} ms (target 250 ms); undo "
+          f"{roof_web['undo'] * 1000:.0f} ms, redo {roof_web['redo'] * 1000:.0f} ms "
+          "(target 150 ms)")
     print(f"Load average while measuring: {os.getloadavg()[0]:.1f} (2 cores)")
     print(f"Ratio planner / round trip: {web['planner'] / web['toy']:.1f}; "
           f"planner minus round trip {1000 * (web['planner'] - web['toy']):.0f} ms "
