@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from dataclasses import replace
 
-from .elevation import PROVENANCE, ElevationScene
+from .elevation import PROVENANCE, ElevationScene, cross_check
 from .errors import InputError
 from .fill.rules import ifc_2021_residential
 from .project import Project
@@ -21,6 +21,7 @@ __all__ = [
     "elevation_source",
     "project_from_scene",
     "scene_items",
+    "survey_against_elevation",
     "with_obstructions",
 ]
 
@@ -169,3 +170,19 @@ def with_obstructions(project: Project, obstructions) -> Project:
     sources = tuple({**s, "items": [n for n in s["items"] if n not in changed]}
                     for s in project.sources)
     return project.with_changes(obstructions=obstructions, sources=sources)
+
+
+def survey_against_elevation(project: Project) -> list:
+    """Return each survey entry against the project's items from elevation data.
+
+    Returns
+    -------
+    list of layout.elevation.SurveyCheck
+        One per survey entry (:func:`layout.elevation.cross_check`), or an empty list when the
+        project has no survey or no obstruction from elevation data.
+    """
+    detected = [o for o in project.obstructions
+                if project.source_of(getattr(o, "name", "")) == PROVENANCE]
+    if not project.survey or not detected:
+        return []
+    return cross_check(project.survey, detected)

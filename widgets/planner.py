@@ -73,12 +73,11 @@ from pathlib import Path
 import ipywidgets as w
 
 from layout.edits import move_building
-from layout.elevation import PROVENANCE, cross_check
 from layout.errors import InputError
 from layout.history import ProjectHistory
 from layout.power.stringing import check_strings
 from layout.project import ProjectFileError
-from layout.project_imports import with_obstructions
+from layout.project_imports import survey_against_elevation, with_obstructions
 from layout.report import ReportOptions, write_report
 from layout.sky.sun import TYPICAL_YEAR
 from layout.study.analysis import Analysis
@@ -151,15 +150,6 @@ def _origins(project) -> dict[str, str]:
     """Return obstruction name → where it came from, for the imported ones."""
     return {o.name: project.source_of(o.name) for o in project.obstructions
             if project.source_of(o.name)}
-
-
-def _survey_against_elevation(project) -> list:
-    """Return the survey against the project's items from elevation data (empty: none)."""
-    detected = [o for o in project.obstructions
-                if project.source_of(getattr(o, "name", "")) == PROVENANCE]
-    if not project.survey or not detected:
-        return []
-    return cross_check(project.survey, detected)
 
 
 class Planner(w.VBox):
@@ -417,7 +407,7 @@ class Planner(w.VBox):
         self.objects.show(project.obstructions, units=project.units,
                           new_position=self._roof_middle(), origins=_origins(project))
         self.survey.show(project.survey, units=project.units)
-        self.survey.show_crosscheck(_survey_against_elevation(project))
+        self.survey.show_crosscheck(survey_against_elevation(project))
         self._show_band()
         self.module_panel.show(project)
         self.roof_panel.show(project)

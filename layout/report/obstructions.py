@@ -9,6 +9,7 @@ taken as exact: a band cannot cover what it was not told could vary.
 
 from __future__ import annotations
 
+from ..project_imports import survey_against_elevation
 from ..scene.survey import height_range
 from ..units import FOOT_M
 from .blocks import DASH, Paragraph, Section, Table, number
@@ -92,6 +93,32 @@ def _readings_table(label: str, entry, units: str) -> tuple[Table, list[str]]:
     return table, exact
 
 
+def crosscheck_table(checks, units: str) -> Table:
+    """Return each survey entry against the items found in elevation data (table)."""
+    unit = "ft" if units == "imperial" else "m"
+    rows = []
+    for check in checks:
+        name = check.entry_name or f"entry {check.entry_index + 1}"
+        if check.matched is None:
+            rows.append((name, "nothing matches", DASH, DASH, DASH, DASH, "check on site"))
+            continue
+        rows.append((
+            name, check.matched, _length(check.surveyed_height_m, units),
+            _length(check.detected_height_m, units),
+            f"{_length(check.height_low_m, units)} to {_length(check.height_high_m, units)}",
+            f"{_length(check.position_error_m, units)} (± "
+            f"{_length(check.position_tolerance_m, units)})",
+            "differs: check on site" if check.flagged else "agrees"))
+    return Table(("surveyed", "in the data", f"height surveyed [{unit}]",
+                  f"height in the data [{unit}]", f"surveyed range [{unit}]",
+                  f"positions apart [{unit}]",
+                  "verdict"), tuple(rows),
+                 caption="The survey against the elevation data: a height outside the "
+                         "surveyed range or a position farther apart than its tolerance "
+                         "is flagged (elevation data can be years old)",
+                 align="llrrrrl", key="crosscheck")
+
+
 def range_table(loss_range, basis: str) -> Table:
     """Return the layout's shade loss and energy over the survey's tolerances (table)."""
     totals = loss_range.totals
@@ -160,6 +187,9 @@ def obstructions_section(evaluation, *, loss_range=None, range_asked: bool = Fal
                 blocks.append(Paragraph(f"{label}: no tolerance was given for "
                                         f"{', '.join(exact)}; taken as exact, so the shade "
                                         f"loss band does not cover it.", style="note"))
+    checks = survey_against_elevation(project)
+    if checks:
+        blocks.append(crosscheck_table(checks, units))
     if loss_range is not None:
         blocks.append(range_table(loss_range, evaluation.totals["energy_basis"]))
         blocks.extend(Paragraph(note, style="note") for note in loss_range.notes)

@@ -388,3 +388,23 @@ def test_the_comparison_rows_equal_the_comparisons_table():
                               one(r.specific_yield_kwh_per_kwp, 0, True),
                               one(r.shade_loss_pct), one(r.tsrf_mean_pct),
                               str(int(r.modules_below_tsrf))]
+
+
+def test_the_survey_against_elevation_data_is_reported():
+    from layout.elevation import PROVENANCE
+    from layout.project_imports import survey_against_elevation
+    from layout.scene.obstructions import Tree
+
+    # the oak's readings put it at (3, -10), 9.15 m tall (its height range 8.88 to 9.43 m);
+    # the data found a tree 5 cm farther along the sight line, inside the tape's 0.1 m
+    for height, verdict in ((9.0, "agrees"), (14.0, "differs: check on site")):
+        found = Tree((3.0, -10.05), height, 2.5, 2.0, name="tree 1")
+        project = small_project(survey=(oak(),)).with_changes(
+            obstructions=(found,), sources=({"kind": "elevation data", "note": PROVENANCE,
+                                             "items": ["tree 1"]},))
+        (check,) = survey_against_elevation(project)
+        tables = html_tables(render_html(build_report(Analysis(project).result)))
+        (row,) = tables["crosscheck"][1:]
+        assert row[:2] == ["oak", "tree 1"]
+        assert row[2] == one(check.surveyed_height_m) and row[3] == one(height)
+        assert row[-1] == verdict
