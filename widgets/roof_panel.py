@@ -398,7 +398,7 @@ class RoofPanel(Quiet, w.VBox):
 
     def _free_name(self) -> str:
         names = {b.name for b in self.project.buildings}
-        if "" not in names and not self.project.buildings:
+        if not names:
             return "house"
         k = 2
         while f"building {k}" in names:
