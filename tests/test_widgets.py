@@ -552,7 +552,7 @@ def test_plan_redraw_is_quick(planner):
 
 
 def test_hatching_stays_inside_the_zone():
-    from widgets.plan_view import _hatch
+    from widgets.plan_scene import hatch_lines as _hatch
 
     zone = shapely.box(0, 0, 2, 1).difference(shapely.box(0.5, 0.25, 1.0, 0.75))
     for segment in _hatch(zone, 0.1):

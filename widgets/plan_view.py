@@ -17,29 +17,40 @@ Survey tab, where its readings are edited.
 from __future__ import annotations
 
 import contextlib
-import math
 from collections.abc import Callable
-from dataclasses import dataclass
 
 import bqplot as bq
 import ipywidgets as w
 import numpy as np
 import shapely
-from shapely.ops import polylabel
 
-from layout.report.plan import zone_category
-from layout.units import FOOT_M, format_length
+from layout.units import format_length
 
 from . import style
 from .plan_key import PlanKey
+from .plan_scene import (
+    PlanScene,
+    edge_label_rotation,
+    exteriors,
+    footprint_rings,
+    free_spot,
+    hatch_lines,
+    obstruction_anchor,
+    obstruction_label,
+    padded_rings,
+    plan_scene,
+    polygon_rings,
+    unit_factor,
+)
 from .quiet import Quiet
 
 __all__ = [
-    "PlanScene",
+    "PlanScene",  # the scene's plain data lives in widgets.plan_scene; passed on from here
     "PlanView",
     "obstruction_anchor",
     "obstruction_label",
     "plan_scene",
+    "polygon_rings",
     "unit_factor",
 ]
 
@@ -51,211 +62,6 @@ FIGURE_MARGIN_PX = {"top": 16, "bottom": 48, "left": 64, "right": 88}
 BORDER_M = 1.0
 
 
-def unit_factor(units: str) -> float:
-    """Return display units per metre: 1 for ``"metric"``, 1 / 0.3048 for ``"imperial"``."""
-    return 1.0 / FOOT_M if units == "imperial" else 1.0
-
-
-def obstruction_anchor(obstruction) -> tuple[float, float]:
-    """Plan point [m] where an obstruction's drag marker sits.
-
-    The centre of a cylinder or a tree, the centroid of any other footprint.
-    """
-    centre = getattr(obstruction, "center", None)
-    if centre is not None:
-        return float(centre[0]), float(centre[1])
-    point = obstruction.footprint_polygon.centroid
-    return float(point.x), float(point.y)
-
-
-def obstruction_label(obstruction, index: int) -> str:
-    """Short label of an obstruction: its name, or its kind and number."""
-    name = getattr(obstruction, "name", "")
-    if name:
-        return name
-    kind = getattr(obstruction, "kind", type(obstruction).__name__.lower())
-    return f"{kind} {index}"
-
-
-def _is_drawn(obstruction) -> bool:
-    """Obstructions with a plan footprint that can be moved (not a far horizon)."""
-    return hasattr(obstruction, "footprint_polygon") and hasattr(obstruction, "translated")
-
-
-@dataclass(frozen=True)
-class PlanScene:
-    """What the plan shows, as plain data in the site frame [m].
-
-    Attributes
-    ----------
-    faces : tuple of (str, numpy.ndarray)
-        Face name and plan outline (n, 2) [m].
-    edges : tuple of (str, int, str, numpy.ndarray)
-        Face name, edge index, edge kind and the two end points (2, 2) [m].
-    zones : tuple of (str, str, str, shapely geometry)
-        Face name, zone key (as :attr:`layout.fill.usable.UsableArea.zones`), zone category
-        (setback, pathway, clearance, obstruction) and the zone in plan [m].
-    usable : tuple of (str, shapely geometry)
-        Face name and usable area in plan [m].
-    modules : tuple of (str, numpy.ndarray, bool)
-        Module id, plan corners (4, 2) [m] and whether it is active (not removed).
-    obstructions : tuple of (int, str, bool, shapely geometry, (float, float))
-        Index in the project, label, whether it is a tree, plan footprint [m] and marker
-        anchor [m].
-    surveyed : tuple of (int, str, bool, shapely geometry, (float, float), (float, float))
-        Index in ``project.survey``, label, whether it is a tree, plan footprint [m], the
-        sighted axis [m] and the station the readings were taken from [m].
-    """
-
-    faces: tuple
-    edges: tuple
-    zones: tuple
-    usable: tuple
-    modules: tuple
-    obstructions: tuple
-    surveyed: tuple = ()
-
-    def bounds(self) -> tuple[float, float, float, float]:
-        """``(xmin, ymin, xmax, ymax)`` of everything drawn [m]."""
-        geoms = [shapely.Polygon(ring) for _, ring in self.faces]
-        geoms += [footprint for _, _, _, footprint, _ in self.obstructions]
-        geoms += [footprint for _, _, _, footprint, _, _ in self.surveyed]
-        if not geoms:  # a new project: 20 m around the site's origin
-            return (-10.0, -10.0, 10.0, 10.0)
-        return tuple(float(b) for b in shapely.total_bounds(geoms))
-
-
-def plan_scene(project, layout, areas: dict) -> PlanScene:
-    """Collect the plan drawing of a project from the core's results.
-
-    Parameters
-    ----------
-    project : layout.project.Project
-        The project drawn.
-    layout : layout.fill.placed.Layout
-        Its modules and removals, as the core filled them.
-    areas : dict of str to layout.fill.usable.UsableArea
-        Usable area of each array face, in roof-plane coordinates (mapped to plan here with
-        :meth:`layout.scene.roof.RoofFace.roof_to_plan`).
-
-    Returns
-    -------
-    PlanScene
-    """
-    faces, edges, zones, usable = [], [], [], []
-    by_name = {}
-    for face in project.faces:
-        by_name[face.name] = face
-        faces.append((face.name, np.asarray(face.outline, dtype=float)))
-        for edge in face.edges:
-            edges.append((face.name, edge.index, edge.kind,
-                          np.array([edge.start, edge.end], dtype=float)))
-    for name, area in areas.items():
-        face = by_name[name]
-        usable.append((name, shapely.transform(area.polygon, face.roof_to_plan)))
-        for key, zone in area.zones.items():
-            zones.append((name, key, zone_category(key),
-                          shapely.transform(zone, face.roof_to_plan)))
-    removed = {m.id for m in layout.removed_modules}
-    modules = tuple((m.id, np.asarray(m.corners_3d, dtype=float)[:, :2], m.id not in removed)
-                    for m in layout.modules)
-    obstructions = tuple(
-        (i, obstruction_label(o, i), type(o).__name__ == "Tree", o.footprint_polygon,
-         obstruction_anchor(o))
-        for i, o in enumerate(project.obstructions) if _is_drawn(o))
-    built = project.scene_obstructions[len(project.obstructions):]
-    surveyed = tuple(
-        (i, obstruction_label(o, i) if o.name else f"{entry.kind} {i + 1} (surveyed)",
-         type(o).__name__ == "Tree", o.footprint_polygon, obstruction_anchor(o),
-         (float(entry.station_x_m), float(entry.station_y_m)))
-        for i, (entry, o) in enumerate(zip(project.survey, built, strict=True)))
-    return PlanScene(faces=tuple(faces), edges=tuple(edges), zones=tuple(zones),
-                     usable=tuple(usable), modules=modules, obstructions=obstructions,
-                     surveyed=surveyed)
-
-
-def _footprint_rings(scene: PlanScene) -> tuple[list, list]:
-    """Rings of the solid obstructions and of the tree crowns, surveyed ones included [m]."""
-    every = [(tree, fp) for _, _, tree, fp, _ in scene.obstructions]
-    every += [(tree, fp) for _, _, tree, fp, _, _ in scene.surveyed]
-    solids = [r for tree, fp in every if not tree for r in polygon_rings(fp)]
-    crowns = [r for tree, fp in every if tree for r in polygon_rings(fp)]
-    return solids, crowns
-
-
-# --------------------------------------------------------------------------- drawing helpers
-def polygon_rings(geometry) -> list[np.ndarray]:
-    """Every ring (exteriors and holes) of a polygonal geometry, as (n, 2) arrays."""
-    return [np.asarray(ring.coords) for ring in shapely.get_rings(shapely.get_parts(geometry))]
-
-
-def _exteriors(geometry) -> list[np.ndarray]:
-    return [np.asarray(p.exterior.coords) for p in shapely.get_parts(geometry)
-            if isinstance(p, shapely.Polygon) and not p.is_empty]
-
-
-def _padded(rings: list[np.ndarray], k: float) -> tuple[list, list]:
-    """Rings as equal-length x and y lists for one bqplot ``Lines`` mark (display units).
-
-    Shorter rings are padded by repeating their last point, which draws nothing extra.
-    """
-    if not rings:
-        return [], []
-    n = max(len(r) for r in rings)
-    xs, ys = [], []
-    for ring in rings:
-        pad = np.vstack([ring, np.repeat(ring[-1:], n - len(ring), axis=0)])
-        xs.append((pad[:, 0] * k).tolist())
-        ys.append((pad[:, 1] * k).tolist())
-    return xs, ys
-
-
-def free_spot(region, scene: PlanScene | None) -> np.ndarray:
-    """Return a point of ``region`` [m] clear of the modules, where a click target can sit.
-
-    The pole of inaccessibility of the region less the modules (grown by 0.2 m), so a face's
-    or a building's handle does not cover a module's click; the centroid when modules cover
-    it all.
-    """
-    modules = [shapely.Polygon(corners) for _, corners, _ in (scene.modules if scene else ())]
-    free = region
-    if modules:
-        free = shapely.difference(region, shapely.buffer(shapely.union_all(modules), 0.2))
-    if free.is_empty or free.area < 0.05:
-        return np.asarray(region.centroid.coords[0])
-    parts = sorted(shapely.get_parts(free), key=lambda g: g.area, reverse=True)
-    return np.asarray(polylabel(parts[0], tolerance=0.05).coords[0])
-
-
-def _hatch(geometry, spacing: float) -> list[np.ndarray]:
-    """45° hatch segments clipped to a plan geometry [m]."""
-    if geometry.is_empty:
-        return []
-    x0, y0, x1, y1 = geometry.bounds
-    offsets = np.arange(math.floor((x0 - y1) / spacing), math.ceil((x1 - y0) / spacing) + 1)
-    c = offsets * spacing  # lines x - y = c
-    starts = np.stack([c + y0 - 1, np.full_like(c, y0 - 1)], axis=1)
-    ends = np.stack([c + y1 + 1, np.full_like(c, y1 + 1)], axis=1)
-    lines = shapely.linestrings(np.stack([starts, ends], axis=1))
-    clipped = shapely.intersection(lines, geometry)
-    out = []
-    for part in shapely.get_parts(clipped):
-        if isinstance(part, shapely.LineString) and not part.is_empty:
-            out.append(np.asarray(part.coords)[[0, -1]])
-    return out
-
-
-def _edge_label_rotation(start: np.ndarray, end: np.ndarray) -> float:
-    """Screen rotation [degrees] that lays a label along an edge, kept upright."""
-    angle = -math.degrees(math.atan2(end[1] - start[1], end[0] - start[0]))
-    if angle > 90:
-        angle -= 180
-    elif angle < -90:
-        angle += 180
-    return angle
-
-
-# --------------------------------------------------------------------------- the widget
 class PlanView(Quiet, w.VBox):
     """The plan figure with drag markers on obstructions and click targets on modules.
 
@@ -578,7 +384,7 @@ class PlanView(Quiet, w.VBox):
     def show_preview(self, building=None) -> None:
         """Draw a building's face outlines dashed (a template being typed), or clear them."""
         rings = [] if building is None else [np.asarray(face.outline) for face in building.faces]
-        xs, ys = _padded(rings, self._k)
+        xs, ys = padded_rings(rings, self._k)
         with self.preview_marks.hold_sync():
             self.preview_marks.x, self.preview_marks.y = xs, ys
 
@@ -735,12 +541,12 @@ class PlanView(Quiet, w.VBox):
         for _, _, category, zone in scene.zones:
             if category == "obstruction":
                 continue  # the obstruction itself is drawn from its footprint
-            zone_rings.extend(_exteriors(zone))
-            hatch.extend(_hatch(zone, spacing))
+            zone_rings.extend(exteriors(zone))
+            hatch.extend(hatch_lines(zone, spacing))
         usable_rings = [r for _, area in scene.usable for r in polygon_rings(area)]
         active = [ring for _, ring, on in scene.modules if on]
         removed = [ring for _, ring, on in scene.modules if not on]
-        solids, crowns = _footprint_rings(scene)
+        solids, crowns = footprint_rings(scene)
 
         centroids = {name: np.asarray(shapely.Polygon(ring).centroid.coords[0])
                      for name, ring in scene.faces}
@@ -759,7 +565,7 @@ class PlanView(Quiet, w.VBox):
             ex.append(float((mid + inward)[0] * k))
             ey.append(float((mid + inward)[1] * k))
             et.append(kind)
-            er.append(_edge_label_rotation(ends[0], ends[1]))
+            er.append(edge_label_rotation(ends[0], ends[1]))
 
         self._module_ids = [mid for mid, _, _ in scene.modules]
         centres = np.array([ring.mean(axis=0) for _, ring, _ in scene.modules]).reshape(-1, 2)
@@ -785,7 +591,7 @@ class PlanView(Quiet, w.VBox):
                                 (self.removed_marks, removed),
                                 (self.obstruction_marks, solids),
                                 (self.tree_marks, crowns)):
-                mark.x, mark.y = _padded(rings, k)
+                mark.x, mark.y = padded_rings(rings, k)
                 if mark.fill == "inside":  # one fill per curve, as drawn by bqplot
                     mark.fill_colors = [self._fills[mark][0]] * max(len(rings), 1)
                     mark.fill_opacities = [self._fills[mark][1]] * max(len(rings), 1)
@@ -816,7 +622,7 @@ class PlanView(Quiet, w.VBox):
 
     def _draw_obstructions(self, scene: PlanScene, *, markers: bool = True) -> None:
         k = self._k
-        solids, crowns = _footprint_rings(scene)
+        solids, crowns = footprint_rings(scene)
         if markers:
             self._scene = scene
             self._obstruction_index = [i for i, *_ in scene.obstructions]
@@ -830,7 +636,7 @@ class PlanView(Quiet, w.VBox):
             for mark in marks:
                 stack.enter_context(mark.hold_sync())
             for mark, rings in ((self.obstruction_marks, solids), (self.tree_marks, crowns)):
-                mark.x, mark.y = _padded(rings, k)
+                mark.x, mark.y = padded_rings(rings, k)
                 mark.fill_colors = [self._fills[mark][0]] * max(len(rings), 1)
                 mark.fill_opacities = [self._fills[mark][1]] * max(len(rings), 1)
             if markers:
@@ -903,7 +709,7 @@ class PlanView(Quiet, w.VBox):
         rings = [] if outline is None else polygon_rings(outline)
         n = max(len(rings), 1)
         with self.shadow_marks.hold_sync():
-            self.shadow_marks.x, self.shadow_marks.y = _padded(rings, self._k)
+            self.shadow_marks.x, self.shadow_marks.y = padded_rings(rings, self._k)
             self.shadow_marks.fill_colors = [style.SHADOW_FILL] * n
             self.shadow_marks.fill_opacities = [style.SHADOW_OPACITY] * n
 
@@ -913,7 +719,7 @@ class PlanView(Quiet, w.VBox):
         active = [(mid, ring) for mid, ring, on in scene.modules if on]
         active_ids = [mid for mid, _ in active]
         self.module_targets.names = [self.module_notes.get(mid, mid) for mid in self._module_ids]
-        self.flag_marks.x, self.flag_marks.y = _padded(
+        self.flag_marks.x, self.flag_marks.y = padded_rings(
             [ring for mid, ring in active if mid in self.flagged], k)
         centre = self._centres.get(self.selected_id) if self.selected_id else None
         if centre is None:

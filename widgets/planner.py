@@ -67,7 +67,6 @@ from __future__ import annotations
 
 import html
 import time
-from dataclasses import replace
 from pathlib import Path
 
 import ipywidgets as w
@@ -75,15 +74,11 @@ import ipywidgets as w
 from layout.edits import move_building
 from layout.errors import InputError
 from layout.history import ProjectHistory
-from layout.power.stringing import check_strings
 from layout.project import ProjectFileError
 from layout.project_imports import survey_against_elevation, with_obstructions
-from layout.report import ReportOptions, write_report
 from layout.sky.sun import TYPICAL_YEAR
 from layout.study.analysis import Analysis
 from layout.study.compare import compare_layouts
-from layout.study.outlook import shade_loss_range
-from layout.study.string_options import compare_stringing, with_plan
 from layout.units import INCH_M
 
 from .charts import reveal_figures
@@ -93,10 +88,12 @@ from .file_panel import FilePanel
 from .forms import ObstructionForm, length_text
 from .history_bar import HistoryBar
 from .hours_panel import HoursPanel
-from .loss_band import LossRangePanel, module_bands, range_key
+from .loss_band import LossRangePanel
 from .module_panel import ModulePanel
 from .page_style import page_style
 from .plan_view import PlanView, obstruction_anchor, obstruction_label, plan_scene
+from .planner_outputs import LossRangeAndReport
+from .planner_strings import StringsWiring
 from .roof_panel import RoofPanel
 from .sky_panel import SkyPanel
 from .status_line import StatusLine
@@ -152,7 +149,7 @@ def _origins(project) -> dict[str, str]:
             if project.source_of(o.name)}
 
 
-class Planner(w.VBox):
+class Planner(StringsWiring, LossRangeAndReport, w.VBox):
     """The composite planner widget: plan, side panel, figures, timeline and cautions.
 
     Parameters
@@ -685,109 +682,6 @@ class Planner(w.VBox):
         """
         return self.module_panel.refill()
 
-    # ----------------------------------------------------------------- loss range
-    def _range_current(self) -> bool:
-        return self.loss_range is not None and self._range_key == range_key(self.project)
-
-    def _module_bands(self) -> dict:
-        """Shade loss range [%] (low, high) per module id, when the loss range is current."""
-        if self._previewing or not self._range_current():
-            return {}
-        return module_bands(self.loss_range)
-
-    def _show_band(self) -> None:
-        self.loss_panel.show(self.loss_range, current=self._range_current(),
-                             surveyed=bool(self.project.survey))
-
-    def run_loss_range(self, *, samples: int | None = None, seed: int | None = ...):
-        """Carry the survey tolerances to the shade loss and show the band.
-
-        Runs :func:`layout.study.outlook.shade_loss_range` on the planner's analysis (it is left
-        holding the project shown), with the progress line counting the draws.
-
-        Parameters
-        ----------
-        samples : int, keyword-only, optional
-            Draws of the readings, at least 2; default the "Draws" box.
-        seed : int or None, keyword-only, optional
-            Seed of the generator; default the "Seed" box.
-
-        Returns
-        -------
-        layout.study.outlook.ShadeLossRange or None
-            None when the project has no survey or the core refused.
-        """
-        p = self.project
-        if not p.survey:
-            self._show_band()
-            self._status("A loss range needs surveyed obstructions (Survey tab).")
-            return None
-        samples = self.loss_panel.range_samples.value if samples is None else samples
-        seed = self.loss_panel.range_seed.value if seed is ... else seed
-
-        def progress(done: int, total: int) -> None:
-            self.status_line.show_progress(done, total)
-            what = f"draw {done + 1} of {total - 1}" if done < total - 1 else "the nominal readings"
-            self._status(f"Loss range: {what}…", busy=True)
-
-        start = time.perf_counter()
-        try:
-            band = shade_loss_range(p, samples=samples, seed=seed, analysis=self.analysis,
-                                    progress=progress)
-        except (InputError, ProjectFileError, OSError, ValueError) as err:
-            self.analysis.update(p)  # back to the project shown
-            self._progress_done()
-            self._status(f"No loss range: {err}", error=True)
-            return None
-        self._progress_done()
-        self.loss_range, self._range_key = band, range_key(p)
-        self._show_band()
-        self._set_module_figures()
-        self._show_selected()
-        self._status(f"Loss range over {band.samples} draws (seed {band.seed}) in "
-                     f"{time.perf_counter() - start:.1f} s.")
-        return band
-
-    def write_report(self, path=None, *, options: ReportOptions | None = None) -> Path:
-        """Write the shade report of the project shown (:func:`layout.report.write_report`).
-
-        The report reuses the planner's analysis and, when it is current, its loss range;
-        the status line shows the progress.
-
-        Parameters
-        ----------
-        path : str or pathlib.Path, optional
-            ``.pdf`` or ``.html``; default the File tab's report path.
-        options : layout.report.ReportOptions, keyword-only, optional
-
-        Returns
-        -------
-        pathlib.Path
-            The file written.
-        """
-        path = self.file_panel.report_path.value if path is None else path
-
-        def progress(label: str, done: int, total: int) -> None:
-            self.status_line.show_progress(done, total)
-            self._status(f"Report: {label}…", busy=True)
-
-        source = Path(self.file_panel.project_path.value).expanduser()
-        self._status("Writing the report…", busy=True)
-        try:
-            written = write_report(self.project, path, options=options, analysis=self.analysis,
-                                   base_dir=self._base_dir,
-                                   source=source if source.is_file() else None,
-                                   loss_range=self.loss_range if self._range_current() else None,
-                                   progress=progress)
-        except Exception as err:
-            self.analysis.update(self.project)  # back to the project shown
-            self._status(f"No report: {err}", error=True)
-            raise
-        finally:
-            self._progress_done()
-        self._status(f"Report written: {written}")
-        return written
-
     def _units_changed(self, change) -> None:
         if self.project is not None and change["new"] != self.project.units:
             shown = "feet and inches" if change["new"] == "imperial" else "metres"
@@ -846,69 +740,6 @@ class Planner(w.VBox):
                 self._run_compare()
             elif self._compare_for is not self.project:  # a second or more: on request only
                 self.compare_panel.show_stale()
-
-    def _run_strings(self) -> None:
-        if self._strings_for is self.project:
-            return
-        self._strings_for = self.project
-        try:
-            comparison = compare_stringing(self.analysis.result)
-        except InputError as err:
-            self.strings_panel.show(self.project, problem=str(err))
-        else:
-            self.strings_panel.show(self.project, comparison)
-        self._draw_strings()
-
-    def _draw_strings(self) -> None:
-        centres = {m.id: tuple(m.centre_3d[:2]) for m in self.analysis.result.modules}
-        self.strings_panel.own_strings = tuple(self.project.energy.electrical.strings or ())
-        self.string_lines.show(self.strings_panel.plan_strings(), centres,
-                               units=self.project.units, draft=self.strings_panel.draft)
-
-    def _use_stringing(self, method: str) -> None:
-        comparison = self.strings_panel.comparison
-        if comparison is None or method not in comparison.plans:
-            self.strings_panel.say("No such option to use yet.", error=True)
-            return
-        try:
-            project = with_plan(self.project, comparison.plans[method])
-        except InputError as err:
-            self.strings_panel.say(str(err), error=True)
-            return
-        label = comparison.table.loc[method, "label"]
-        if self.set_project(project, message=f"Strings {label} kept as the project's."):
-            self.strings_panel.show_on_plan.value = "project"
-            self.strings_panel.say(f"The strings {label} are now the project's.")
-
-    def _design_typed(self, values: dict) -> None:
-        try:
-            design = replace(self.project.strings, **values)
-        except InputError as err:
-            self.strings_panel.say(str(err), error=True)
-            return
-        if self.set_project(self.project.with_changes(strings=design),
-                            message="String design temperatures and limits changed."):
-            self.strings_panel.say("Sized again with the values typed.")
-
-    def _strings_drawn(self, strings) -> None:
-        comparison = self.strings_panel.comparison
-        if strings is not None and comparison is not None:
-            try:  # the sizing's limits, before the project changes
-                check_strings(strings, self.analysis.result.modules, comparison.sizing)
-            except InputError as err:
-                self.strings_panel.say(str(err), error=True)
-                return
-        energy = self.project.energy
-        electrical = replace(energy.electrical, strings=strings)
-        project = self.project.with_changes(
-            energy=replace(energy, electrical=electrical),
-            strings=replace(self.project.strings, inputs=None))
-        words = "Strings cleared." if strings is None else f"String S{len(strings)} added."
-        if self.set_project(project, message=words):
-            self.strings_panel.drawn_accepted()
-            self.strings_panel.say(words)
-        else:
-            self.strings_panel.say("Not changed: the status line says why.", error=True)
 
     def _run_compare(self, *, force: bool = False) -> None:
         if self._compare_for is self.project and not force:

@@ -14,7 +14,7 @@ import bqplot as bq
 import numpy as np
 
 from . import style
-from .plan_view import _padded, unit_factor
+from .plan_scene import padded_rings, unit_factor
 
 __all__ = ["LINE_STYLES", "STRING_COLOURS", "StringLines", "string_style"]
 
@@ -86,11 +86,11 @@ class StringLines:
                 which = [i for i in range(len(paths)) if i % len(LINE_STYLES) == j
                          and len(paths[i])]
                 with mark.hold_sync():
-                    mark.x, mark.y = _padded([paths[i] for i in which], k)
+                    mark.x, mark.y = padded_rings([paths[i] for i in which], k)
                     mark.colors = [string_style(i)[1] for i in which] or [STRING_COLOURS[0]]
             starts = [(i, p[0]) for i, p in enumerate(paths) if len(p)]
             draft_path = _path(draft, centres)
-            self.draft_mark.x, self.draft_mark.y = _padded(
+            self.draft_mark.x, self.draft_mark.y = padded_rings(
                 [draft_path] if len(draft_path) else [], k)
             labels = [f"S{i + 1}" for i, _ in starts] + (["new"] if len(draft_path) else [])
             points = [p for _, p in starts] + ([draft_path[0]] if len(draft_path) else [])
