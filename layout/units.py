@@ -80,8 +80,8 @@ def _number(text: str) -> float:
     numerator, denominator = fraction.split("/")
     if float(denominator) == 0:
         raise ValueError("a fraction over zero")
-    whole = float(head.strip(" -\t") or 0) if head.strip(" -\t") not in ("", "+") else 0.0
-    return whole + float(numerator) / float(denominator)
+    head = head.strip(" -\t+")
+    return (float(head) if head else 0.0) + float(numerator) / float(denominator)
 
 
 def parse_length(text, *, default_unit: str = "m", field: str = "length") -> float:

@@ -15,7 +15,7 @@ import re
 from pathlib import Path
 
 import pytest
-from test_browser import CHROMIUM_ARGS, require_browser_tools
+from test_browser import CHROMIUM_ARGS, open_planner, require_browser_tools
 
 from layout.scene.templates import template_from_text
 from widgets.__main__ import planner_notebook, require_notebook, voila_command, voila_environment
@@ -39,6 +39,24 @@ def new_project_url(tmp_path_factory, local_server):
         yield url
 
 
+def _start_project(browser, url, latitude: str, longitude: str, zone: str, *,
+                   units: str | None = None):
+    """Open the planner on --new, type the site, check the zone found, start; return page."""
+    from playwright.sync_api import expect
+
+    page, _ = open_planner(browser, url)
+    start = page.locator("button.eaveline-new-project")
+    start.wait_for(timeout=60_000)
+    page.locator(".eaveline-new-latitude input").fill(latitude)
+    page.locator(".eaveline-new-longitude input").fill(longitude)
+    expect(page.locator(".eaveline-new-timezone input")).to_have_value(zone, timeout=15_000)
+    if units:
+        page.locator(".eaveline-new-units select").select_option(label=units)
+    start.click()
+    expect(page.locator(".eaveline-count")).to_contain_text(NONE, timeout=20_000)
+    return page
+
+
 def _count(page) -> int:
     return int(re.search(r"(\d+)\s+modules", page.locator(".eaveline-count").inner_text())[1])
 
@@ -54,21 +72,8 @@ def test_a_hip_roof_from_the_template_a_tree_and_undo(new_project_url, tmp_path)
     with sync_playwright() as p:
         browser = p.chromium.launch(executable_path=chromium, args=CHROMIUM_ARGS)
         try:
-            page = browser.new_page(viewport={"width": 1400, "height": 1100})
-            page.route("**/*", lambda route: route.continue_()
-                       if route.request.url.startswith(new_project_url) else route.abort())
-            page.goto(new_project_url, wait_until="domcontentloaded")
-            start = page.locator("button.eaveline-new-project")
-            start.wait_for(timeout=60_000)
-
-            page.locator(".eaveline-new-name input").fill("Hill residence")
-            page.locator(".eaveline-new-latitude input").fill("39° 44' 21\" N")
-            page.locator(".eaveline-new-longitude input").fill("104° 59' 24\" W")
-            expect(page.locator(".eaveline-new-timezone input")).to_have_value(
-                "America/Denver", timeout=15_000)
-            page.locator(".eaveline-new-units select").select_option(label="feet and inches")
-            start.click()
-            expect(page.locator(".eaveline-count")).to_contain_text(NONE, timeout=20_000)
+            page = _start_project(browser, new_project_url, "39° 44' 21\" N", "104° 59' 24\" W",
+                                  "America/Denver", units="feet and inches")
 
             for key, text in HIP.items():
                 page.locator(f".eaveline-template-{key} input").fill(text)
@@ -149,18 +154,8 @@ def test_a_five_corner_outline_drawn_by_clicking(new_project_url, tmp_path):
     with sync_playwright() as p:
         browser = p.chromium.launch(executable_path=chromium, args=CHROMIUM_ARGS)
         try:
-            page = browser.new_page(viewport={"width": 1400, "height": 1100})
-            page.route("**/*", lambda route: route.continue_()
-                       if route.request.url.startswith(new_project_url) else route.abort())
-            page.goto(new_project_url, wait_until="domcontentloaded")
-            start = page.locator("button.eaveline-new-project")
-            start.wait_for(timeout=60_000)
-            page.locator(".eaveline-new-latitude input").fill("45.5")
-            page.locator(".eaveline-new-longitude input").fill("-122.6")
-            expect(page.locator(".eaveline-new-timezone input")).to_have_value(
-                "America/Los_Angeles", timeout=15_000)
-            start.click()
-            expect(page.locator(".eaveline-count")).to_contain_text(NONE, timeout=20_000)
+            page = _start_project(browser, new_project_url, "45.5", "-122.6",
+                                  "America/Los_Angeles")
 
             page.get_by_text("Draw an outline", exact=True).click()
             page.locator(".eaveline-draw-toggle").click()

@@ -590,16 +590,8 @@ class RoofPanel(Quiet, w.VBox):
         if not self.closed:
             self.draw_message.value = _NOTE.format("Close the outline first.")
             return False
-        values = {}
-        for row, read in ((self.draw_pitch, lambda t: parse_pitch(t, field="pitch_deg")),
-                          (self.draw_eave, lambda t: read_length(t, self.units,
-                                                                 field="eave_height_m"))):
-            row.set_error(None)
-            try:
-                values[row.key] = read(row.input.value)
-            except InputError as err:
-                row.set_error(error_text(err))
-        if len(values) < 2:
+        values = self._pitch_and_eave(self.draw_pitch, self.draw_eave)
+        if values is None:
             return False
         into = self.draw_into.input.value
         building_name = self._free_name() if into == _NEW_BUILDING else into
@@ -623,6 +615,19 @@ class RoofPanel(Quiet, w.VBox):
             f"Added {name} ({face.plan_area_m2:.1f} m² in plan) to {building_name}."))
         return True
 
+    def _pitch_and_eave(self, pitch_row, eave_row) -> dict | None:
+        """Read a pitch row and an eave-height row; None (each problem shown) when either is bad."""
+        values = {}
+        for row, read in ((pitch_row, lambda t: parse_pitch(t, field="pitch_deg")),
+                          (eave_row, lambda t: read_length(t, self.units,
+                                                           field="eave_height_m"))):
+            row.set_error(None)
+            try:
+                values[row.key] = read(row.input.value)
+            except InputError as err:
+                row.set_error(error_text(err))
+        return values if len(values) == 2 else None
+
     def _face_count(self, building_name: str) -> int:
         for building in self.project.buildings:
             if building.name == building_name:
@@ -632,21 +637,13 @@ class RoofPanel(Quiet, w.VBox):
     # ----------------------------------------------------------------- footprints
     def import_footprints(self) -> bool:
         """Add a building over each footprint of the GeoJSON file named in the form."""
-        values = {}
-        for row, read in ((self.footprint_pitch, lambda t: parse_pitch(t, field="pitch_deg")),
-                          (self.footprint_eave, lambda t: read_length(t, self.units,
-                                                                      field="eave_height_m"))):
-            row.set_error(None)
-            try:
-                values[row.key] = read(row.input.value)
-            except InputError as err:
-                row.set_error(error_text(err))
+        values = self._pitch_and_eave(self.footprint_pitch, self.footprint_eave)
         self.footprint_path.set_error(None)
         path = self.footprint_path.input.value.strip()
         if not path:
             self.footprint_path.set_error("is empty (allowed: the path of a GeoJSON file)")
             return False
-        if len(values) < 2:
+        if values is None:
             return False
         project = self.project
         notes = []
