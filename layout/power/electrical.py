@@ -282,6 +282,10 @@ def dc_irradiance_only(effective, temp_cell, pdc0: float, *,
                                                 pdc0, gamma_pdc))
 
 
+#: Values per (step, module) temporary when a model works a block of modules at a time.
+_BLOCK_VALUES = 1 << 21
+
+
 def dc_module_level(substring_irradiance, temp_cell, pdc0: float, *,
                     gamma_pdc: float = DEFAULT_GAMMA_PDC) -> np.ndarray:
     """DC power of modules with bypass diodes, each at its own best point.
@@ -315,19 +319,28 @@ def dc_module_level(substring_irradiance, temp_cell, pdc0: float, *,
     # candidate is the largest while that factor is positive, the smallest otherwise.
     if s == 0:
         return np.zeros(g.shape[:2])
-    substrings = np.ascontiguousarray(np.moveaxis(g, 2, 0))  # (S, T, M)
-    highest = np.full(g.shape[:2], -np.inf)
-    lowest = np.full(g.shape[:2], np.inf)
-    for brightness in substrings:
-        rank = np.count_nonzero(substrings >= brightness, axis=0)
-        candidate = rank * (brightness / s)
-        np.maximum(highest, candidate, out=highest)
-        np.minimum(lowest, candidate, out=lowest)
-    factor = pvlib.pvsystem.pvwatts_dc(1000.0, temp, 1.0, gamma_pdc)
-    best = np.where(factor >= 0, highest, lowest)
-    out = np.asarray(pvlib.pvsystem.pvwatts_dc(best, temp, pdc0, gamma_pdc), dtype=float)
-    dark = substrings.max(axis=0).max(axis=1, initial=0.0) <= 0
-    out[dark] = 0.0  # no light at the step: no power
+    if temp.shape != g.shape[:2]:
+        temp = np.broadcast_to(temp, g.shape[:2])
+    out = np.empty(g.shape[:2])
+    dark = np.ones(g.shape[0], dtype=bool)
+    # a block of modules at a time (every step is reduced within its module): the
+    # temporaries stay a few (T, block) arrays on a roof of thousands of modules
+    block = max(1, _BLOCK_VALUES // max(1, g.shape[0]))
+    for lo in range(0, g.shape[1], block):
+        part = slice(lo, lo + block)
+        substrings = np.ascontiguousarray(np.moveaxis(g[:, part], 2, 0))  # (S, T, m)
+        highest = np.full(substrings.shape[1:], -np.inf)
+        lowest = np.full(substrings.shape[1:], np.inf)
+        for brightness in substrings:
+            rank = np.count_nonzero(substrings >= brightness, axis=0)
+            candidate = rank * (brightness / s)
+            np.maximum(highest, candidate, out=highest)
+            np.minimum(lowest, candidate, out=lowest)
+        factor = pvlib.pvsystem.pvwatts_dc(1000.0, temp[:, part], 1.0, gamma_pdc)
+        best = np.where(factor >= 0, highest, lowest)
+        out[:, part] = pvlib.pvsystem.pvwatts_dc(best, temp[:, part], pdc0, gamma_pdc)
+        dark &= substrings.max(axis=0).max(axis=1, initial=0.0) <= 0
+    out[dark] = 0.0  # no light at the step on any module: no power
     return out
 
 

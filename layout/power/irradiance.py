@@ -278,6 +278,10 @@ def orientation_groups(surface_tilt, surface_azimuth) -> tuple[np.ndarray, np.nd
     return orientations, group.reshape(-1)
 
 
+#: Values per (step, module) temporary when modules are worked a block at a time.
+_BLOCK_VALUES = 1 << 21
+
+
 # --------------------------------------------------------------------------- shade inputs
 def _expand_steps(array: np.ndarray, weather: Weather, field: str) -> np.ndarray:
     """Accept values over all steps or over the sun-up steps only (zero at night)."""
@@ -318,23 +322,55 @@ def _row_shade(shade_rows, n_steps: int, n_modules: int, cell_substring, n_subst
     """Reduce shaded fractions held at some steps only to module mean and substring worst.
 
     ``shade_rows`` is ``(steps, by_cell)``: increasing step indices (R,) and cell-major
-    fractions (M, K, R). Returns the dense mean (T, M) and worst (T, M, S) float32.
+    fractions (M, K, R); or ``(steps, mean_rows, worst_rows)``: the same already reduced to
+    the module mean (M, R) and each substring's most shaded cell (M, S, R) (as
+    :class:`layout.shading.ModuleShade` holds them). Returns the dense mean (T, M) and worst
+    (T, M, S) float32.
     """
     try:
-        steps, by_cell = shade_rows
+        steps, *held = shade_rows
     except (TypeError, ValueError):
-        raise InputError("shade_rows", "must be a pair (steps, by_cell)",
-                         allowed="(steps (R,), fractions (M, K, R))") from None
+        held = []
+    if len(held) not in (1, 2):
+        raise InputError("shade_rows", "must be (steps, by_cell) or (steps, mean, worst)",
+                         allowed="(steps (R,), fractions (M, K, R)) or (steps (R,), "
+                                 "means (M, R), worst cells (M, S, R))")
     steps = np.asarray(steps)
-    by_cell = np.asarray(by_cell)
-    if by_cell.ndim != 3 or by_cell.shape[0] != n_modules or steps.ndim != 1 \
-            or by_cell.shape[2] != len(steps):
+    first = np.asarray(held[0])
+    if len(held) == 1 and (first.ndim != 3 or first.shape[0] != n_modules or steps.ndim != 1
+                           or first.shape[2] != len(steps)):
         raise InputError("shade_rows", "must hold fractions (module, cell, step) at its steps",
-                         value=by_cell.shape, allowed=f"({n_modules}, K, {len(steps)})")
+                         value=first.shape, allowed=f"({n_modules}, K, {len(steps)})")
+    if len(held) == 2:
+        worst_rows = np.asarray(held[1])
+        if first.shape != (n_modules, len(steps)) or steps.ndim != 1 \
+                or worst_rows.ndim != 3 or worst_rows.shape[0] != n_modules \
+                or worst_rows.shape[2] != len(steps):
+            raise InputError("shade_rows", "must hold means (module, step) and worst cells "
+                             "(module, substring, step) at its steps",
+                             value=(first.shape, worst_rows.shape),
+                             allowed=f"({n_modules}, {len(steps)}) and "
+                                     f"({n_modules}, S, {len(steps)})")
     if len(steps) and (not np.issubdtype(steps.dtype, np.integer) or steps[0] < 0
                        or steps[-1] >= n_steps or (np.diff(steps) <= 0).any()):
         raise InputError("shade_rows", "needs increasing step numbers",
                          allowed=f"whole numbers from 0 to {n_steps - 1}, increasing")
+    if len(held) == 2:
+        s = worst_rows.shape[1] if n_substrings is None else int(n_substrings)
+        if worst_rows.shape[1] != s:
+            raise InputError("shade_rows", "holds another number of substrings",
+                             value=worst_rows.shape[1], allowed=str(s))
+        mean = np.zeros((n_steps, n_modules))
+        worst = np.zeros((n_steps, n_modules, s), dtype=np.float32)
+        if not len(steps) or not worst_rows.size:
+            return mean, worst
+        if not (np.isfinite(first).all() and first.min() >= 0 and first.max() <= 1
+                and worst_rows.min() >= 0 and worst_rows.max() <= 1):
+            raise InputError("shade_rows", "must hold fractions from 0 to 1", allowed="0 to 1")
+        mean[steps] = first.T
+        worst[steps] = worst_rows.transpose(2, 0, 1)
+        return mean, worst
+    by_cell = first
     labels, s, _ = _substring_labels(cell_substring, n_substrings, by_cell.shape[1])
     mean = np.zeros((n_steps, n_modules))
     worst = np.zeros((n_steps, n_modules, s), dtype=np.float32)
@@ -506,7 +542,10 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
         The same fractions held only at the steps that have shade, instead of
         ``beam_shaded``: ``(steps, by_cell)`` with ``steps`` (R,) increasing indices into
         every step of the weather and ``by_cell`` (M, K, R) the fractions cell-major (as
-        :attr:`layout.shading.ModuleShade.by_cell`); every other step is unshaded.
+        :attr:`layout.shading.ModuleShade.by_cell`); every other step is unshaded. Or
+        ``(steps, mean_rows, worst_rows)``: the module mean (M, R) and each substring's most
+        shaded cell (M, S, R), as :class:`layout.shading.ModuleShade` holds them (then
+        ``cell_substring`` is not needed).
     cell_substring : array_like of int, shape (K,), keyword-only, optional
         Substring of each of the K columns (e.g. ``ModuleSpec.substring_of_cell``); default:
         the columns are substrings.
@@ -584,37 +623,45 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
                 plane_cache[key] = plane
         for name, values in plane.items():
             parts[name][:, o] = values
-    # per module (T, M): gather the module's plane, then shade
-    beam = parts["beam"][:, group]
-    beam_eff = parts["beam_eff"][:, group]
-    sky = parts["sky"][:, group]
-    sky_eff = parts["sky_eff"][:, group]
-    ground = parts["ground"][:, group]
-    ground_eff = parts["ground_eff"][:, group]
-    poa_un = parts["poa_global"][:, group]
-    lit = 1.0 - mean_f
-    poa = beam * lit
-    poa += sky * svf
-    poa += ground
-    eff_un = beam_eff + sky_eff
-    eff_un += ground_eff
-    diffuse_eff = sky_eff * svf
-    diffuse_eff += ground_eff
-    eff = beam_eff * lit
-    eff += diffuse_eff
-    # substrings, in place in the (T, M, S) buffer, which is ours
-    sub = np.subtract(1.0, worst_f, out=worst_f)
-    sub *= beam_eff[:, :, None].astype(np.float32)
-    sub += diffuse_eff[:, :, None].astype(np.float32)
+    # per module (T, M): gather the module's plane, then shade; a block of modules at a time
+    # (every value is the module's own), so the temporaries stay a few (T, block) arrays
     params = pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS["sapm"][mount]
     temp_air = weather.data["temp_air"].to_numpy()[:, None]
     wind = weather.data["wind_speed"].to_numpy()[:, None]
-    temp = pvlib.temperature.sapm_cell(poa, temp_air, wind, **params)
+    poa, eff, temp = (np.empty((n_steps, n_modules)) for _ in range(3))
+    # the unshaded figures step-major per module, as a gather of the planes lays them out
+    poa_un, eff_un = (np.empty((n_steps, n_modules), order="F") for _ in range(2))
+    sub = worst_f  # substrings, in place in the (T, M, S) buffer, which is ours
+    block = max(1, _BLOCK_VALUES // max(1, n_steps))
+    for lo in range(0, n_modules, block):
+        part = slice(lo, lo + block)
+        g = group[part]
+        beam_eff = parts["beam_eff"][:, g]
+        sky_eff = parts["sky_eff"][:, g]
+        ground_eff = parts["ground_eff"][:, g]
+        poa_un[:, part] = parts["poa_global"][:, g]
+        lit = 1.0 - mean_f[:, part]
+        here = parts["beam"][:, g] * lit
+        here += parts["sky"][:, g] * svf[part]
+        here += parts["ground"][:, g]
+        poa[:, part] = here
+        temp[:, part] = pvlib.temperature.sapm_cell(here, temp_air, wind, **params)
+        here = beam_eff + sky_eff
+        here += ground_eff
+        eff_un[:, part] = here
+        diffuse_eff = sky_eff * svf[part]
+        diffuse_eff += ground_eff
+        here = beam_eff * lit
+        here += diffuse_eff
+        eff[:, part] = here
+        sub_part = np.subtract(1.0, sub[:, part], out=sub[:, part])
+        sub_part *= beam_eff[:, :, None].astype(np.float32)
+        sub_part += diffuse_eff[:, :, None].astype(np.float32)
     temp_un = pvlib.temperature.sapm_cell(parts["poa_global"], temp_air, wind,
                                           **params)[:, group]  # once per plane
     settings = {"model": model, "iam_model": iam_model, "mount": mount}
     return ModuleIrradiance(
         times=weather.times, poa_global=poa, poa_global_unshaded=poa_un, effective=eff,
-        effective_unshaded=eff_un, substring_effective=sub, temp_cell=np.asarray(temp),
+        effective_unshaded=eff_un, substring_effective=sub, temp_cell=temp,
         temp_cell_unshaded=np.asarray(temp_un), orientations=orientations, group=group,
         settings=settings)

@@ -26,7 +26,8 @@ class ShadeCache:
     Holds one :class:`ShadeHits` per obstruction, keyed by the obstruction's value (the
     obstruction types are frozen and hashable). :meth:`update` with a new list recomputes only
     the obstructions that are new or changed (a moved, resized, added one) and forgets deleted
-    ones; the combined result is the same as a full recompute.
+    ones; the combined result is the same as a full recompute. Each obstruction's hits are
+    kept in step order, so shade summed block by block of steps needs no sort of its own.
 
     Parameters
     ----------
@@ -81,7 +82,7 @@ class ShadeCache:
             else:
                 new[ob] = _obstruction_hits(self.points, self.sun, ob, self.ray_start,
                                             self.max_pairs, True, self._order, self.facing,
-                                            self._groups)
+                                            self._groups).in_step_order()
                 computed += 1
         self._hits = new
         self._prepared = {ob: self._prepared[ob] for ob in new if ob in self._prepared}
@@ -123,21 +124,26 @@ class ShadeCache:
         out[:, np.bincount(lab, minlength=g) == 0] = np.nan
         return out
 
-    def group_shade_rows(self, labels, *, n_groups: int | None = None):
+    def group_shade_rows(self, labels, *, n_groups: int | None = None, reduce=None):
         """Return the shaded beam fraction per group at only the steps that have shade.
 
         Parameters
         ----------
         labels, n_groups
             As in :meth:`group_shade`.
+        reduce : callable, keyword-only, optional
+            Called as ``reduce(rows, r0, r1, block)`` with the (G, r1 - r0) float32 values at
+            ``rows[r0:r1]``, block by block, instead of holding them all; ``values`` is then
+            None.
 
         Returns
         -------
         rows : numpy.ndarray of int, shape (R,)
             Increasing sun steps (rows of :attr:`sun`) where some ray is blocked; at the
             others no group has shade.
-        values : numpy.ndarray of float32, shape (G, R)
-            Shaded fraction of each group at those steps, group-major.
+        values : numpy.ndarray of float32, shape (G, R), or None
+            Shaded fraction of each group at those steps, group-major (None with
+            ``reduce``).
         """
         lab, g = _check_labels(labels, len(self.points), n_groups)
         prepared = []
@@ -145,4 +151,5 @@ class ShadeCache:
             if ob not in self._prepared:
                 self._prepared[ob] = _prepare_hits(ob, self._hits[ob], self.month)
             prepared.append(self._prepared[ob])
-        return _group_shade_rows(len(self.sun), len(self.points), prepared, lab, g)
+        return _group_shade_rows(len(self.sun), len(self.points), prepared, lab, g,
+                                 reduce=reduce)

@@ -20,15 +20,17 @@ _DENSE_BLOCK = 1 << 24
 
 
 def _sorted_by_step(entry, n_steps: int):
-    """Sort prepared hits by step (a radix sort for up to 65,536 steps)."""
+    """Sort prepared hits by step (a radix sort for up to 65,536 steps); sorted ones as given."""
     step, point, factor = entry
+    if len(step) < 2 or (step[1:] >= step[:-1]).all():
+        return entry
     key = step.astype(np.uint16) if n_steps <= 65536 else step
     order = np.argsort(key, kind="stable")
     return step[order], point[order], None if factor is None else factor[order]
 
 
 def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, rows=None,
-                      out=None):
+                      out=None, reduce=None):
     """Shaded beam fraction per group of points at the steps where some ray is blocked.
 
     Parameters
@@ -45,15 +47,20 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
         step); default: exactly the steps with a hit or below the far horizon.
     out : numpy.ndarray of float32, shape (G, len(rows)), optional
         Receives the values (a view is fine).
+    reduce : callable, optional
+        Instead of holding every value: called as ``reduce(rows, r0, r1, block)`` with the
+        values at ``rows[r0:r1]`` (a float32 (G, r1 - r0) block, overwritten afterwards),
+        block by block in order; the values are then not kept (None is returned for them).
 
     Returns
     -------
     rows : numpy.ndarray of int, shape (R,)
         Increasing sun steps; at every other step no group has shade.
-    values : numpy.ndarray of float32, shape (G, R)
+    values : numpy.ndarray of float32, shape (G, R), or None
         Shaded fraction of each group at those steps, group-major so that reductions over
         groups (cells of a substring, say) run over whole contiguous rows. Rays met by
-        several obstructions multiply their transmittances. Empty groups give NaN.
+        several obstructions multiply their transmittances. Empty groups give NaN. None with
+        ``reduce``.
 
     Notes
     -----
@@ -61,7 +68,8 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
     of every point is built densely (point-major, so one point's hits fall close together),
     the hits are scattered into it, and the points are averaged per group. When every group
     is one point, the values themselves hold the beam (one block, no memory beside the
-    output). Hits need sorting by step only when there is more than one block.
+    output). Hits need sorting by step only when there is more than one block (hits already
+    in step order are left as they are). With ``reduce`` only one block of values is held.
     """
     horizon = np.zeros(n_steps, dtype=bool)
     prepared = []
@@ -78,7 +86,10 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
             with_shade[step] = True
         rows = np.flatnonzero(with_shade)
     n_rows = len(rows)
-    values = np.empty((n_groups, n_rows), dtype=np.float32) if out is None else out
+    if reduce is not None:
+        values = None
+    else:
+        values = np.empty((n_groups, n_rows), dtype=np.float32) if out is None else out
     if n_rows == 0 or n_groups == 0:
         return rows, values
     counts = np.bincount(labels, minlength=n_groups)
@@ -94,14 +105,16 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
     row_of = np.zeros(n_steps, dtype=np.intp)  # step -> its column in the values
     row_of[rows] = np.arange(n_rows)
     per = max(1, _DENSE_BLOCK // max(1, n_points))
-    if direct and values.flags.c_contiguous:
+    if direct and values is not None and values.flags.c_contiguous:
         per = n_rows  # the values block is the beam: no block beside it, however large
     if n_rows > per:
         prepared = [_sorted_by_step(entry, n_steps) for entry in prepared]
+    blocked = row_of[np.flatnonzero(horizon)]  # columns below the far horizon
     for r0 in range(0, n_rows, per):
         r1 = min(n_rows, r0 + per)
         width = r1 - r0
-        whole = direct and width == n_rows and values.flags.c_contiguous
+        whole = direct and width == n_rows and values is not None \
+            and values.flags.c_contiguous
         beam = values if whole else np.empty((n_points, width), dtype=np.float32)
         beam.fill(1.0)
         flat_beam = beam.reshape(-1)
@@ -117,17 +130,26 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
                 flat_beam[flat] = 0.0
             else:
                 flat_beam[flat] *= factor[part]  # each (step, point) once per obstruction
+        block = beam if direct and reduce is not None else \
+            np.empty((n_groups, width), dtype=np.float32) if reduce is not None \
+            else values[:, r0:r1]
         if direct:
-            np.subtract(np.float32(1.0), beam, out=values[:, r0:r1])
+            np.subtract(np.float32(1.0), beam, out=block)
         elif regular:
             lit = beam.reshape(n_groups, size, r1 - r0).sum(axis=1)
-            values[:, r0:r1] = np.float32(1.0) - lit * np.float32(1.0 / size)
+            block[:] = np.float32(1.0) - lit * np.float32(1.0 / size)
         else:
             lit = np.add.reduceat(beam if perm is None else beam[perm], starts, axis=0)
-            values[:, r0:r1] = np.nan
-            values[present, r0:r1] = np.float32(1.0) - lit / counts[present][:, None]
-    values[:, row_of[np.flatnonzero(horizon)]] = 1.0
-    values[counts == 0] = np.nan
+            block[:] = np.nan
+            block[present] = np.float32(1.0) - lit / counts[present][:, None]
+        if reduce is not None:
+            inside = blocked[(blocked >= r0) & (blocked < r1)]
+            block[:, inside - r0] = 1.0
+            block[counts == 0] = np.nan
+            reduce(rows, r0, r1, block)
+    if values is not None:
+        values[:, blocked] = 1.0
+        values[counts == 0] = np.nan
     return rows, values
 
 

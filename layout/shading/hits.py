@@ -62,6 +62,16 @@ class ShadeHits:
     def __len__(self) -> int:
         return len(self.step)
 
+    def in_step_order(self) -> ShadeHits:
+        """Return the same hits sorted by sun step (stable; self when already in order)."""
+        step = self.step
+        if len(step) < 2 or (step[1:] >= step[:-1]).all():
+            return self
+        key = step.astype(np.uint16) if step.max() < 65536 else step
+        order = np.argsort(key, kind="stable")
+        return ShadeHits(step[order], self.point[order], self.crown_only[order],
+                         self.blocked_steps)
+
 
 def obstruction_hits(points, sun, obstruction, *, ray_start: float = RAY_START_M,
                      max_pairs: int = DEFAULT_MAX_PAIRS, cull: bool = True) -> ShadeHits:

@@ -28,7 +28,8 @@ from .point_groups import _point_groups
 from .rays import RAY_START_M, _check_sun
 from .sun_sectors import _sun_order
 
-__all__ = ["DEFAULT_MAX_RAYS", "ModuleSamples", "ModuleShade", "module_samples", "module_shade"]
+__all__ = ["CELL_LIMIT_BYTES", "DEFAULT_MAX_RAYS", "ModuleSamples", "ModuleShade",
+           "module_samples", "module_shade"]
 
 
 @dataclass(frozen=True)
@@ -103,13 +104,15 @@ def module_samples(modules, spec, *, samples_per_cell: int = 1) -> ModuleSamples
 
 @dataclass(frozen=True, eq=False)
 class ModuleShade:
-    """Beam shaded fraction of placed modules per sun step, by cell and by substring.
+    """Beam shaded fraction of placed modules per sun step, by module, substring and cell.
 
-    Values are float32 fractions from 0 (no shade) to 1 (all of the beam blocked); a tree
-    crown blocks ``1 - transmittance`` of the beam where it is met. Only the steps at which
-    some ray is blocked are held (:attr:`steps`), cell-major (:attr:`by_cell`); the dense
-    per-step arrays are built when first asked for. float32 keeps the arrays at 4 bytes a
-    value (a year of 4,400 sun-up hours for 500 modules of 60 cells is at most 0.5 GB) and
+    Values are fractions from 0 (no shade) to 1 (all of the beam blocked); a tree crown blocks
+    ``1 - transmittance`` of the beam where it is met. Only the steps at which some ray is
+    blocked are held (:attr:`steps`), module-major, as what the electrical models need: the
+    module mean (:attr:`mean_rows`), each substring's mean (:attr:`substring_rows`) and its
+    most shaded cell (:attr:`worst_rows`). The per-cell fractions (:attr:`by_cell`) are kept
+    only when asked for or small (:data:`CELL_LIMIT_BYTES`): on a roof of 5,000 modules they
+    would take gigabytes. The dense per-step arrays are built when first asked for. float32
     carries about 7 significant digits, far below the sampling error of a few points a cell.
 
     Attributes
@@ -119,28 +122,38 @@ class ModuleShade:
     steps : numpy.ndarray of int, shape (R,)
         Increasing sun steps (rows of the sun vectors given) at which some cell may be
         shaded; at every other step no cell is.
-    by_cell : numpy.ndarray of float32, shape (M, C, R)
-        Shaded fraction of each module's cells at :attr:`steps` (mean over a cell's sample
-        points).
     n_steps : int
         Number of sun steps T.
     cell_substring : numpy.ndarray of int, shape (C,)
         Substring (bypass diode) of each cell.
+    mean_rows : numpy.ndarray of float64, shape (M, R)
+        Mean shaded fraction of each module's cells at :attr:`steps` (cells have equal areas).
+    substring_rows, worst_rows : numpy.ndarray of float32, shape (M, S, R)
+        Mean and largest shaded fraction of the cells of each substring at :attr:`steps`.
+    by_cell : numpy.ndarray of float32, shape (M, C, R), or None
+        Shaded fraction of each module's cells at :attr:`steps` (mean over a cell's sample
+        points); None when not kept.
     cell : numpy.ndarray of float32, shape (T, M, C)
-        Shaded fraction of each cell at every step.
+        Shaded fraction of each cell at every step (needs :attr:`by_cell`).
     substring : numpy.ndarray of float32, shape (T, M, S)
         Shaded fraction of each bypass-diode substring (mean over its cells).
     """
 
     module_ids: tuple[str, ...]
     steps: np.ndarray
-    by_cell: np.ndarray
     n_steps: int
     cell_substring: np.ndarray
+    mean_rows: np.ndarray
+    substring_rows: np.ndarray
+    worst_rows: np.ndarray
+    by_cell: np.ndarray | None = None
 
     @cached_property
     def cell(self) -> np.ndarray:
         """Shaded fraction of each cell, float32 (T, M, C)."""
+        if self.by_cell is None:
+            raise InputError("keep_cells", "was off: the per-cell shade was not kept",
+                             allowed="module_shade(..., keep_cells=True)")
         n_mod, n_cells, _ = self.by_cell.shape
         if len(self.steps) == self.n_steps:  # every step held
             return self.by_cell.transpose(2, 0, 1)
@@ -151,22 +164,58 @@ class ModuleShade:
     @cached_property
     def substring(self) -> np.ndarray:
         """Shaded fraction of each substring, float32 (T, M, S) (mean over its cells)."""
-        n_mod = self.by_cell.shape[0]
-        labels = np.asarray(self.cell_substring)
-        per = np.bincount(labels)
-        out = np.zeros((self.n_steps, n_mod, len(per)), dtype=np.float32)
-        for s, count in enumerate(per):
-            if count:
-                cells = self.by_cell[:, labels == s, :]
-                out[self.steps, :, s] = (cells.sum(axis=1, dtype=np.float64) / count).T
+        out = np.zeros((self.n_steps, *self.substring_rows.shape[:2]), dtype=np.float32)
+        out[self.steps] = self.substring_rows.transpose(2, 0, 1)
         return out
 
     @property
     def module(self) -> np.ndarray:
         """Shaded fraction of each whole module, float32 (T, M) (cells have equal areas)."""
-        out = np.zeros((self.n_steps, self.by_cell.shape[0]), dtype=np.float32)
-        out[self.steps] = self.by_cell.mean(axis=1, dtype=np.float64).T
+        out = np.zeros((self.n_steps, self.mean_rows.shape[0]), dtype=np.float32)
+        out[self.steps] = self.mean_rows.T
         return out
+
+
+#: Largest per-cell array (modules × cells × sun steps, float32) :func:`module_shade` keeps by
+#: default [bytes]; beyond it only the per-module and per-substring reductions are kept.
+CELL_LIMIT_BYTES = 1 << 28
+
+
+class _Reductions:
+    """Per-module and per-substring reductions of per-cell shade, filled block by block."""
+
+    def __init__(self, n_mod: int, cell_substring: np.ndarray, keep_cells: bool):
+        self.n_mod, self.n_cells, self.keep_cells = n_mod, len(cell_substring), keep_cells
+        self.cells = [np.flatnonzero(cell_substring == s)
+                      for s in range(int(cell_substring.max()) + 1)]
+        self.mean = self.substring = self.worst = self.by_cell = None
+
+    def allocate(self, n_rows: int) -> None:
+        """Make the arrays for ``n_rows`` steps, once."""
+        if self.mean is not None:
+            return
+        n_mod, n_sub = self.n_mod, len(self.cells)
+        self.mean = np.empty((n_mod, n_rows))
+        self.substring = np.empty((n_mod, n_sub, n_rows), dtype=np.float32)
+        self.worst = np.empty((n_mod, n_sub, n_rows), dtype=np.float32)
+        if self.keep_cells:
+            self.by_cell = np.empty((n_mod, self.n_cells, n_rows), dtype=np.float32)
+
+    def at(self, m0: int):
+        """Return the ``reduce`` callback for a block of modules starting at module ``m0``."""
+        def reduce(rows, r0, r1, block):
+            self.allocate(len(rows))
+            cells = block.reshape(-1, self.n_cells, r1 - r0)  # (modules, cells, rows)
+            m1 = m0 + len(cells)
+            self.mean[m0:m1, r0:r1] = cells.sum(axis=1, dtype=np.float64) / self.n_cells
+            for s, index in enumerate(self.cells):
+                part = cells[:, index, :]
+                self.substring[m0:m1, s, r0:r1] = part.sum(axis=1, dtype=np.float64) \
+                    / len(index)
+                self.worst[m0:m1, s, r0:r1] = part.max(axis=1)
+            if self.by_cell is not None:
+                self.by_cell[m0:m1, :, r0:r1] = cells
+        return reduce
 
 
 #: Default largest number of rays (sun steps × sample points) handled per chunk of modules in
@@ -178,7 +227,8 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
                  include_modules: bool = True, cache: ShadeCache | None = None,
                  samples: ModuleSamples | None = None,
                  ray_start: float = RAY_START_M, max_pairs: int = DEFAULT_MAX_PAIRS,
-                 max_rays: int = DEFAULT_MAX_RAYS) -> ModuleShade:
+                 max_rays: int = DEFAULT_MAX_RAYS, keep_cells: bool | None = None
+                 ) -> ModuleShade:
     """Compute the beam shaded fraction of each module per sun step, by cell and substring.
 
     Parameters
@@ -212,11 +262,15 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
     max_rays : int, keyword-only
         Without a cache, modules are handled in chunks of at most this many rays (steps ×
         points, at least one module a chunk), so the sparse hit lists stay bounded.
+    keep_cells : bool, keyword-only, optional
+        Keep the per-cell fractions (:attr:`ModuleShade.by_cell`); default: only when they
+        would take at most :data:`CELL_LIMIT_BYTES`. Without them, the per-cell values are
+        reduced to module and substring figures block by block of steps and never held whole.
 
     Returns
     -------
     ModuleShade
-        Shaded fractions by cell and substring, float32. At a step when the sun is behind a
+        Shaded fractions by module, substring and cell. At a step when the sun is behind a
         module's plane the module gets no beam, shaded or not: its cells are not ray-tested
         then and count as unshaded (:class:`Facing`).
     """
@@ -235,6 +289,9 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
     if include_modules:
         casters += module_casters(modules)  # rack rows as plate sets, exact all the same
     n_mod, n_cells = len(modules), samples.n_cells
+    cell_substring = np.asarray(spec.substring_of_cell(np.arange(n_cells)), dtype=np.intp)
+    if keep_cells is None:
+        keep_cells = n_mod * n_cells * len(sun_v) * 4 <= CELL_LIMIT_BYTES
     if cache is not None:
         if cache.points.shape != samples.points.shape \
                 or not np.array_equal(cache.points, samples.points):
@@ -246,12 +303,14 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
             raise InputError("cache", "was built without the modules' normals",
                              allowed="ShadeCache(samples.points, sun, normals=samples.normals)")
         cache.update(casters)
-        steps, values = cache.group_shade_rows(samples.cell_group, n_groups=n_mod * n_cells)
+        sums = _Reductions(n_mod, cell_substring, keep_cells)
+        steps, _ = cache.group_shade_rows(samples.cell_group, n_groups=n_mod * n_cells,
+                                          reduce=sums.at(0))
     else:
         order = _sun_order(sun_v)
         facing = Facing.from_normals(sun_v, samples.normals)
         steps = np.arange(len(sun_v))  # chunks of modules: every step held
-        values = np.empty((n_mod * n_cells, len(sun_v)), dtype=np.float32)
+        sums = _Reductions(n_mod, cell_substring, keep_cells)
         per_module = len(samples.points) // n_mod
         chunk = max(1, int(max_rays) // max(1, per_module * len(sun_v)))
         for m0 in range(0, n_mod, chunk):
@@ -266,7 +325,7 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
                         for ob in casters]
             labels = samples.cell_group[sel] - m0 * n_cells
             _group_shade_rows(len(sun_v), len(pts), prepared, labels, (m1 - m0) * n_cells,
-                              rows=steps, out=values[m0 * n_cells:m1 * n_cells])
-    cell_substring = np.asarray(spec.substring_of_cell(np.arange(n_cells)), dtype=np.intp)
-    return ModuleShade(samples.module_ids, steps, values.reshape(n_mod, n_cells, len(steps)),
-                       len(sun_v), cell_substring)
+                              rows=steps, reduce=sums.at(m0))
+    sums.allocate(len(steps))  # no row at all: empty arrays
+    return ModuleShade(samples.module_ids, steps, len(sun_v), cell_substring, sums.mean,
+                       sums.substring, sums.worst, sums.by_cell)

@@ -274,7 +274,7 @@ class Analysis:
                 self._shade = module_shade(
                     modules, project.module, self._sun.vectors, every,
                     samples_per_cell=energy.samples_per_cell, include_modules=False,
-                    cache=self._cache, samples=self._samples)
+                    cache=self._cache, samples=self._samples, keep_cells=False)
                 ran.append("rays")
                 clock = self._stage("rays", clock)
                 self._say("measuring how much sky each module sees", 4)
@@ -302,7 +302,7 @@ class Analysis:
                     self._weather, [m.tilt_deg for m in modules],
                     [m.azimuth_deg for m in modules],
                     shade_rows=(np.flatnonzero(self._sun.up)[self._shade.steps],
-                                self._shade.by_cell),
+                                self._shade.mean_rows, self._shade.worst_rows),
                     cell_substring=spec.substring_of_cell(np.arange(spec.cell_count)),
                     n_substrings=spec.bypass_diodes, sky_view=self._sky,
                     model=energy.sky_model, iam_model=energy.iam_model, mount=energy.mount,

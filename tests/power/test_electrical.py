@@ -14,6 +14,7 @@ from hypothesis import strategies as st
 
 from layout.errors import InputError
 from layout.fill.faces import FillOptions, fill_face
+from layout.power import electrical
 from layout.power.electrical import (
     DEFAULT_GAMMA_PDC,
     ElectricalOptions,
@@ -80,14 +81,18 @@ P_IV_STC = _iv_power([_iv_module((), 1000.0)])  # the reference module's own STC
 
 
 # --------------------------------------------------------------------------- tests
-def test_module_level_is_the_best_of_the_bypassed_substring_sets():
+@pytest.mark.parametrize("block", [1 << 21, 80])
+def test_module_level_is_the_best_of_the_bypassed_substring_sets(block, monkeypatch):
     # max over k of (k / S) * pvwatts_dc(G_(k), T) with G_(k) the k-th brightest substring,
     # written out with a sort (the module docstring's rule), on random irradiance with ties,
-    # dark steps and S = 1 to 4 substrings
+    # dark steps and S = 1 to 4 substrings; worked all at once and two modules at a time
+    # (a step dark on the first block only is not dark)
+    monkeypatch.setattr(electrical, "_BLOCK_VALUES", block)
     rng = np.random.default_rng(5)
     for s in (1, 2, 3, 4):
         g = np.round(rng.uniform(-5, 1000, (40, 6, s)), -2)  # rounding makes ties
         g[:5] = 0.0
+        g[5, :2] = 0.0
         t = rng.uniform(-10, 70, (40, 6))
         ordered = -np.sort(-g, axis=2)
         share = np.arange(1, s + 1) / s

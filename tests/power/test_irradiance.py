@@ -197,6 +197,20 @@ def test_shade_held_at_some_steps_equals_the_dense_array(clear):
     np.testing.assert_allclose(a.effective, b.effective)
     np.testing.assert_array_equal(a.substring_effective, b.substring_effective)
     np.testing.assert_allclose(a.temp_cell_unshaded, b.temp_cell_unshaded)
+    # already reduced to the module mean and each substring's worst cell: the same figures
+    worst = np.stack([by_cell[:, [s, s + 3], :].max(axis=1) for s in range(3)], axis=1)
+    c = module_irradiance(clear, [20.0, 35.0], [180.0, 200.0],
+                          shade_rows=(steps, by_cell.sum(axis=1, dtype=np.float64) / 6, worst),
+                          n_substrings=3)
+    for field in ("poa_global", "effective", "substring_effective", "temp_cell",
+                  "effective_unshaded"):
+        np.testing.assert_array_equal(getattr(c, field), getattr(a, field))
+    with pytest.raises(InputError, match="module, substring, step"):
+        module_irradiance(clear, [20.0, 35.0], [180.0, 200.0],
+                          shade_rows=(steps, worst[:, 0], worst[:1]))
+    with pytest.raises(InputError, match="0 to 1"):
+        module_irradiance(clear, [20.0, 35.0], [180.0, 200.0],
+                          shade_rows=(steps, worst[:, 0], worst + 1))
     with pytest.raises(InputError) as info:
         module_irradiance(clear, [20.0, 35.0], [180.0, 200.0], shade_rows=(steps, by_cell),
                           beam_shaded=dense)
@@ -209,6 +223,23 @@ def test_shade_held_at_some_steps_equals_the_dense_array(clear):
     with pytest.raises(InputError, match="module, cell, step"):
         module_irradiance(clear, [20.0, 35.0], [180.0, 200.0],
                           shade_rows=(steps[:-1], by_cell))
+
+
+def test_modules_worked_a_block_at_a_time_give_the_same_figures(clear, monkeypatch):
+    # every figure is the module's own: one module a block equals all modules at once, bit
+    # for bit, on planes in any order, with shade and sky-view ratios of their own
+    from layout.power import irradiance
+
+    rng = np.random.default_rng(11)
+    tilt, azimuth = [20.0, 35.0, 20.0, 10.0, 35.0], [180.0, 200.0, 180.0, 90.0, 200.0]
+    shade = (rng.random((len(clear.data), 5, 3)) < 0.2) * rng.random((len(clear.data), 5, 3))
+    kwargs = {"beam_shaded": shade, "sky_view": rng.uniform(0.7, 1.0, 5)}
+    whole = module_irradiance(clear, tilt, azimuth, **kwargs)
+    monkeypatch.setattr(irradiance, "_BLOCK_VALUES", len(clear.data))
+    one_by_one = module_irradiance(clear, tilt, azimuth, **kwargs)
+    for field in ("poa_global", "poa_global_unshaded", "effective", "effective_unshaded",
+                  "substring_effective", "temp_cell", "temp_cell_unshaded"):
+        np.testing.assert_array_equal(getattr(one_by_one, field), getattr(whole, field))
 
 
 def test_substring_shade_reduction():

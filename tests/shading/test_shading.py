@@ -590,18 +590,24 @@ def test_module_shade_by_substring_matches_pvlib_rows():
                                                                 3 * res.module[low, mid])
 
 
-def test_module_shade_cache_and_trees():
-    # the cached path equals the direct one; moving one obstruction recomputes only it; a
-    # deciduous crown (Heisler 1986 via the preset) counts by its transmittance.
+def _small_rack_scene(seed: int, n_steps: int, lowest_sun: float):
+    """Two rack rows of three modules, a deciduous tree and a block; random sun and months."""
     from layout.scene.modules import generic_60_cell
 
     spec = generic_60_cell(330.0)
     mods = _rack_modules(spec, "portrait", 20.0, 2.4, n_rows=2, n_cols=3)
-    rng = np.random.default_rng(2)
-    sun = sun_vectors(rng.uniform(90, 270, 60), rng.uniform(5, 60, 60))
-    month = rng.integers(1, 13, 60)
+    rng = np.random.default_rng(seed)
+    sun = sun_vectors(rng.uniform(90, 270, n_steps), rng.uniform(lowest_sun, 60, n_steps))
+    month = rng.integers(1, 13, n_steps)
     tree = Tree.deciduous((0.0, -6.0), 10.0, 3.0, 3.0)
     scene = [tree, Block([(-4, -3), (-3, -3), (-3, -2), (-4, -2)], 5.0)]
+    return spec, mods, sun, month, tree, scene
+
+
+def test_module_shade_cache_and_trees():
+    # the cached path equals the direct one; moving one obstruction recomputes only it; a
+    # deciduous crown (Heisler 1986 via the preset) counts by its transmittance.
+    spec, mods, sun, month, tree, scene = _small_rack_scene(2, 60, 5)
     direct = module_shade(mods, spec, sun, scene, month=month, max_rays=3000)
     samples = module_samples(mods, spec)
     cache = ShadeCache(samples.points, sun, month=month, normals=samples.normals)
@@ -636,6 +642,44 @@ def test_module_shade_cache_and_trees():
     with pytest.raises(InputError) as info:
         module_shade(mods[1:], spec, sun, scene, month=month, samples=samples)
     assert info.value.field == "samples"
+
+
+@pytest.mark.parametrize("per_cell", [1, 4])
+def test_module_shade_without_cells_keeps_the_same_reductions(per_cell):
+    # without the per-cell array (a large roof), the module means, the substring means and
+    # each substring's most shaded cell are reduced block by block of steps; they equal the
+    # same reductions of the whole per-cell array, computed here with plain numpy
+    from layout.shading import groups
+
+    spec, mods, sun, month, _, scene = _small_rack_scene(5, 80, 3)
+    samples = module_samples(mods, spec, samples_per_cell=per_cell)
+    labels = np.asarray(spec.substring_of_cell(np.arange(spec.cell_count)))
+    full = module_shade(mods, spec, sun, scene, month=month, samples_per_cell=per_cell,
+                        keep_cells=True)
+    cells = full.by_cell.astype(np.float64)
+    for cache in (None, ShadeCache(samples.points, sun, month=month, normals=samples.normals)):
+        held = groups._DENSE_BLOCK
+        groups._DENSE_BLOCK = len(samples.points) * 7  # several blocks of 7 steps
+        try:
+            lean = module_shade(mods, spec, sun, scene, month=month, samples_per_cell=per_cell,
+                                cache=cache, keep_cells=False)
+        finally:
+            groups._DENSE_BLOCK = held
+        assert lean.by_cell is None
+        with pytest.raises(InputError) as info:
+            _ = lean.cell
+        assert info.value.field == "keep_cells"
+        if cache is not None:  # only the steps with shade are held
+            cells = full.cell.transpose(1, 2, 0)[:, :, lean.steps].astype(np.float64)
+        assert np.array_equal(lean.mean_rows, cells.sum(axis=1) / spec.cell_count)
+        for s in range(spec.bypass_diodes):
+            part = cells[:, labels == s, :]
+            assert np.array_equal(lean.worst_rows[:, s], part.max(axis=1))
+            assert np.array_equal(lean.substring_rows[:, s],
+                                  (part.sum(axis=1) / len(part[0])).astype(np.float32))
+        assert np.array_equal(lean.module, full.module)
+        assert np.array_equal(lean.substring, full.substring)
+        assert lean.worst_rows.max() > 0
 
 
 @settings(max_examples=10, deadline=None)
