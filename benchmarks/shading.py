@@ -333,8 +333,8 @@ def main_big_racks():
                       "peak_rss_mb": round(peak, 1),
                       "peak_rss_before_mb": round(before, 1),
                       "shade_arrays_mb": round(sum(
-                          a.nbytes for a in (result.mean_rows, result.substring_rows,
-                                             result.worst_rows, result.by_cell)
+                          a.nbytes for a in (result.mean_rows, result.worst_rows,
+                                             result.by_cell, result.substring_rows)
                           if a is not None) / 2**20, 1),
                       "mean_shade": round(float(result.module.mean()), 4)}))
 

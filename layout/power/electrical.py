@@ -516,8 +516,9 @@ def dc_power(irradiance: ModuleIrradiance, spec: ModuleSpec,
         raise InputError("spec.bypass_diodes", "does not match the substrings of the irradiance",
                          value=spec.bypass_diodes, allowed=f"{sub.shape[2]}")
     pdc0, gamma = spec.power_w, options.gamma_pdc
-    unshaded = dc_irradiance_only(irradiance.effective_unshaded, irradiance.temp_cell_unshaded,
-                                  pdc0, gamma_pdc=gamma)
+    # unshaded power depends on the plane only: once per plane, then gathered per module
+    unshaded = dc_irradiance_only(irradiance.plane_effective, irradiance.plane_temp_cell,
+                                  pdc0, gamma_pdc=gamma)[:, irradiance.group]
     strings = string_dc = None
     groups = [np.array([i]) for i in range(n_modules)]
     if options.shade_model == "irradiance":

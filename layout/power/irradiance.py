@@ -448,39 +448,66 @@ def substring_shade(beam_shaded, *, cell_substring=None, n_substrings: int | Non
 class ModuleIrradiance:
     """Irradiance and cell temperature of each module at each step. Computed, never saved.
 
+    The unshaded figures depend on a module's plane only: they are held per plane
+    (``plane_*``, (T, O)) and gathered into (T, M) arrays each time they are read, so a
+    roof of thousands of modules on a few planes does not hold them per module.
+
     Attributes
     ----------
     times : pandas.DatetimeIndex
         Sun times of the weather, T steps.
-    poa_global, poa_global_unshaded : numpy.ndarray, shape (T, M)
-        Module-mean plane-of-array irradiance before incidence-angle losses, with and without
-        shade [W/m²]. Unshaded, it equals pvlib's ``poa_global`` for the module's plane.
+    poa_global : numpy.ndarray, shape (T, M)
+        Module-mean plane-of-array irradiance before incidence-angle losses, with shade
+        [W/m²].
+    poa_global_unshaded : numpy.ndarray, shape (T, M)
+        The same without shade; it equals pvlib's ``poa_global`` for the module's plane
+        (gathered from :attr:`plane_poa_global` on each read).
     effective, effective_unshaded : numpy.ndarray, shape (T, M)
-        Module-mean irradiance reaching the cells (after IAM), with and without shade [W/m²].
+        Module-mean irradiance reaching the cells (after IAM), with and without shade [W/m²]
+        (the unshaded one gathered from :attr:`plane_effective` on each read).
     substring_effective : numpy.ndarray of float32, shape (T, M, S)
         Irradiance reaching the most shaded cell of each substring (after IAM) [W/m²]; single
         precision, as the largest array of the evaluation.
     temp_cell, temp_cell_unshaded : numpy.ndarray, shape (T, M)
-        Cell temperature from the shaded and the unshaded irradiance [°C].
+        Cell temperature from the shaded and the unshaded irradiance [°C] (the unshaded one
+        gathered from :attr:`plane_temp_cell` on each read).
     orientations : numpy.ndarray, shape (O, 2)
         Distinct (tilt, azimuth) planes transposed [degrees].
     group : numpy.ndarray of int, shape (M,)
         Plane of each module.
     settings : dict
         Sky model, IAM model and mount used.
+    plane_poa_global, plane_effective, plane_temp_cell : numpy.ndarray, shape (T, O)
+        Unshaded ``poa_global``, effective irradiance [W/m²] and cell temperature [°C] of
+        each plane.
     """
 
     times: pd.DatetimeIndex
     poa_global: np.ndarray
-    poa_global_unshaded: np.ndarray
     effective: np.ndarray
-    effective_unshaded: np.ndarray
     substring_effective: np.ndarray
     temp_cell: np.ndarray
-    temp_cell_unshaded: np.ndarray
     orientations: np.ndarray
     group: np.ndarray
     settings: dict
+    plane_poa_global: np.ndarray
+    plane_effective: np.ndarray
+    plane_temp_cell: np.ndarray
+
+    @property
+    def poa_global_unshaded(self) -> np.ndarray:
+        """Unshaded plane-of-array irradiance of each module, (T, M) [W/m²]."""
+        return self.plane_poa_global[:, self.group]
+
+    @property
+    def effective_unshaded(self) -> np.ndarray:
+        """Unshaded irradiance reaching the cells of each module, (T, M) [W/m²]."""
+        return self.plane_effective[:, self.group]
+
+    @property
+    def temp_cell_unshaded(self) -> np.ndarray:
+        """Cell temperature of each module from the unshaded irradiance, (T, M) [°C]."""
+        return self.plane_temp_cell[:, self.group]
 
 
 def plane_components(weather: Weather, surface_tilt: float, surface_azimuth: float, *,
@@ -629,8 +656,6 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
     temp_air = weather.data["temp_air"].to_numpy()[:, None]
     wind = weather.data["wind_speed"].to_numpy()[:, None]
     poa, eff, temp = (np.empty((n_steps, n_modules)) for _ in range(3))
-    # the unshaded figures step-major per module, as a gather of the planes lays them out
-    poa_un, eff_un = (np.empty((n_steps, n_modules), order="F") for _ in range(2))
     sub = worst_f  # substrings, in place in the (T, M, S) buffer, which is ours
     block = max(1, _BLOCK_VALUES // max(1, n_steps))
     for lo in range(0, n_modules, block):
@@ -639,16 +664,12 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
         beam_eff = parts["beam_eff"][:, g]
         sky_eff = parts["sky_eff"][:, g]
         ground_eff = parts["ground_eff"][:, g]
-        poa_un[:, part] = parts["poa_global"][:, g]
         lit = 1.0 - mean_f[:, part]
         here = parts["beam"][:, g] * lit
         here += parts["sky"][:, g] * svf[part]
         here += parts["ground"][:, g]
         poa[:, part] = here
         temp[:, part] = pvlib.temperature.sapm_cell(here, temp_air, wind, **params)
-        here = beam_eff + sky_eff
-        here += ground_eff
-        eff_un[:, part] = here
         diffuse_eff = sky_eff * svf[part]
         diffuse_eff += ground_eff
         here = beam_eff * lit
@@ -657,11 +678,14 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
         sub_part = np.subtract(1.0, sub[:, part], out=sub[:, part])
         sub_part *= beam_eff[:, :, None].astype(np.float32)
         sub_part += diffuse_eff[:, :, None].astype(np.float32)
-    temp_un = pvlib.temperature.sapm_cell(parts["poa_global"], temp_air, wind,
-                                          **params)[:, group]  # once per plane
+    # unshaded, once per plane
+    plane_eff = parts["beam_eff"] + parts["sky_eff"]
+    plane_eff += parts["ground_eff"]
+    plane_temp = np.asarray(pvlib.temperature.sapm_cell(parts["poa_global"], temp_air, wind,
+                                                        **params))
     settings = {"model": model, "iam_model": iam_model, "mount": mount}
     return ModuleIrradiance(
-        times=weather.times, poa_global=poa, poa_global_unshaded=poa_un, effective=eff,
-        effective_unshaded=eff_un, substring_effective=sub, temp_cell=temp,
-        temp_cell_unshaded=np.asarray(temp_un), orientations=orientations, group=group,
-        settings=settings)
+        times=weather.times, poa_global=poa, effective=eff, substring_effective=sub,
+        temp_cell=temp, orientations=orientations, group=group, settings=settings,
+        plane_poa_global=parts["poa_global"], plane_effective=plane_eff,
+        plane_temp_cell=plane_temp)

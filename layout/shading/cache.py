@@ -27,7 +27,9 @@ class ShadeCache:
     obstruction types are frozen and hashable). :meth:`update` with a new list recomputes only
     the obstructions that are new or changed (a moved, resized, added one) and forgets deleted
     ones; the combined result is the same as a full recompute. Each obstruction's hits are
-    kept in step order, so shade summed block by block of steps needs no sort of its own.
+    kept in step order, so shade summed block by block of steps needs no sort of its own, and
+    compact (:meth:`ShadeHits.compact`: uint16 steps, no crown flags for a solid), which on
+    a roof of thousands of modules and a hundred million hits saves a third of their memory.
 
     Parameters
     ----------
@@ -82,7 +84,7 @@ class ShadeCache:
             else:
                 new[ob] = _obstruction_hits(self.points, self.sun, ob, self.ray_start,
                                             self.max_pairs, True, self._order, self.facing,
-                                            self._groups).in_step_order()
+                                            self._groups).compact(len(self.sun))
                 computed += 1
         self._hits = new
         self._prepared = {ob: self._prepared[ob] for ob in new if ob in self._prepared}
@@ -90,7 +92,7 @@ class ShadeCache:
         return computed
 
     def hits(self, obstruction) -> ShadeHits:
-        """Return the cached hits of one obstruction in the current list."""
+        """Return the cached hits of one obstruction in the current list (compact form)."""
         return self._hits[obstruction]
 
     def shaded(self) -> np.ndarray:

@@ -62,15 +62,22 @@ class ShadeHits:
     def __len__(self) -> int:
         return len(self.step)
 
-    def in_step_order(self) -> ShadeHits:
-        """Return the same hits sorted by sun step (stable; self when already in order)."""
-        step = self.step
-        if len(step) < 2 or (step[1:] >= step[:-1]).all():
-            return self
-        key = step.astype(np.uint16) if step.max() < 65536 else step
-        order = np.argsort(key, kind="stable")
-        return ShadeHits(step[order], self.point[order], self.crown_only[order],
-                         self.blocked_steps)
+    def compact(self, n_steps: int) -> ShadeHits:
+        """Return the same hits as a cache keeps them: sorted by step, in fewer bytes.
+
+        Steps become uint16 when ``n_steps`` is at most 65,535, and crown flags that are all
+        False become one shared read-only False; 6 bytes a hit instead of 9.
+        """
+        step, point, crown = self.step, self.point, self.crown_only
+        if len(step) > 1 and not (step[1:] >= step[:-1]).all():
+            key = step.astype(np.uint16) if n_steps <= 65535 else step
+            order = np.argsort(key, kind="stable")
+            step, point, crown = step[order], point[order], crown[order]
+        if n_steps <= 65535:
+            step = step.astype(np.uint16, copy=False)
+        if crown.strides != (0,) and not crown.any():
+            crown = np.broadcast_to(np.False_, crown.shape)
+        return ShadeHits(step, point, crown, self.blocked_steps)
 
 
 def obstruction_hits(points, sun, obstruction, *, ray_start: float = RAY_START_M,

@@ -109,11 +109,12 @@ class ModuleShade:
     Values are fractions from 0 (no shade) to 1 (all of the beam blocked); a tree crown blocks
     ``1 - transmittance`` of the beam where it is met. Only the steps at which some ray is
     blocked are held (:attr:`steps`), module-major, as what the electrical models need: the
-    module mean (:attr:`mean_rows`), each substring's mean (:attr:`substring_rows`) and its
-    most shaded cell (:attr:`worst_rows`). The per-cell fractions (:attr:`by_cell`) are kept
-    only when asked for or small (:data:`CELL_LIMIT_BYTES`): on a roof of 5,000 modules they
-    would take gigabytes. The dense per-step arrays are built when first asked for. float32
-    carries about 7 significant digits, far below the sampling error of a few points a cell.
+    module mean (:attr:`mean_rows`) and each substring's most shaded cell
+    (:attr:`worst_rows`). The per-cell fractions (:attr:`by_cell`) and the substring means
+    (:attr:`substring_rows`) are kept only when asked for or small (:data:`CELL_LIMIT_BYTES`):
+    on a roof of 5,000 modules they would take gigabytes. The dense per-step arrays are built
+    when first asked for. float32 carries about 7 significant digits, far below the sampling
+    error of a few points a cell.
 
     Attributes
     ----------
@@ -128,15 +129,19 @@ class ModuleShade:
         Substring (bypass diode) of each cell.
     mean_rows : numpy.ndarray of float64, shape (M, R)
         Mean shaded fraction of each module's cells at :attr:`steps` (cells have equal areas).
-    substring_rows, worst_rows : numpy.ndarray of float32, shape (M, S, R)
-        Mean and largest shaded fraction of the cells of each substring at :attr:`steps`.
+    worst_rows : numpy.ndarray of float32, shape (M, S, R)
+        Largest shaded fraction of the cells of each substring at :attr:`steps`.
     by_cell : numpy.ndarray of float32, shape (M, C, R), or None
         Shaded fraction of each module's cells at :attr:`steps` (mean over a cell's sample
         points); None when not kept.
+    substring_rows : numpy.ndarray of float32, shape (M, S, R), or None
+        Mean shaded fraction of the cells of each substring at :attr:`steps`; None when the
+        cells are not kept.
     cell : numpy.ndarray of float32, shape (T, M, C)
         Shaded fraction of each cell at every step (needs :attr:`by_cell`).
     substring : numpy.ndarray of float32, shape (T, M, S)
-        Shaded fraction of each bypass-diode substring (mean over its cells).
+        Shaded fraction of each bypass-diode substring (mean over its cells; needs
+        :attr:`substring_rows`).
     """
 
     module_ids: tuple[str, ...]
@@ -144,16 +149,14 @@ class ModuleShade:
     n_steps: int
     cell_substring: np.ndarray
     mean_rows: np.ndarray
-    substring_rows: np.ndarray
     worst_rows: np.ndarray
     by_cell: np.ndarray | None = None
+    substring_rows: np.ndarray | None = None
 
     @cached_property
     def cell(self) -> np.ndarray:
         """Shaded fraction of each cell, float32 (T, M, C)."""
-        if self.by_cell is None:
-            raise InputError("keep_cells", "was off: the per-cell shade was not kept",
-                             allowed="module_shade(..., keep_cells=True)")
+        _check_kept(self.by_cell)
         n_mod, n_cells, _ = self.by_cell.shape
         if len(self.steps) == self.n_steps:  # every step held
             return self.by_cell.transpose(2, 0, 1)
@@ -164,6 +167,7 @@ class ModuleShade:
     @cached_property
     def substring(self) -> np.ndarray:
         """Shaded fraction of each substring, float32 (T, M, S) (mean over its cells)."""
+        _check_kept(self.substring_rows)
         out = np.zeros((self.n_steps, *self.substring_rows.shape[:2]), dtype=np.float32)
         out[self.steps] = self.substring_rows.transpose(2, 0, 1)
         return out
@@ -174,6 +178,12 @@ class ModuleShade:
         out = np.zeros((self.n_steps, self.mean_rows.shape[0]), dtype=np.float32)
         out[self.steps] = self.mean_rows.T
         return out
+
+
+def _check_kept(held) -> None:
+    if held is None:
+        raise InputError("keep_cells", "was off: the per-cell shade was not kept",
+                         allowed="module_shade(..., keep_cells=True)")
 
 
 #: Largest per-cell array (modules × cells × sun steps, float32) :func:`module_shade` keeps by
@@ -196,9 +206,9 @@ class _Reductions:
             return
         n_mod, n_sub = self.n_mod, len(self.cells)
         self.mean = np.empty((n_mod, n_rows))
-        self.substring = np.empty((n_mod, n_sub, n_rows), dtype=np.float32)
         self.worst = np.empty((n_mod, n_sub, n_rows), dtype=np.float32)
         if self.keep_cells:
+            self.substring = np.empty((n_mod, n_sub, n_rows), dtype=np.float32)
             self.by_cell = np.empty((n_mod, self.n_cells, n_rows), dtype=np.float32)
 
     def at(self, m0: int):
@@ -210,9 +220,10 @@ class _Reductions:
             self.mean[m0:m1, r0:r1] = cells.sum(axis=1, dtype=np.float64) / self.n_cells
             for s, index in enumerate(self.cells):
                 part = cells[:, index, :]
-                self.substring[m0:m1, s, r0:r1] = part.sum(axis=1, dtype=np.float64) \
-                    / len(index)
                 self.worst[m0:m1, s, r0:r1] = part.max(axis=1)
+                if self.substring is not None:
+                    self.substring[m0:m1, s, r0:r1] = part.sum(axis=1, dtype=np.float64) \
+                        / len(index)
             if self.by_cell is not None:
                 self.by_cell[m0:m1, :, r0:r1] = cells
         return reduce
@@ -328,4 +339,4 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
                               rows=steps, reduce=sums.at(m0))
     sums.allocate(len(steps))  # no row at all: empty arrays
     return ModuleShade(samples.module_ids, steps, len(sun_v), cell_substring, sums.mean,
-                       sums.substring, sums.worst, sums.by_cell)
+                       sums.worst, sums.by_cell, sums.substring)

@@ -378,6 +378,15 @@ def test_cache_moves_one_obstruction_and_matches_full_recompute():
     assert cache.update(fewer) == 0
     assert np.array_equal(cache.transmitted(), transmitted(pts, sun, fewer, month=month))
     assert cache.update([*fewer, Cylinder((0, 0), 0.3, 2.0)]) == 1
+    # the cache keeps each obstruction's hits compact: the same (step, point, crown) triples,
+    # in step order, steps as uint16, crown flags only where some hit is a crown's
+    for ob in fewer[:-1]:
+        kept, found = cache.hits(ob), obstruction_hits(pts, sun, ob)
+        assert hit_set(kept) == hit_set(found) and len(kept) == len(found)
+        assert kept.step.dtype == np.uint16 and (np.diff(kept.step.astype(int)) >= 0).all()
+        assert (kept.crown_only.strides == (0,)) == (not found.crown_only.any())
+    wide = found.compact(70_000)  # more steps than uint16 holds: steps stay as they are
+    assert wide.step.dtype == found.step.dtype and hit_set(wide) == hit_set(found)
 
 
 # ------------------------------------------------------------------ plates: roof faces, modules
@@ -665,20 +674,21 @@ def test_module_shade_without_cells_keeps_the_same_reductions(per_cell):
                                 cache=cache, keep_cells=False)
         finally:
             groups._DENSE_BLOCK = held
-        assert lean.by_cell is None
-        with pytest.raises(InputError) as info:
-            _ = lean.cell
-        assert info.value.field == "keep_cells"
+        assert lean.by_cell is None and lean.substring_rows is None
+        for kept_only in ("cell", "substring"):
+            with pytest.raises(InputError) as info:
+                getattr(lean, kept_only)
+            assert info.value.field == "keep_cells"
         if cache is not None:  # only the steps with shade are held
             cells = full.cell.transpose(1, 2, 0)[:, :, lean.steps].astype(np.float64)
         assert np.array_equal(lean.mean_rows, cells.sum(axis=1) / spec.cell_count)
         for s in range(spec.bypass_diodes):
             part = cells[:, labels == s, :]
             assert np.array_equal(lean.worst_rows[:, s], part.max(axis=1))
-            assert np.array_equal(lean.substring_rows[:, s],
-                                  (part.sum(axis=1) / len(part[0])).astype(np.float32))
+            if cache is None:
+                assert np.array_equal(full.substring_rows[:, s],
+                                      (part.sum(axis=1) / len(part[0])).astype(np.float32))
         assert np.array_equal(lean.module, full.module)
-        assert np.array_equal(lean.substring, full.substring)
         assert lean.worst_rows.max() > 0
 
 
