@@ -141,7 +141,20 @@ def energy_kwh(power_w, step_minutes: float, *, axis: int = 0) -> np.ndarray:
         Energy [kWh].
     """
     step = check_range("step_minutes", step_minutes, 0, 1440, low_open=True)
-    return np.nansum(np.asarray(power_w, dtype=float), axis=axis) * step / 60.0 / 1000.0
+    power = np.asarray(power_w, dtype=float)
+    if power.ndim == 2 and axis in (0, -2) and power.size > _SUM_BLOCK:
+        # column by column block (each column's sum is the same), so that nansum's copy
+        # without NaN is one block, not the whole (T, M) array
+        block = max(1, _SUM_BLOCK // len(power))
+        total = np.concatenate([np.nansum(power[:, lo:lo + block], axis=0)
+                                for lo in range(0, power.shape[1], block)])
+    else:
+        total = np.nansum(power, axis=axis)
+    return total * step / 60.0 / 1000.0
+
+
+#: Values summed at once by :func:`energy_kwh` (nansum copies what it sums).
+_SUM_BLOCK = 1 << 21
 
 
 def _energy_arrays(power):
@@ -192,7 +205,9 @@ def module_table(power, irradiance, modules, *, step_minutes: float,
     energy = energy_kwh(shaded_w, step_minutes)
     unshaded = energy_kwh(unshaded_w, step_minutes)
     poa = energy_kwh(irradiance.poa_global, step_minutes)
-    poa_unshaded = energy_kwh(irradiance.poa_global_unshaded, step_minutes)
+    # per plane, then per module: the same sums without a (T, M) array of the planes' values
+    poa_unshaded = energy_kwh(np.asfortranarray(irradiance.plane_poa_global),
+                              step_minutes)[irradiance.group]
     access = _percent(poa, poa_unshaded)
     tof = _percent(poa_unshaded, best.insolation_kwh_m2)
     table = pd.DataFrame({

@@ -68,40 +68,57 @@ def _angular_bounds(points, obstruction, *, coarse: bool = False):
     every solid when ``coarse``, the vertical cylinder around their plan bounding box.
     """
     xmin, ymin, zmin, xmax, ymax, zmax = obstruction.bounds
-    px, py = points[:, 0], points[:, 1]
     if isinstance(obstruction, (Block, Plate)) and not coarse:
-        corners = _hull_corners(obstruction)
-        first = np.arctan2(corners[0, 0] - px, corners[0, 1] - py)
-        low = np.zeros(len(px))
-        high = np.zeros(len(px))
-        far2 = (corners[0, 0] - px) ** 2 + (corners[0, 1] - py) ** 2
-        for cx_, cy_ in corners[1:]:
-            vx, vy = cx_ - px, cy_ - py
-            delta = (np.arctan2(vx, vy) - first + math.pi) % (2 * math.pi) - math.pi
-            np.minimum(low, delta, out=low)
-            np.maximum(high, delta, out=high)
-            np.maximum(far2, vx * vx + vy * vy, out=far2)
-        center = first + 0.5 * (low + high)
-        near, inside = _hull_distance(corners, px, py)
-        half = np.where(inside, math.pi, 0.5 * (high - low) + _ANGLE_MARGIN)
-        far = np.sqrt(far2)
-    else:
-        cx, cy = 0.5 * (xmin + xmax), 0.5 * (ymin + ymax)
-        radius = 0.5 * math.hypot(xmax - xmin, ymax - ymin) if coarse else 0.5 * (xmax - xmin)
-        dx, dy = cx - px, cy - py
-        dist = np.hypot(dx, dy)
-        near = np.maximum(dist - radius, 0.0)
-        far = dist + radius
-        inside = dist <= radius * (1 + 1e-12)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            half = np.where(inside, math.pi,
-                            np.arcsin(np.clip(radius / dist, 0.0, 1.0)) + _ANGLE_MARGIN)
-        center = np.arctan2(dx, dy)
+        return _hull_bounds(points, _hull_corners(obstruction), zmin, zmax)
+    px, py = points[:, 0], points[:, 1]
+    cx, cy = 0.5 * (xmin + xmax), 0.5 * (ymin + ymax)
+    radius = 0.5 * math.hypot(xmax - xmin, ymax - ymin) if coarse else 0.5 * (xmax - xmin)
+    dx, dy = cx - px, cy - py
+    dist = np.hypot(dx, dy)
+    near = np.maximum(dist - radius, 0.0)
+    far = dist + radius
+    inside = dist <= radius * (1 + 1e-12)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        half = np.where(inside, math.pi,
+                        np.arcsin(np.clip(radius / dist, 0.0, 1.0)) + _ANGLE_MARGIN)
+    center = np.arctan2(dx, dy)
+    return (center, half, *_elevation_band(points, near, far, zmin, zmax))
+
+
+def _elevation_band(points, near, far, zmin, zmax):
+    """Return the elevation band [rad] of a solid from ``zmin`` to ``zmax`` [m].
+
+    The solid lies at plan distances from ``near`` to ``far`` [m] of each point.
+    """
     up = zmax - points[:, 2]
     down = zmin - points[:, 2]
     el_max = np.where(up > 0, np.arctan2(up, near), np.arctan2(up, far)) + _ANGLE_MARGIN
     el_min = np.where(down >= 0, np.arctan2(down, far), np.arctan2(down, near)) - _ANGLE_MARGIN
-    return center, half, el_min, el_max
+    return el_min, el_max
+
+
+def _hull_bounds(points, corners, zmin: float, zmax: float):
+    """Return the angular bounds (as :func:`_angular_bounds`) of a prism over a convex polygon.
+
+    ``corners`` (K, 2) counter-clockwise (two for a vertical plate); the extreme directions
+    pass through the corners.
+    """
+    px, py = points[:, 0], points[:, 1]
+    first = np.arctan2(corners[0, 0] - px, corners[0, 1] - py)
+    low = np.zeros(len(px))
+    high = np.zeros(len(px))
+    far2 = (corners[0, 0] - px) ** 2 + (corners[0, 1] - py) ** 2
+    for cx_, cy_ in corners[1:]:
+        vx, vy = cx_ - px, cy_ - py
+        delta = (np.arctan2(vx, vy) - first + math.pi) % (2 * math.pi) - math.pi
+        np.minimum(low, delta, out=low)
+        np.maximum(high, delta, out=high)
+        np.maximum(far2, vx * vx + vy * vy, out=far2)
+    center = first + 0.5 * (low + high)
+    near, inside = _hull_distance(corners, px, py)
+    half = np.where(inside, math.pi, 0.5 * (high - low) + _ANGLE_MARGIN)
+    far = np.sqrt(far2)
+    return (center, half, *_elevation_band(points, near, far, zmin, zmax))
 
 
 def _sector_spans(sun_order: _SunOrder, center, half, el_min, el_max):

@@ -3,9 +3,10 @@
 On a large roof most obstructions can reach only some of the points: a module on a rack shades
 its neighbours, not the far end of the roof. :func:`_point_groups` buckets the points into
 cubes of a fixed size once; :func:`_near_points` then keeps, for one obstruction, the points of
-the groups that pass the coarse angular cull (:mod:`layout.shading.culling`) against the
-obstruction's bounding box grown by the groups' half extents. That test is conservative:
-if the ray from a point ``p`` meets the obstruction at ``q = p + s d`` (``s > 0``), the ray
+the groups that pass the angular cull (:mod:`layout.shading.culling`) against the
+obstruction's bounding box grown by the groups' half extents (a prism over a rectangle). That
+test is conservative: if the ray from a point ``p`` meets the obstruction at ``q = p + s d``
+(``s > 0``), the ray
 from its group's centre ``c`` passes through ``q + (c - p)``, which lies in the box grown by
 ``|c - p|``, per axis at most the half extent. The points kept then go through the exact
 per-point cull and ray tests as before, so the hits are the same, only found sooner.
@@ -17,7 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .culling import _angular_bounds, _Column, _sector_spans
+from .culling import _hull_bounds, _sector_spans
 from .sun_sectors import _SunOrder
 
 #: Fewest points for which grouping pays; below it every obstruction sees every point.
@@ -63,8 +64,12 @@ def _near_points(groups: _PointGroups, sun_order: _SunOrder, obstruction) -> np.
     """
     xmin, ymin, zmin, xmax, ymax, zmax = obstruction.bounds
     hx, hy, hz = groups.half * (1 + 1e-9) + 1e-9
-    grown = _Column((xmin - hx, ymin - hy, zmin - hz, xmax + hx, ymax + hy, zmax + hz))
-    _, span, _, _ = _sector_spans(sun_order, *_angular_bounds(groups.centre, grown, coarse=True))
+    x0, y0, x1, y1 = xmin - hx, ymin - hy, xmax + hx, ymax + hy
+    # the grown box as a prism over its rectangle: for a long rack row far tighter than the
+    # cylinder around it, which would take in every group within half the row's length
+    box = np.array([(x0, y0), (x1, y0), (x1, y1), (x0, y1)])
+    _, span, _, _ = _sector_spans(sun_order, *_hull_bounds(groups.centre, box, zmin - hz,
+                                                           zmax + hz))
     keep = np.flatnonzero(span)
     if len(keep) == len(span):
         return None
