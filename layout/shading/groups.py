@@ -107,8 +107,15 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
     per = max(1, _DENSE_BLOCK // max(1, n_points))
     if direct and values is not None and values.flags.c_contiguous:
         per = n_rows  # the values block is the beam: no block beside it, however large
+    cuts = None
     if n_rows > per:
         prepared = [_sorted_by_step(entry, n_steps) for entry in prepared]
+        # where each block's hits begin in each entry, found once (in the steps' own dtype,
+        # so that no search converts the steps); a block ends where the next begins, as the
+        # rows hold every step with a hit
+        first = rows[::per]
+        cuts = [np.r_[np.searchsorted(step, first.astype(step.dtype)), len(step)]
+                for step, _, _ in prepared]
     blocked = row_of[np.flatnonzero(horizon)]  # columns below the far horizon
     for r0 in range(0, n_rows, per):
         r1 = min(n_rows, r0 + per)
@@ -118,10 +125,10 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
         beam = values if whole else np.empty((n_points, width), dtype=np.float32)
         beam.fill(1.0)
         flat_beam = beam.reshape(-1)
-        for step, point, factor in prepared:
+        for k, (step, point, factor) in enumerate(prepared):
             part = slice(None)
-            if n_rows > per:
-                part = slice(*np.searchsorted(step, [rows[r0], rows[r1 - 1] + 1]))
+            if cuts is not None:
+                part = slice(cuts[k][r0 // per], cuts[k][r0 // per + 1])
             flat = point[part].astype(np.intp) * width
             flat += row_of[step[part]]
             if r0:
