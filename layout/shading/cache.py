@@ -11,7 +11,7 @@ import numpy as np
 
 from ..errors import InputError, check_positive
 from .combine import _check_month, _combine_shaded, _combine_transmitted, _prepare_hits
-from .groups import _check_labels, _group_shade_rows
+from .groups import _check_labels, _group_shade_rows, _needs_step_order
 from .hits import DEFAULT_MAX_PAIRS, Facing, ShadeHits, _obstruction_hits
 from .point_groups import _point_groups
 from .rays import RAY_START_M, _check_points, _check_sun
@@ -27,9 +27,10 @@ class ShadeCache:
     obstruction types are frozen and hashable). :meth:`update` with a new list recomputes only
     the obstructions that are new or changed (a moved, resized, added one) and forgets deleted
     ones; the combined result is the same as a full recompute. Each obstruction's hits are
-    kept in step order, so shade summed block by block of steps needs no sort of its own, and
-    compact (:meth:`ShadeHits.compact`: uint16 steps, no crown flags for a solid), which on
-    a roof of thousands of modules and a hundred million hits saves a third of their memory.
+    kept compact (:meth:`ShadeHits.compact`: uint16 steps, no crown flags for a solid), which
+    on a roof of thousands of modules and a hundred million hits saves a third of their
+    memory, and, where shade is summed in many blocks of steps (:func:`_needs_step_order`),
+    in step order, so that no evaluation sorts them again.
 
     Parameters
     ----------
@@ -66,6 +67,7 @@ class ShadeCache:
         self.max_pairs = int(max_pairs)
         self._order = _sun_order(self.sun)
         self._groups = _point_groups(self.points)
+        self._sorted = _needs_step_order(len(self.sun), len(self.points))
         self._hits: dict = {}
         self._prepared: dict = {}
         self.obstructions: tuple = ()
@@ -84,7 +86,8 @@ class ShadeCache:
             else:
                 new[ob] = _obstruction_hits(self.points, self.sun, ob, self.ray_start,
                                             self.max_pairs, True, self._order, self.facing,
-                                            self._groups).compact(len(self.sun))
+                                            self._groups).compact(len(self.sun),
+                                                                  sort=self._sorted)
                 computed += 1
         self._hits = new
         self._prepared = {ob: self._prepared[ob] for ob in new if ob in self._prepared}

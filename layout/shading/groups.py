@@ -17,6 +17,21 @@ __all__ = ["group_mean"]
 
 #: Largest number of (step, point) values held densely at once when summing hits per group.
 _DENSE_BLOCK = 1 << 24
+#: Most blocks of steps for which each block picks its hits by a mask over their steps; with
+#: more, hits are sorted by step once (a cache keeps them sorted, see :func:`_needs_step_order`).
+_MASK_BLOCKS = 16
+
+
+def _blocks(n_rows: int, per: int) -> int:
+    return -(-n_rows // per)
+
+
+def _needs_step_order(n_steps: int, n_points: int) -> bool:
+    """Tell whether hits of ``n_points`` points over ``n_steps`` steps are best kept sorted.
+
+    True when summing them per group may take more than :data:`_MASK_BLOCKS` blocks of steps.
+    """
+    return _blocks(n_steps, max(1, _DENSE_BLOCK // max(1, n_points))) > _MASK_BLOCKS
 
 
 def _sorted_by_step(entry, n_steps: int):
@@ -68,8 +83,9 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
     of every point is built densely (point-major, so one point's hits fall close together),
     the hits are scattered into it, and the points are averaged per group. When every group
     is one point, the values themselves hold the beam (one block, no memory beside the
-    output). Hits need sorting by step only when there is more than one block (hits already
-    in step order are left as they are). With ``reduce`` only one block of values is held.
+    output). With a few blocks each block picks its hits by a mask over their steps; with
+    more, hits are sorted by step (hits already in step order are left as they are). With
+    ``reduce`` only one block of values is held.
     """
     horizon = np.zeros(n_steps, dtype=bool)
     prepared = []
@@ -108,7 +124,8 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
     if direct and values is not None and values.flags.c_contiguous:
         per = n_rows  # the values block is the beam: no block beside it, however large
     cuts = None
-    if n_rows > per:
+    masked = n_rows > per and _blocks(n_rows, per) <= _MASK_BLOCKS
+    if n_rows > per and not masked:
         prepared = [_sorted_by_step(entry, n_steps) for entry in prepared]
         # where each block's hits begin in each entry, found once (in the steps' own dtype,
         # so that no search converts the steps); a block ends where the next begins, as the
@@ -129,6 +146,11 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
             part = slice(None)
             if cuts is not None:
                 part = slice(cuts[k][r0 // per], cuts[k][r0 // per + 1])
+            elif masked:  # a few blocks: each picks its hits by their steps, no sort
+                kind = step.dtype.type  # bounds in the steps' dtype: no conversion of them
+                part = step >= kind(rows[r0]) if r0 else np.ones(len(step), dtype=bool)
+                if r1 < n_rows:
+                    part &= step < kind(rows[r1])
             flat = point[part].astype(np.intp) * width
             flat += row_of[step[part]]
             if r0:

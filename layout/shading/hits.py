@@ -62,14 +62,15 @@ class ShadeHits:
     def __len__(self) -> int:
         return len(self.step)
 
-    def compact(self, n_steps: int) -> ShadeHits:
-        """Return the same hits as a cache keeps them: sorted by step, in fewer bytes.
+    def compact(self, n_steps: int, *, sort: bool = True) -> ShadeHits:
+        """Return the same hits as a cache keeps them: in fewer bytes, sorted by step.
 
         Steps become uint16 when ``n_steps`` is at most 65,535, and crown flags that are all
-        False become one shared read-only False; 6 bytes a hit instead of 9.
+        False become one shared read-only False; 6 bytes a hit instead of 9. With ``sort``
+        False the order is kept.
         """
         step, point, crown = self.step, self.point, self.crown_only
-        if len(step) > 1 and not (step[1:] >= step[:-1]).all():
+        if sort and len(step) > 1 and not (step[1:] >= step[:-1]).all():
             key = step.astype(np.uint16) if n_steps <= 65535 else step
             order = np.argsort(key, kind="stable")
             step, point, crown = step[order], point[order], crown[order]

@@ -379,12 +379,15 @@ def test_cache_moves_one_obstruction_and_matches_full_recompute():
     assert np.array_equal(cache.transmitted(), transmitted(pts, sun, fewer, month=month))
     assert cache.update([*fewer, Cylinder((0, 0), 0.3, 2.0)]) == 1
     # the cache keeps each obstruction's hits compact: the same (step, point, crown) triples,
-    # in step order, steps as uint16, crown flags only where some hit is a crown's
+    # steps as uint16, crown flags only where some hit is a crown's; sorted by step on demand
     for ob in fewer[:-1]:
         kept, found = cache.hits(ob), obstruction_hits(pts, sun, ob)
         assert hit_set(kept) == hit_set(found) and len(kept) == len(found)
-        assert kept.step.dtype == np.uint16 and (np.diff(kept.step.astype(int)) >= 0).all()
+        assert kept.step.dtype == np.uint16
         assert (kept.crown_only.strides == (0,)) == (not found.crown_only.any())
+        in_order = found.compact(len(sun))
+        assert hit_set(in_order) == hit_set(found)
+        assert (np.diff(in_order.step.astype(int)) >= 0).all()
     wide = found.compact(70_000)  # more steps than uint16 holds: steps stay as they are
     assert wide.step.dtype == found.step.dtype and hit_set(wide) == hit_set(found)
 
@@ -654,9 +657,12 @@ def test_module_shade_cache_and_trees():
 
 
 @pytest.mark.parametrize("per_cell", [1, 4])
-def test_module_shade_without_cells_keeps_the_same_reductions(per_cell):
+@pytest.mark.parametrize("steps_a_block", [3, 7])
+def test_module_shade_without_cells_keeps_the_same_reductions(per_cell, steps_a_block,
+                                                              monkeypatch):
     # without the per-cell array (a large roof), the module means, the substring means and
-    # each substring's most shaded cell are reduced block by block of steps; they equal the
+    # each substring's most shaded cell are reduced block by block of steps (27 blocks: hits
+    # sorted by step, kept sorted by the cache; 12 blocks: picked by a mask); they equal the
     # same reductions of the whole per-cell array, computed here with plain numpy
     from layout.shading import groups
 
@@ -666,26 +672,24 @@ def test_module_shade_without_cells_keeps_the_same_reductions(per_cell):
     full = module_shade(mods, spec, sun, scene, month=month, samples_per_cell=per_cell,
                         keep_cells=True)
     cells = full.by_cell.astype(np.float64)
-    for cache in (None, ShadeCache(samples.points, sun, month=month, normals=samples.normals)):
-        held = groups._DENSE_BLOCK
-        groups._DENSE_BLOCK = len(samples.points) * 7  # several blocks of 7 steps
-        try:
-            lean = module_shade(mods, spec, sun, scene, month=month, samples_per_cell=per_cell,
-                                cache=cache, keep_cells=False)
-        finally:
-            groups._DENSE_BLOCK = held
+    monkeypatch.setattr(groups, "_DENSE_BLOCK", len(samples.points) * steps_a_block)
+    cache = ShadeCache(samples.points, sun, month=month, normals=samples.normals)
+    assert cache._sorted == (steps_a_block == 3)
+    for used in (None, cache):
+        lean = module_shade(mods, spec, sun, scene, month=month, samples_per_cell=per_cell,
+                            cache=used, keep_cells=False)
         assert lean.by_cell is None and lean.substring_rows is None
         for kept_only in ("cell", "substring"):
             with pytest.raises(InputError) as info:
                 getattr(lean, kept_only)
             assert info.value.field == "keep_cells"
-        if cache is not None:  # only the steps with shade are held
+        if used is not None:  # only the steps with shade are held
             cells = full.cell.transpose(1, 2, 0)[:, :, lean.steps].astype(np.float64)
         assert np.array_equal(lean.mean_rows, cells.sum(axis=1) / spec.cell_count)
         for s in range(spec.bypass_diodes):
             part = cells[:, labels == s, :]
             assert np.array_equal(lean.worst_rows[:, s], part.max(axis=1))
-            if cache is None:
+            if used is None:
                 assert np.array_equal(full.substring_rows[:, s],
                                       (part.sum(axis=1) / len(part[0])).astype(np.float32))
         assert np.array_equal(lean.module, full.module)
