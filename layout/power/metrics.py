@@ -154,7 +154,7 @@ def energy_kwh(power_w, step_minutes: float, *, axis: int = 0) -> np.ndarray:
 
 
 #: Values summed at once by :func:`energy_kwh` (nansum copies what it sums).
-_SUM_BLOCK = 1 << 21
+_SUM_BLOCK = 1 << 23
 
 
 def _energy_arrays(power):
