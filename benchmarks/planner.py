@@ -96,7 +96,7 @@ def roof_edit_side(repeats: int) -> dict:
     panel.select_face("south")
     edit, undo, redo = [], [], []
     for i in range(repeats + 1):
-        panel.pitch.input.value = f"{30 + i % 2}"
+        panel.pitch.input.value = f"{30 + 0.25 * i:.2f}"  # a pitch not seen before
         start = time.perf_counter()
         assert panel.apply_face()
         middle = time.perf_counter()
@@ -139,7 +139,7 @@ def browser_roof_edits(page, repeats: int) -> dict:
 
     edit, undo, redo = [], [], []
     for i in range(repeats + 1):
-        field.fill(f"{30 + i % 2}")
+        field.fill(f"{30 + 0.25 * i:.2f}")  # a pitch not seen before: no kept fill of it
         times = (until_totals_change(lambda: page.locator(".eaveline-apply-face").click()),
                  until_totals_change(lambda: page.locator("button.eaveline-undo").click()),
                  until_totals_change(lambda: page.locator("button.eaveline-redo").click()))

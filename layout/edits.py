@@ -20,8 +20,10 @@ import numpy as np
 import shapely
 
 from .errors import InputError, check_finite
+from .fill.usable import roof_mounted
 from .project import Project
 from .scene.building import OVERLAP_TOLERANCE_M2, Building
+from .scene.obstructions import Block, Cylinder, Plate
 from .scene.roof import EDGE_KINDS, RoofFace, building_to_site
 from .scene.site import Site, timezone_at
 
@@ -256,6 +258,11 @@ def move_building(project: Project, name: str, *, east_m: float = 0.0, north_m: 
                   turn_deg: float = 0.0) -> Project:
     """Return the project with a building moved and turned as one rigid body.
 
+    What stands on its roof (chimneys, vents, units: every obstruction of the project that is
+    roof-mounted on one of its faces, :func:`layout.fill.usable.roof_mounted`) moves with it.
+    Survey readings stay as they were measured: they describe the real site, so a reading of a
+    rooftop item is re-entered if the building was first drawn in the wrong place.
+
     Parameters
     ----------
     project : Project
@@ -279,17 +286,37 @@ def move_building(project: Project, name: str, *, east_m: float = 0.0, north_m: 
     index = _index(project, name)
     building = project.buildings[index]
     centre = np.array(building.footprint.centroid.coords[0])
-    faces = []
-    for face in building.faces:
-        local = np.asarray(face.outline) - centre  # a turn about the centre: building axes
-        outline = building_to_site(local, turn_deg, centre + np.array([east_m, north_m]))
-        faces.append(replace(face, outline=tuple(map(tuple, outline)),
-                             azimuth_deg=(face.azimuth_deg + turn_deg) % 360.0))
+
+    def carry(points) -> tuple:
+        local = np.asarray(points, dtype=float) - centre  # a turn about the centre
+        moved = building_to_site(local, turn_deg, centre + np.array([east_m, north_m]))
+        return tuple(map(tuple, moved))
+
+    faces = [replace(face, outline=carry(face.outline),
+                     azimuth_deg=(face.azimuth_deg + turn_deg) % 360.0)
+             for face in building.faces]
     moved = replace(building, faces=tuple(faces))
     _check_clear_of_others(project, moved, skip=name)
     buildings = list(project.buildings)
     buildings[index] = moved
-    return replace(project, buildings=tuple(buildings))
+    obstructions = tuple(_carried(ob, carry)
+                         if any(roof_mounted(face, ob) for face in building.faces) else ob
+                         for ob in project.obstructions)
+    return replace(project, buildings=tuple(buildings), obstructions=obstructions)
+
+
+def _carried(obstruction, carry):
+    """Return a rooftop obstruction moved by ``carry`` (plan points to plan points)."""
+    if isinstance(obstruction, Block):
+        return replace(obstruction, footprint=carry(obstruction.footprint))
+    if isinstance(obstruction, Cylinder):
+        return replace(obstruction, center=carry([obstruction.center])[0])
+    if isinstance(obstruction, Plate):
+        corners = np.asarray(obstruction.corners, dtype=float)
+        plan = np.asarray(carry(corners[:, :2]))
+        return replace(obstruction, corners=tuple(map(tuple, np.column_stack([plan,
+                                                                              corners[:, 2]]))))
+    return obstruction  # nothing else stands on a roof (a tree's crown only hangs over it)
 
 
 def edit_face(project: Project, face_name: str, *, pitch_deg: float | None = None,

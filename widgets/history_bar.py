@@ -6,6 +6,8 @@ from collections.abc import Callable
 
 import ipywidgets as w
 
+from .undo_keys import UNDO_KEYS_HINT
+
 __all__ = ["HistoryBar"]
 
 
@@ -49,3 +51,5 @@ class HistoryBar(w.HBox):
                                     if history.can_undo else "Nothing to undo")
         self.redo_button.tooltip = (f"Redo: {history.redo_label}" if history.can_redo
                                     else "Nothing to redo")
+        for button in (self.undo_button, self.redo_button):
+            button.tooltip += f". Keys: {UNDO_KEYS_HINT}"
