@@ -243,7 +243,9 @@ class Analysis:
         """
         self.timings = {}
         clock = time.perf_counter()
-        if project is not self._project and id(project) in self._recent:
+        kept = self._recent.get(id(project))
+        if project is not self._project and kept is not None \
+                and kept[1]["_weather_key"] == self._weather_key_of(project):
             self._recall(project)
             self.timings["recalled"] = time.perf_counter() - clock
             self.recomputed = ("recalled",)
@@ -288,13 +290,20 @@ class Analysis:
         self._project = project
         self.rays_tested = 0
 
+    def _weather_key_of(self, project) -> tuple:
+        """Return what the weather and the sun path depend on, the folder of a relative file too.
+
+        A kept state is recalled only where it would read the same weather file.
+        """
+        energy = project.energy
+        return (project.site, energy.weather_file, energy.step_minutes, str(self.base_dir))
+
     def _run(self, project, clock: float) -> list[str]:
         """Run the stages an edit touched, from the state held, and return their names."""
         ran: list[str] = []
         energy = project.energy
 
-        weather_key = (project.site, energy.weather_file, energy.step_minutes,
-                       str(self.base_dir))
+        weather_key = self._weather_key_of(project)
         if weather_key != self._weather_key:
             self._say("reading the weather and the sun path", 0)
             weather = load_weather(project.site, energy, base_dir=self.base_dir)

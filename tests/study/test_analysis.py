@@ -253,3 +253,11 @@ def test_bad_recall_settings_name_the_field(demo, options, field):
 
     with pytest.raises(InputError, match=field):
         Analysis(demo, **options)
+
+
+def test_a_kept_state_is_not_recalled_once_files_are_read_from_another_folder(demo, tmp_path):
+    analysis = Analysis(demo)
+    tree = index_of(demo, "silver maple")
+    analysis.update(moved(demo, tree, 1.0, 0.0))
+    analysis.base_dir = tmp_path  # a project file opened from elsewhere
+    assert "recalled" not in analysis.update(demo)
