@@ -10,6 +10,7 @@ import math
 import numpy as np
 import pytest
 
+from layout.edits import edit_face
 from layout.elevation import PROVENANCE, import_elevation, synthetic
 from layout.project_imports import project_from_scene
 from layout.scene.survey import Reading, SurveyEntry
@@ -143,6 +144,11 @@ def test_plan_marks_faces_and_obstructions_from_elevation_data(planner, tile):
     assert len(_data_rings(plan)) == len(project.faces) + len(drawn) - 1
     names = list(plan.obstruction_markers.names)
     assert "tree 2" in names and sum(PROVENANCE in n for n in names) == len(drawn) - 1
+    # a face typed over in the Roof tab (layout.edits.edit_face) loses its outline too
+    face = project.faces[0]
+    assert planner.set_project(edit_face(planner.project, face.name,
+                                         pitch_deg=face.pitch_deg + 2.0))
+    assert len(_data_rings(plan)) == len(project.faces) - 1 + len(drawn) - 1
 
 
 def test_a_drawn_project_has_no_data_marks(planner):
