@@ -164,14 +164,16 @@ def fit_sides_to_classes(rectangle: shapely.Polygon, x, y, roof, ground, *,
     u, v = x * c + y * s, -x * s + y * c
     cu, cv = corners @ np.array([c, s]), corners @ np.array([-s, c])
     sides = [float(cu.min()), float(cu.max()), float(cv.min()), float(cv.max())]
+    box = ((u > sides[0] - band_m) & (u < sides[1] + band_m) & (v > sides[2] - band_m)
+           & (v < sides[3] + band_m) & (roof | ground))
+    u, v, roof = u[box], v[box], roof[box]
     for k in range(4):
         across, along = (u, v) if k < 2 else (v, u)
         lo, hi = (sides[2], sides[3]) if k < 2 else (sides[0], sides[1])
         outward = 1.0 if k % 2 else -1.0
         dist = outward * (across - sides[k])  # positive outside the rectangle
-        near = ((np.abs(dist) < band_m) & (along > lo + band_m) & (along < hi - band_m)
-                & (roof | ground))
-        if min(int(np.sum(near & roof)), int(np.sum(near & ground))) < min_points:
+        near = (np.abs(dist) < band_m) & (along > lo + band_m) & (along < hi - band_m)
+        if min(int(np.sum(near & roof)), int(np.sum(near & ~roof))) < min_points:
             continue
         edge = _probit_edge(dist[near], roof[near], start=0.0, band_m=band_m)
         if edge is not None:
