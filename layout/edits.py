@@ -10,6 +10,12 @@ pathways on a deleted building's faces are dropped with it, and a moved or turne
 them (they are in each face's own roof-plane coordinates, which turn with the face). A changed
 face keeps its pathway; removals on it are kept and re-checked by the next fill, which drops
 those no longer under a module and says so in its notes.
+
+An imported building or face (listed in the project's ``sources``, e.g. "from elevation data,
+not surveyed") that an edit changes is no longer as its source gave it: the edit takes it off
+the list (:meth:`~layout.project.Project.unmarked`), and a deleted building's names go with
+it, so that a building drawn later under the same name is not taken for the imported one. A
+renamed building stays listed under its new name.
 """
 
 from __future__ import annotations
@@ -224,7 +230,7 @@ def add_face(project: Project, building_name: str, face: RoofFace) -> Project:
     _check_clear_of_others(project, grown, skip=building_name)
     buildings = list(project.buildings)
     buildings[index] = grown
-    return replace(project, buildings=tuple(buildings))
+    return replace(project, buildings=tuple(buildings)).unmarked({building_name})
 
 
 def remove_building(project: Project, name: str) -> Project:
@@ -240,7 +246,7 @@ def remove_building(project: Project, name: str) -> Project:
     removed = tuple(r for r in project.removed if r[0] not in faces)
     buildings = project.buildings[:index] + project.buildings[index + 1:]
     return replace(project, buildings=buildings, array_faces=array_faces, pathways=pathways,
-                   removed=removed)
+                   removed=removed).unmarked({name, *faces})
 
 
 def rename_building(project: Project, name: str, new_name: str) -> Project:
@@ -251,7 +257,9 @@ def rename_building(project: Project, name: str, new_name: str) -> Project:
                          allowed="a name no other building has")
     buildings = list(project.buildings)
     buildings[index] = replace(buildings[index], name=new_name)
-    return replace(project, buildings=tuple(buildings))
+    sources = tuple({**src, "items": [new_name if n == name else n for n in src["items"]]}
+                    for src in project.sources)
+    return replace(project, buildings=tuple(buildings), sources=sources)
 
 
 def move_building(project: Project, name: str, *, east_m: float = 0.0, north_m: float = 0.0,
@@ -302,7 +310,10 @@ def move_building(project: Project, name: str, *, east_m: float = 0.0, north_m: 
     obstructions = tuple(_carried(ob, carry)
                          if any(roof_mounted(face, ob) for face in building.faces) else ob
                          for ob in project.obstructions)
-    return replace(project, buildings=tuple(buildings), obstructions=obstructions)
+    changed = bool(east_m or north_m or turn_deg)  # a zero move still rounds the corners
+    # what it carried keeps its source: where it stands on the roof is what was read
+    return replace(project, buildings=tuple(buildings), obstructions=obstructions).unmarked(
+        {name, *building.face_names} if changed else ())
 
 
 def _carried(obstruction, carry):
@@ -370,7 +381,8 @@ def edit_face(project: Project, face_name: str, *, pitch_deg: float | None = Non
     faces[f_index] = new_face
     buildings = list(project.buildings)
     buildings[b_index] = replace(building, faces=tuple(faces))
-    return replace(project, buildings=tuple(buildings))
+    return replace(project, buildings=tuple(buildings)).unmarked(
+        {face_name, building.name} if new_face != face else ())
 
 
 def _find_face(project: Project, face_name: str) -> tuple[int, int]:

@@ -208,3 +208,41 @@ def test_edits_of_one_thing_in_a_row_are_one_step(demo):
     history.redo()
     history.record(edit_face(steps[-1], name, pitch_deg=30.0), "pitch 30", key=("face", name))
     assert history.depth == (2, 0)
+
+
+def _imported(demo):
+    """The demo with its building and obstructions listed as from elevation data."""
+    building = demo.buildings[0]
+    note = "from elevation data, not surveyed"
+    names = [building.name, *building.face_names, *(o.name for o in demo.obstructions)]
+    return demo.with_changes(sources=({"kind": "elevation data", "note": note,
+                                       "items": names},)), building, note
+
+
+def test_a_changed_imported_face_or_building_loses_its_source_note(demo):
+    project, building, note = _imported(demo)
+    face = building.faces[0]
+    # a face edited by hand: it and its building lose the note, the other faces keep it
+    edited = edit_face(project, face.name, pitch_deg=face.pitch_deg + 5.0)
+    assert edited.source_of(face.name) is None and edited.source_of(building.name) is None
+    assert all(edited.source_of(f.name) == note for f in building.faces[1:])
+    # typed again as it was: nothing changed, nothing unmarked
+    same = edit_face(project, face.name, pitch_deg=face.pitch_deg)
+    assert same.sources == project.sources
+    # moved: the building and every face of it; not moved at all: kept
+    moved = move_building(project, building.name, east_m=0.5)
+    assert all(moved.source_of(n) is None for n in (building.name, *building.face_names))
+    assert move_building(project, building.name).sources == project.sources
+    # obstructions are not touched by roof edits
+    assert moved.source_of(demo.obstructions[0].name) == note
+
+
+def test_a_renamed_imported_building_stays_marked_and_a_deleted_one_leaves_no_name(demo):
+    project, building, note = _imported(demo)
+    renamed = rename_building(project, building.name, "main house")
+    assert renamed.source_of("main house") == note and renamed.source_of(building.name) is None
+    gone = remove_building(project, building.name)
+    assert all(gone.source_of(n) is None for n in (building.name, *building.face_names))
+    # a building drawn later under the old name is not taken for the imported one
+    again = add_building(gone, replace(_garage(east=0.0), name=building.name))
+    assert again.source_of(building.name) is None
