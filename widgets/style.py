@@ -12,10 +12,7 @@ from __future__ import annotations
 from layout.report import colours as _palette
 from layout.report.colours import *  # noqa: F403 - the palette, passed on whole
 
-__all__ = [*_palette.__all__, "DATA_EDGE", "PREVIEW_EDGE"]
+__all__ = [*_palette.__all__, "PREVIEW_EDGE"]
 
 #: A building being typed in the Roof tab, drawn dashed before it is added (planner only).
 PREVIEW_EDGE = "#2f6f9f"
-#: Faces and obstructions from elevation data, not surveyed: a dotted outline over their own
-#: (planner only), a muted umber that no other mark of the plan uses.
-DATA_EDGE = "#8a6a3e"
