@@ -30,6 +30,7 @@ import time
 from collections import OrderedDict
 from collections.abc import Callable
 from dataclasses import dataclass, fields, is_dataclass
+from functools import cached_property
 
 import numpy as np
 import pandas as pd
@@ -86,9 +87,10 @@ class Evaluation:
     totals : dict
         Layout totals (:func:`layout.power.metrics.layout_totals`).
     monthly : pandas.DataFrame
-        Energy and shade loss by month.
+        Energy and shade loss by month (summed when first read: a drag's previews never read
+        it).
     month_hour : pandas.DataFrame
-        Shade loss by month (rows) and hour (columns).
+        Shade loss by month (rows) and hour (columns), summed when first read.
     """
 
     project: object
@@ -103,8 +105,23 @@ class Evaluation:
     power: DcPower | None
     table: pd.DataFrame
     totals: dict
-    monthly: pd.DataFrame
-    month_hour: pd.DataFrame
+
+    @cached_property
+    def monthly(self) -> pd.DataFrame:
+        """Energy and shade loss by month for the whole layout."""
+        if self.power is None:
+            return pd.DataFrame({"energy_kwh": 0.0, "energy_unshaded_kwh": 0.0,
+                                 "shade_loss_pct": np.nan},
+                                index=pd.RangeIndex(1, 13, name="month"))
+        return monthly_table(self.power, step_minutes=self.weather.step_minutes)
+
+    @cached_property
+    def month_hour(self) -> pd.DataFrame:
+        """Shade loss by month (rows) and hour (columns) for the whole layout."""
+        if self.power is None:
+            return pd.DataFrame(np.nan, index=pd.RangeIndex(1, 13, name="month"),
+                                columns=pd.RangeIndex(0, 24, name="hour"))
+        return month_hour_loss(self.power)
 
     def module_monthly(self, module_id: str) -> pd.DataFrame:
         """Energy and shade loss by month for one module."""
@@ -415,25 +432,15 @@ class Analysis:
     def _tables(self, project, layout, areas, modules) -> Evaluation:
         step = self._weather.step_minutes
         energy = project.energy
-        if modules:
-            table = module_table(self._power, self._irradiance, modules, step_minutes=step,
-                                 best=self._best)
-            monthly = monthly_table(self._power, step_minutes=step)
-            month_hour = month_hour_loss(self._power)
-        else:
-            table = empty_module_table()
-            monthly = pd.DataFrame({"energy_kwh": 0.0, "energy_unshaded_kwh": 0.0,
-                                    "shade_loss_pct": np.nan},
-                                   index=pd.RangeIndex(1, 13, name="month"))
-            month_hour = pd.DataFrame(np.nan, index=pd.RangeIndex(1, 13, name="month"),
-                                      columns=pd.RangeIndex(0, 24, name="hour"))
+        table = module_table(self._power, self._irradiance, modules, step_minutes=step,
+                             best=self._best) if modules else empty_module_table()
         totals = layout_totals(table, power_w=project.module.power_w,
                                tsrf_threshold_pct=energy.tsrf_threshold_pct)
         return Evaluation(project=project, layout=layout, areas=areas, modules=tuple(modules),
                           weather=self._weather, best=self._best, shade=self._shade,
                           sky_view=self._sky if self._sky is not None else np.zeros(0),
                           irradiance=self._irradiance, power=self._power, table=table,
-                          totals=totals, monthly=monthly, month_hour=month_hour)
+                          totals=totals)
 
 
 def _array_bytes(item, depth: int = 2) -> int:
