@@ -10,6 +10,12 @@ pathways on a deleted building's faces are dropped with it, and a moved or turne
 them (they are in each face's own roof-plane coordinates, which turn with the face). A changed
 face keeps its pathway; removals on it are kept and re-checked by the next fill, which drops
 those no longer under a module and says so in its notes.
+
+An imported building or face (listed in the project's ``sources``, e.g. "from elevation data,
+not surveyed") that an edit changes is no longer as its source gave it: the edit takes it off
+the list (:meth:`~layout.project.Project.unmarked`), and a deleted building's names go with
+it, so that a building drawn later under the same name is not taken for the imported one. A
+renamed building stays listed under its new name.
 """
 
 from __future__ import annotations
@@ -20,8 +26,10 @@ import numpy as np
 import shapely
 
 from .errors import InputError, check_finite
+from .fill.usable import roof_mounted
 from .project import Project
 from .scene.building import OVERLAP_TOLERANCE_M2, Building
+from .scene.obstructions import Block, Cylinder, Plate
 from .scene.roof import EDGE_KINDS, RoofFace, building_to_site
 from .scene.site import Site, timezone_at
 
@@ -222,7 +230,7 @@ def add_face(project: Project, building_name: str, face: RoofFace) -> Project:
     _check_clear_of_others(project, grown, skip=building_name)
     buildings = list(project.buildings)
     buildings[index] = grown
-    return replace(project, buildings=tuple(buildings))
+    return replace(project, buildings=tuple(buildings)).unmarked({building_name})
 
 
 def remove_building(project: Project, name: str) -> Project:
@@ -238,7 +246,7 @@ def remove_building(project: Project, name: str) -> Project:
     removed = tuple(r for r in project.removed if r[0] not in faces)
     buildings = project.buildings[:index] + project.buildings[index + 1:]
     return replace(project, buildings=buildings, array_faces=array_faces, pathways=pathways,
-                   removed=removed)
+                   removed=removed).unmarked({name, *faces})
 
 
 def rename_building(project: Project, name: str, new_name: str) -> Project:
@@ -249,12 +257,19 @@ def rename_building(project: Project, name: str, new_name: str) -> Project:
                          allowed="a name no other building has")
     buildings = list(project.buildings)
     buildings[index] = replace(buildings[index], name=new_name)
-    return replace(project, buildings=tuple(buildings))
+    sources = tuple({**src, "items": [new_name if n == name else n for n in src["items"]]}
+                    for src in project.sources)
+    return replace(project, buildings=tuple(buildings), sources=sources)
 
 
 def move_building(project: Project, name: str, *, east_m: float = 0.0, north_m: float = 0.0,
                   turn_deg: float = 0.0) -> Project:
     """Return the project with a building moved and turned as one rigid body.
+
+    What stands on its roof (chimneys, vents, units: every obstruction of the project that is
+    roof-mounted on one of its faces, :func:`layout.fill.usable.roof_mounted`) moves with it.
+    Survey readings stay as they were measured: they describe the real site, so a reading of a
+    rooftop item is re-entered if the building was first drawn in the wrong place.
 
     Parameters
     ----------
@@ -279,17 +294,40 @@ def move_building(project: Project, name: str, *, east_m: float = 0.0, north_m: 
     index = _index(project, name)
     building = project.buildings[index]
     centre = np.array(building.footprint.centroid.coords[0])
-    faces = []
-    for face in building.faces:
-        local = np.asarray(face.outline) - centre  # a turn about the centre: building axes
-        outline = building_to_site(local, turn_deg, centre + np.array([east_m, north_m]))
-        faces.append(replace(face, outline=tuple(map(tuple, outline)),
-                             azimuth_deg=(face.azimuth_deg + turn_deg) % 360.0))
+
+    def carry(points) -> tuple:
+        local = np.asarray(points, dtype=float) - centre  # a turn about the centre
+        moved = building_to_site(local, turn_deg, centre + np.array([east_m, north_m]))
+        return tuple(map(tuple, moved))
+
+    faces = [replace(face, outline=carry(face.outline),
+                     azimuth_deg=(face.azimuth_deg + turn_deg) % 360.0)
+             for face in building.faces]
     moved = replace(building, faces=tuple(faces))
     _check_clear_of_others(project, moved, skip=name)
     buildings = list(project.buildings)
     buildings[index] = moved
-    return replace(project, buildings=tuple(buildings))
+    obstructions = tuple(_carried(ob, carry)
+                         if any(roof_mounted(face, ob) for face in building.faces) else ob
+                         for ob in project.obstructions)
+    changed = bool(east_m or north_m or turn_deg)  # a zero move still rounds the corners
+    # what it carried keeps its source: where it stands on the roof is what was read
+    return replace(project, buildings=tuple(buildings), obstructions=obstructions).unmarked(
+        {name, *building.face_names} if changed else ())
+
+
+def _carried(obstruction, carry):
+    """Return a rooftop obstruction moved by ``carry`` (plan points to plan points)."""
+    if isinstance(obstruction, Block):
+        return replace(obstruction, footprint=carry(obstruction.footprint))
+    if isinstance(obstruction, Cylinder):
+        return replace(obstruction, center=carry([obstruction.center])[0])
+    if isinstance(obstruction, Plate):
+        corners = np.asarray(obstruction.corners, dtype=float)
+        plan = np.asarray(carry(corners[:, :2]))
+        return replace(obstruction, corners=tuple(map(tuple, np.column_stack([plan,
+                                                                              corners[:, 2]]))))
+    return obstruction  # nothing else stands on a roof (a tree's crown only hangs over it)
 
 
 def edit_face(project: Project, face_name: str, *, pitch_deg: float | None = None,
@@ -343,7 +381,8 @@ def edit_face(project: Project, face_name: str, *, pitch_deg: float | None = Non
     faces[f_index] = new_face
     buildings = list(project.buildings)
     buildings[b_index] = replace(building, faces=tuple(faces))
-    return replace(project, buildings=tuple(buildings))
+    return replace(project, buildings=tuple(buildings)).unmarked(
+        {face_name, building.name} if new_face != face else ())
 
 
 def _find_face(project: Project, face_name: str) -> tuple[int, int]:

@@ -198,6 +198,18 @@ class Project:
                 return source["note"]
         return None
 
+    def unmarked(self, names) -> Project:
+        """Return a copy whose ``sources`` no longer list ``names``.
+
+        For items changed by hand (a face edited, a building moved, an obstruction dragged):
+        they are no longer as the source gave them, so they lose its note.
+        """
+        names = set(names)
+        if not any(name in source["items"] for source in self.sources for name in names):
+            return self
+        return replace(self, sources=tuple(
+            {**s, "items": [n for n in s["items"] if n not in names]} for s in self.sources))
+
     def with_changes(self, **changes) -> Project:
         """Return a copy with some fields replaced (the project itself never changes)."""
         return replace(self, **changes)

@@ -167,9 +167,7 @@ def with_obstructions(project: Project, obstructions) -> Project:
     before = {getattr(o, "name", ""): o for o in project.obstructions}
     after = {getattr(o, "name", ""): o for o in obstructions}
     changed = {name for name, old in before.items() if after.get(name) != old}
-    sources = tuple({**s, "items": [n for n in s["items"] if n not in changed]}
-                    for s in project.sources)
-    return project.with_changes(obstructions=obstructions, sources=sources)
+    return project.with_changes(obstructions=obstructions).unmarked(changed)
 
 
 def survey_against_elevation(project: Project) -> list:

@@ -3,7 +3,8 @@
 Voila serves the packaged planner notebook with ``EAVELINE_NEW`` set, as ``python -m widgets
 --new`` does; headless Chromium (through Playwright) types a site, builds a 40 × 28 ft hip roof
 at 6 in 12 from the template form, adds a surveyed tree south of it, reads a shade loss above
-zero, undoes twice (the tree, then the building and its modules go) and redoes once.
+zero, undoes twice (the tree with the button, then the building and its modules with Ctrl+Z
+over the plan) and redoes once (Ctrl+Shift+Z).
 
 Outside reference: the hip roof's module count is the one the core's own fill gives for the same
 typed values (:func:`layout.fill.placement.fill_building` on the template's building), and the
@@ -106,13 +107,18 @@ def test_a_hip_roof_from_the_template_a_tree_and_undo(new_project_url, tmp_path)
                 "() => parseFloat(document.querySelector('.eaveline-shade-loss').innerText)"
                 " === 0", timeout=30_000)
             assert _count(page) == filled
-            undo.click()  # the building and its modules go
+            # the keys, with the pointer over the plan (widgets/undo_keys.py)
+            plan = page.locator(".eaveline-plan")
+            plan.scroll_into_view_if_needed()
+            plan.hover()
+            page.keyboard.press("Control+z")  # the building and its modules go
             expect(page.locator(".eaveline-count")).to_contain_text(NONE, timeout=30_000)
-            redo.click()
+            plan.hover()
+            page.keyboard.press("Control+Shift+z")
             page.wait_for_function(
                 f"() => /^\\s*{filled}\\s+modules/.test("
                 "document.querySelector('.eaveline-count').innerText)", timeout=30_000)
-            expect(redo).to_be_enabled()
+            expect(redo).to_be_enabled()  # the tree can come back too
         finally:
             browser.close()
 

@@ -82,6 +82,35 @@ def test_moving_and_turning_keeps_lengths_areas_and_turns_azimuths(demo):
     assert project.buildings[-1] is before
 
 
+def test_what_stands_on_a_moved_roof_moves_with_it_and_the_fill_is_the_same(demo):
+    from layout.fill.usable import roof_mounted
+
+    house = demo.buildings[0]
+    centre = np.array(house.footprint.centroid.coords[0])
+    on_roof = [any(roof_mounted(f, ob) for f in house.faces) for ob in demo.obstructions]
+    assert any(on_roof) and not all(on_roof)  # the demo's chimney and vent; a tree, a garage
+    moved = move_building(demo, house.name, east_m=6.0, north_m=-2.5, turn_deg=25.0)
+    new_centre = centre + np.array([6.0, -2.5])
+    for ob, new, carried in zip(demo.obstructions, moved.obstructions, on_roof, strict=True):
+        if not carried:
+            assert new is ob
+            continue
+        assert any(roof_mounted(f, new) for f in moved.buildings[0].faces), ob.name
+        assert (new.top, new.base) == (ob.top, ob.base)
+        # a rigid motion: the footprint's distance from the roof's centre is kept, and the
+        # direction to it turns by the building's turn (plane geometry)
+        a = np.asarray(ob.footprint_polygon.centroid.coords[0]) - centre
+        b = np.asarray(new.footprint_polygon.centroid.coords[0]) - new_centre
+        assert np.hypot(*b) == pytest.approx(np.hypot(*a), abs=1e-9)
+        turn = np.degrees(np.arctan2(a[0], a[1]) - np.arctan2(b[0], b[1])) % 360
+        assert turn == pytest.approx(360 - 25.0, abs=1e-6)  # compass turn, clockwise
+    # the modules keep their places on the faces: the same count, the same roof coordinates
+    before, after = demo.layout(), moved.layout()
+    assert after.count == before.count > 0
+    assert sorted((m.face, round(m.row), round(m.column)) for m in after.modules) == \
+        sorted((m.face, round(m.row), round(m.column)) for m in before.modules)
+
+
 def test_edit_face_changes_one_face_and_names_bad_values(demo):
     face = demo.buildings[0].faces[0]
     steeper = edit_face(demo, face.name, pitch_deg=40.0, eave_height_m=4.0)
@@ -179,3 +208,41 @@ def test_edits_of_one_thing_in_a_row_are_one_step(demo):
     history.redo()
     history.record(edit_face(steps[-1], name, pitch_deg=30.0), "pitch 30", key=("face", name))
     assert history.depth == (2, 0)
+
+
+def _imported(demo):
+    """The demo with its building and obstructions listed as from elevation data."""
+    building = demo.buildings[0]
+    note = "from elevation data, not surveyed"
+    names = [building.name, *building.face_names, *(o.name for o in demo.obstructions)]
+    return demo.with_changes(sources=({"kind": "elevation data", "note": note,
+                                       "items": names},)), building, note
+
+
+def test_a_changed_imported_face_or_building_loses_its_source_note(demo):
+    project, building, note = _imported(demo)
+    face = building.faces[0]
+    # a face edited by hand: it and its building lose the note, the other faces keep it
+    edited = edit_face(project, face.name, pitch_deg=face.pitch_deg + 5.0)
+    assert edited.source_of(face.name) is None and edited.source_of(building.name) is None
+    assert all(edited.source_of(f.name) == note for f in building.faces[1:])
+    # typed again as it was: nothing changed, nothing unmarked
+    same = edit_face(project, face.name, pitch_deg=face.pitch_deg)
+    assert same.sources == project.sources
+    # moved: the building and every face of it; not moved at all: kept
+    moved = move_building(project, building.name, east_m=0.5)
+    assert all(moved.source_of(n) is None for n in (building.name, *building.face_names))
+    assert move_building(project, building.name).sources == project.sources
+    # obstructions are not touched by roof edits
+    assert moved.source_of(demo.obstructions[0].name) == note
+
+
+def test_a_renamed_imported_building_stays_marked_and_a_deleted_one_leaves_no_name(demo):
+    project, building, note = _imported(demo)
+    renamed = rename_building(project, building.name, "main house")
+    assert renamed.source_of("main house") == note and renamed.source_of(building.name) is None
+    gone = remove_building(project, building.name)
+    assert all(gone.source_of(n) is None for n in (building.name, *building.face_names))
+    # a building drawn later under the old name is not taken for the imported one
+    again = add_building(gone, replace(_garage(east=0.0), name=building.name))
+    assert again.source_of(building.name) is None

@@ -7,8 +7,10 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
 import pytest
 
+from layout.edits import edit_face
 from layout.elevation import PROVENANCE, import_elevation, synthetic
 from layout.project_imports import project_from_scene
 from layout.scene.survey import Reading, SurveyEntry
@@ -109,3 +111,47 @@ def test_survey_tab_shows_each_entry_against_the_elevation_data(planner, tile):
     assert planner.set_project(planner.project.with_changes(survey=(entry,)))
     text = planner.survey.crosscheck_html.value
     assert "big lime DIFFERS with tree 1" in text and "#a33" in text
+
+
+def _data_rings(plan):
+    """The dotted outlines the plan draws (display units), padding points dropped."""
+    return [np.unique(np.column_stack([x, y]), axis=0)
+            for x, y in zip(plan.data_marks.x, plan.data_marks.y, strict=True)]
+
+
+def test_plan_marks_faces_and_obstructions_from_elevation_data(planner, tile):
+    # the whole import as a project: every face and obstruction marked in its sources
+    scene = import_elevation(tile, radius_m=40.0, **SITE)
+    project = project_from_scene(scene, latitude=SITE["site_latitude"],
+                                 longitude=SITE["site_longitude"], timezone="Europe/Zurich")
+    assert planner.set_project(project)
+    plan = planner.plan
+    drawn = [o for o in project.obstructions if hasattr(o, "translated")]  # not the horizon
+    rings = _data_rings(plan)
+    assert len(rings) == len(project.faces) + len(drawn)
+    # each face's dotted outline runs through the corners of that face (metric project: m)
+    for face in project.faces:
+        corners = np.unique(np.asarray(face.outline), axis=0)
+        assert any(r.shape == corners.shape and np.allclose(r, corners) for r in rings)
+    names = list(plan.obstruction_markers.names)
+    assert all(name.endswith(f"({PROVENANCE})") for name in names)
+    # the key says what the dotted outline means
+    assert PROVENANCE in plan.key.table.value
+    # a tree moved by hand is no longer as the data gave it: its outline and note go
+    index = next(i for i, o in enumerate(planner.project.obstructions) if o.name == "tree 2")
+    moved, _, _ = planner._moved_project(index, 0.0, -25.0)
+    assert planner.set_project(moved)
+    assert len(_data_rings(plan)) == len(project.faces) + len(drawn) - 1
+    names = list(plan.obstruction_markers.names)
+    assert "tree 2" in names and sum(PROVENANCE in n for n in names) == len(drawn) - 1
+    # a face typed over in the Roof tab (layout.edits.edit_face) loses its outline too
+    face = project.faces[0]
+    assert planner.set_project(edit_face(planner.project, face.name,
+                                         pitch_deg=face.pitch_deg + 2.0))
+    assert len(_data_rings(plan)) == len(project.faces) - 1 + len(drawn) - 1
+
+
+def test_a_drawn_project_has_no_data_marks(planner):
+    assert planner.set_project(planner.project.with_changes(obstructions=(), sources=()))
+    assert _data_rings(planner.plan) == []
+    assert not any(PROVENANCE in label for label, _ in planner.objects.choice.options)

@@ -26,5 +26,6 @@ def test_metric_lengths_become_feet_and_inches(metric, imperial):
 def test_the_key_names_every_mark_the_plan_draws():
     meanings = " ".join(text for _, text in key_lines())
     for mark in ("thick outline", "hollow dashed", "hatched", "tree", "dark dot", "hollow ring",
-                 "diamond", "drag it to move that building", "dashed outline", "shadow"):
+                 "diamond", "drag it to move that building", "dashed outline", "shadow",
+                 "from elevation data, not surveyed"):
         assert mark in meanings

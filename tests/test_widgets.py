@@ -651,7 +651,8 @@ def test_previews_during_a_drag_are_spaced_out(planner, demo):
     # the interval after it has passed)
     calls = []
     original = planner.analysis.update
-    planner.analysis.update = lambda project: calls.append(project) or original(project)
+    planner.analysis.update = (lambda project, **options: calls.append(project)
+                               or original(project, **options))
     try:
         drag_message(planner, TREE, -1.0 / FOOT_M, -6.0 / FOOT_M, event="drag_start")
         for k in range(5):

@@ -6,6 +6,8 @@ from collections.abc import Callable
 
 import ipywidgets as w
 
+from .undo_keys import UNDO_KEYS_HINT
+
 __all__ = ["HistoryBar"]
 
 
@@ -44,8 +46,9 @@ class HistoryBar(w.HBox):
         behind, _ = history.depth
         self.undo_button.disabled = not history.can_undo
         self.redo_button.disabled = not history.can_redo
-        self.undo_button.tooltip = (f"Undo: {history.undo_label} ({behind} step"
-                                    f"{'s' if behind != 1 else ''} back)"
-                                    if history.can_undo else "Nothing to undo")
-        self.redo_button.tooltip = (f"Redo: {history.redo_label}" if history.can_redo
-                                    else "Nothing to redo")
+        undo = (f"Undo: {history.undo_label} ({behind} step{'s' if behind != 1 else ''} back)"
+                if history.can_undo else "Nothing to undo")
+        redo = f"Redo: {history.redo_label}" if history.can_redo else "Nothing to redo"
+        # one assignment each: a tooltip that does not change sends nothing to the browser
+        self.undo_button.tooltip = f"{undo}. Keys: {UNDO_KEYS_HINT}"
+        self.redo_button.tooltip = f"{redo}. Keys: {UNDO_KEYS_HINT}"

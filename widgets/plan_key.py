@@ -11,10 +11,12 @@ from . import style
 __all__ = ["PlanKey", "key_lines"]
 
 
-def _swatch(fill: str, edge: str, *, dashed: bool = False, width: int = 1, hatch: bool = False,
-            round_: bool = False, opacity: float = 1.0) -> str:
+def _swatch(fill: str, edge: str, *, dashed: bool = False, width: float = 1,
+            hatch: bool = False, round_: bool = False, opacity: float = 1.0,
+            dotted: bool = False) -> str:
     """Return a small inline SVG of a mark, 22 × 14 px."""
-    dash = " stroke-dasharray='3,2'" if dashed else ""
+    dash = (" stroke-dasharray='3,2'" if dashed else
+            " stroke-dasharray='1.5,2.5' stroke-linecap='round'" if dotted else "")
     shape = (f"<circle cx='11' cy='7' r='5' fill='{fill}' fill-opacity='{opacity}' "
              f"stroke='{edge}' stroke-width='{width}'{dash}/>" if round_ else
              f"<rect x='2' y='2' width='18' height='10' fill='{fill}' fill-opacity='{opacity}' "
@@ -41,6 +43,9 @@ def key_lines() -> list[tuple[str, str]]:
          "dark grey: a block (chimney, vent, wall, rooftop unit, neighbouring building)"),
         (_swatch(style.TREE_FILL, style.TREE_EDGE, dashed=True, round_=True, opacity=0.6),
          "dash-dotted disc: a tree's crown"),
+        (_swatch("#fbfbf8", style.DATA_EDGE, dotted=True, width=2.2),
+         "dotted umber outline: a roof face or obstruction from elevation data, not surveyed "
+         "(as the data gave it; check it on site)"),
         (_swatch(style.INK, "white", round_=True),
          "dark dot: drag it to move that obstruction"),
         (_swatch("white", style.INK, round_=True, width=2),

@@ -14,11 +14,13 @@ import numpy as np
 import shapely
 from shapely.ops import polylabel
 
+from layout.elevation import PROVENANCE
 from layout.report.plan import zone_category
 from layout.units import FOOT_M
 
 __all__ = [
     "PlanScene",
+    "data_rings",
     "edge_label_rotation",
     "exteriors",
     "footprint_rings",
@@ -87,6 +89,9 @@ class PlanScene:
     surveyed : tuple of (int, str, bool, shapely geometry, (float, float), (float, float))
         Index in ``project.survey``, label, whether it is a tree, plan footprint [m], the
         sighted axis [m] and the station the readings were taken from [m].
+    from_data : tuple of (str, shapely geometry)
+        Name and plan outline [m] of each roof face and obstruction the project holds "from
+        elevation data, not surveyed" (its ``sources``), as the data gave it.
     """
 
     faces: tuple
@@ -96,6 +101,7 @@ class PlanScene:
     modules: tuple
     obstructions: tuple
     surveyed: tuple = ()
+    from_data: tuple = ()
 
     def bounds(self) -> tuple[float, float, float, float]:
         """``(xmin, ymin, xmax, ymax)`` of everything drawn [m]."""
@@ -151,9 +157,14 @@ def plan_scene(project, layout, areas: dict) -> PlanScene:
          type(o).__name__ == "Tree", o.footprint_polygon, obstruction_anchor(o),
          (float(entry.station_x_m), float(entry.station_y_m)))
         for i, (entry, o) in enumerate(zip(project.survey, built, strict=True)))
+    from_data = tuple((name, shapely.Polygon(ring)) for name, ring in faces
+                      if project.source_of(name) == PROVENANCE)
+    from_data += tuple((label, footprint) for i, label, _, footprint, _ in obstructions
+                       if project.source_of(getattr(project.obstructions[i], "name", ""))
+                       == PROVENANCE)
     return PlanScene(faces=tuple(faces), edges=tuple(edges), zones=tuple(zones),
                      usable=tuple(usable), modules=modules, obstructions=obstructions,
-                     surveyed=surveyed)
+                     surveyed=surveyed, from_data=from_data)
 
 
 def footprint_rings(scene: PlanScene) -> tuple[list, list]:
@@ -163,6 +174,11 @@ def footprint_rings(scene: PlanScene) -> tuple[list, list]:
     solids = [r for tree, fp in every if not tree for r in polygon_rings(fp)]
     crowns = [r for tree, fp in every if tree for r in polygon_rings(fp)]
     return solids, crowns
+
+
+def data_rings(scene: PlanScene) -> list[np.ndarray]:
+    """Outer rings of the faces and obstructions from elevation data [m]."""
+    return [ring for _, outline in scene.from_data for ring in exteriors(outline)]
 
 
 # --------------------------------------------------------------------------- drawing helpers

@@ -6,6 +6,10 @@ metres or in feet as the project asks. The view only draws what the core compute
 reports three gestures back to its owner: an obstruction marker dropped at a new place, a
 click on a module, and a click on a surveyed obstruction. It never changes the project itself.
 
+Faces and obstructions the project holds from elevation data (its ``sources``) get a dotted
+umber outline over their own, and their markers say so on hover: they are as the data gave
+them, not surveyed.
+
 Surveyed obstructions (:attr:`layout.project.Project.survey`) are drawn like the others, from
 the obstruction their nominal readings build, and marked as surveyed: a hollow ring at the
 sighted axis, a small triangle at the station and a dotted sight line between them. They are
@@ -24,12 +28,14 @@ import ipywidgets as w
 import numpy as np
 import shapely
 
+from layout.elevation import PROVENANCE
 from layout.units import format_length
 
 from . import style
 from .plan_key import PlanKey
 from .plan_scene import (
     PlanScene,
+    data_rings,
     edge_label_rotation,
     exteriors,
     footprint_rings,
@@ -60,6 +66,13 @@ FIGURE_HEIGHT_PX = 560
 FIGURE_MARGIN_PX = {"top": 16, "bottom": 48, "left": 64, "right": 88}
 #: Clear border around the drawing [m].
 BORDER_M = 1.0
+
+
+def _marker_names(scene: PlanScene) -> list[str]:
+    """Hover text of each obstruction marker: its label, and where it came from if data."""
+    from_data = {name for name, _ in scene.from_data}
+    return [f"{label} ({PROVENANCE})" if label in from_data else label
+            for _, label, *_ in scene.obstructions]
 
 
 class PlanView(Quiet, w.VBox):
@@ -143,6 +156,8 @@ class PlanView(Quiet, w.VBox):
                                 fill="inside", fill_colors=[style.TREE_FILL],
                                 fill_opacities=[0.6], line_style="dash_dotted")
         self.flag_marks = lines(colors=[style.FLAG_EDGE], stroke_width=3.5, close_path=True)
+        self.data_marks = lines(colors=[style.DATA_EDGE], stroke_width=2.2, close_path=True,
+                                line_style="dotted")
         self.shadow_marks = lines(colors=[style.SHADOW_FILL], stroke_width=0.5,
                                   close_path=True, fill="inside",
                                   fill_colors=[style.SHADOW_FILL],
@@ -221,7 +236,8 @@ class PlanView(Quiet, w.VBox):
             marks=[self.face_marks, self.zone_fill_marks, self.hatch_marks, self.usable_marks,
                    self.module_fill_marks, self.removed_marks, self.flag_marks,
                    self.shadow_marks, self.tree_marks, self.obstruction_marks,
-                   self.sight_marks, self.edge_labels, self.face_labels, self.selected_mark,
+                   self.data_marks, self.sight_marks, self.edge_labels, self.face_labels,
+                   self.selected_mark,
                    self.face_targets, self.building_markers, self.module_targets,
                    self.preview_marks, self.draw_lines, self.draw_points, self.first_corner,
                    self.station_marks, self.surveyed_markers, self.obstruction_markers],
@@ -579,7 +595,7 @@ class PlanView(Quiet, w.VBox):
                  self.module_fill_marks, self.removed_marks, self.obstruction_marks,
                  self.tree_marks, self.edge_labels, self.face_labels, self.module_targets,
                  self.obstruction_markers, self.flag_marks, self.selected_mark,
-                 self.surveyed_markers, self.station_marks, self.sight_marks]
+                 self.surveyed_markers, self.station_marks, self.sight_marks, self.data_marks]
         with contextlib.ExitStack() as stack, self._silently():
             for mark in marks:
                 stack.enter_context(mark.hold_sync())
@@ -590,7 +606,8 @@ class PlanView(Quiet, w.VBox):
                                 (self.module_fill_marks, active),
                                 (self.removed_marks, removed),
                                 (self.obstruction_marks, solids),
-                                (self.tree_marks, crowns)):
+                                (self.tree_marks, crowns),
+                                (self.data_marks, data_rings(scene))):
                 mark.x, mark.y = padded_rings(rings, k)
                 if mark.fill == "inside":  # one fill per curve, as drawn by bqplot
                     mark.fill_colors = [self._fills[mark][0]] * max(len(rings), 1)
@@ -610,7 +627,7 @@ class PlanView(Quiet, w.VBox):
             self.module_targets.selected = None
             self.obstruction_markers.x = self._anchors[:, 0].tolist()
             self.obstruction_markers.y = self._anchors[:, 1].tolist()
-            self.obstruction_markers.names = [label for _, label, *_ in scene.obstructions]
+            self.obstruction_markers.names = _marker_names(scene)
             self._draw_surveyed(scene)
             self._paint_modules(scene)
             if self.shadow_outline is not None and refit_shadows:
@@ -631,7 +648,7 @@ class PlanView(Quiet, w.VBox):
         marks = [self.obstruction_marks, self.tree_marks, self.obstruction_markers,
                  self.module_fill_marks, self.module_targets, self.flag_marks,
                  self.selected_mark, self.surveyed_markers, self.station_marks,
-                 self.sight_marks]
+                 self.sight_marks, self.data_marks]
         with contextlib.ExitStack() as stack, self._silently():
             for mark in marks:
                 stack.enter_context(mark.hold_sync())
@@ -639,10 +656,11 @@ class PlanView(Quiet, w.VBox):
                 mark.x, mark.y = padded_rings(rings, k)
                 mark.fill_colors = [self._fills[mark][0]] * max(len(rings), 1)
                 mark.fill_opacities = [self._fills[mark][1]] * max(len(rings), 1)
+            self.data_marks.x, self.data_marks.y = padded_rings(data_rings(scene), k)
             if markers:
                 self.obstruction_markers.x = self._anchors[:, 0].tolist()
                 self.obstruction_markers.y = self._anchors[:, 1].tolist()
-                self.obstruction_markers.names = [label for _, label, *_ in scene.obstructions]
+                self.obstruction_markers.names = _marker_names(scene)
                 self._draw_surveyed(scene)
             self._paint_modules(scene)
         if markers and not self._surveyed_in_view(scene):

@@ -102,6 +102,7 @@ from .strings_panel import StringsPanel
 from .survey_panel import SurveyPanel
 from .timeline import Timeline, roof_shadows
 from .totals import TotalsPanel, module_note
+from .undo_keys import UndoKeys
 
 __all__ = [
     "CAUTIONS",
@@ -243,6 +244,7 @@ class Planner(StringsWiring, LossRangeAndReport, w.VBox):
         self.history_bar.on_redo(self.redo)
 
         self.plan = PlanView()
+        self.undo_keys = UndoKeys(self.plan.figure, self.undo, self.redo)
         self.plan.on_obstruction_moved(self._obstruction_moved)
         self.plan.on_obstruction_drag_start(self._drag_started)
         self.plan.on_obstruction_dragging(self._obstruction_dragging)
@@ -382,6 +384,10 @@ class Planner(StringsWiring, LossRangeAndReport, w.VBox):
         self._progress_done()
         result = self.analysis.result
         previous = self.project
+        # the same fill object (not refilled, or recalled from a state that shared it) and the
+        # same faces: the plan keeps its static drawing and redraws the obstructions only
+        keep = (previous is not None and result.layout is self.array_layout
+                and result.areas is self.areas and previous.faces == project.faces)
         self.project, self.array_layout, self.areas = project, result.layout, result.areas
         self.file_panel.show(project, result.layout)
         self.elevation_panel.show(project)
@@ -393,8 +399,6 @@ class Planner(StringsWiring, LossRangeAndReport, w.VBox):
                                 if len(table) and table["shade_loss_pct"].notna().any()
                                 else (active[0] if active else None))
         self._set_module_figures(redraw=False)
-        keep = (previous is not None and "fill" not in self.analysis.recomputed
-                and previous.faces == project.faces)
         self.plan.draw(plan_scene(project, result.layout, result.areas), units=project.units,
                        keep_static=keep)
         self.plan.show_buildings([b.name for b in project.buildings],
@@ -531,7 +535,7 @@ class Planner(StringsWiring, LossRangeAndReport, w.VBox):
         try:
             preview, label, place = self._moved_project(index, x_m, y_m)
             self._busy_since = time.perf_counter()
-            self.analysis.update(preview)
+            self.analysis.update(preview, remember=False)
         except (InputError, ProjectFileError, OSError, ValueError):
             self._progress_done()
             return  # the analysis keeps its last result; the drop will say what is wrong

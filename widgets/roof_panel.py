@@ -468,11 +468,15 @@ class RoofPanel(Quiet, w.VBox):
             self.eave.input.value = length_text(face.eave_height_m, self.units)
         for row in (self.pitch, self.azimuth, self.eave):
             row.set_error(None)
-        self.edge_box.children = [
-            w.Dropdown(options=list(EDGE_KINDS), value=kind,
-                       description=f"Edge {i} ({length_text(edge.true_length_m, self.units)})",
-                       style={"description_width": "150px"}, layout=w.Layout(width="320px"))
-            for i, (kind, edge) in enumerate(zip(face.edge_kinds, face.edges, strict=True))]
+        shown = [(kind, f"Edge {i} ({length_text(edge.true_length_m, self.units)})")
+                 for i, (kind, edge) in enumerate(zip(face.edge_kinds, face.edges, strict=True))]
+        boxes = list(self.edge_box.children)
+        if len(boxes) != len(shown):  # a face with another edge count: new dropdowns
+            boxes = [w.Dropdown(options=list(EDGE_KINDS), style={"description_width": "150px"},
+                                layout=w.Layout(width="320px")) for _ in shown]
+            self.edge_box.children = boxes
+        for box, (kind, description) in zip(boxes, shown, strict=True):
+            box.value, box.description = kind, description
 
     def apply_face(self) -> bool:
         """Apply the typed pitch, azimuth, eave height and edge kinds to the chosen face."""

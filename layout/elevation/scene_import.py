@@ -20,10 +20,16 @@ from ..scene.obstructions import Block, HorizonProfile, Tree
 from .bumps import RoofBump, roof_bumps
 from .classify import classify_points
 from .faces import faces_from_planes, level_eaves
-from .footprints import footprints_from_points, rectangle_from_points
+from .footprints import fit_sides_to_classes, footprints_from_points, rectangle_from_points
 from .neighbours import neighbour_blocks
 from .planes import segment_planes
-from .pointcloud import CLASS_BUILDING, CLASS_VEGETATION, PointCloud, read_points
+from .pointcloud import (
+    CLASS_BUILDING,
+    CLASS_GROUND,
+    CLASS_VEGETATION,
+    PointCloud,
+    read_points,
+)
 from .terrain import ground_model
 from .trees import find_trees
 
@@ -178,6 +184,10 @@ def scene_from_points(cloud: PointCloud, *, footprint=None, name: str = "house",
             near = is_building & shapely.contains_xy(outline.buffer(1.0), cloud.x, cloud.y)
             outline = rectangle_from_points(cloud.x[near], cloud.y[near],
                                             90.0 - planes[0].azimuth_deg)
+            # each side where roof points give way to ground points (a probit fit), which
+            # places it twice as well as the roof points' quantiles alone
+            outline = fit_sides_to_classes(outline, cloud.x, cloud.y, is_building,
+                                           cls == CLASS_GROUND)
             on_roof = is_building & shapely.contains_xy(outline, cloud.x, cloud.y)
             rx, ry, rz = cloud.x[on_roof], cloud.y[on_roof], z_site[on_roof]
             planes, labels = segment_planes(rx, ry, rz, density=density)

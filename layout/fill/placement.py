@@ -12,6 +12,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable
 from dataclasses import replace
+from functools import lru_cache
 
 import pandas as pd
 
@@ -108,6 +109,21 @@ def _array_faces(building, array_faces) -> tuple:
     return tuple(face for face in building.faces if face.name in wanted)
 
 
+@lru_cache(maxsize=64)
+def _filled_face(face, rules, obstructions, share, edges, module, options, racked, latitude):
+    """Return the usable area of one face and the modules placed in it.
+
+    Every argument is frozen, and the answer depends on nothing else, so recent answers are
+    kept: after an edit of one face (its pitch, say) the building's other faces are not filled
+    again. The modules are a tuple and the usable area is frozen, so a kept answer cannot be
+    changed by its callers.
+    """
+    area = usable_area(face, rules, obstructions, array_share=share, pathway_edges=edges)
+    if racked:
+        return area, tuple(_fill_racked_face(face, area, module, options, latitude))
+    return area, tuple(fill_face(face, area, module, options))
+
+
 def fill_building_with_areas(building, module: ModuleSpec, rules,
                              options: FillOptions | None = None, *,
                              obstructions: Iterable = (), removed: Iterable = (),
@@ -158,15 +174,12 @@ def fill_building_with_areas(building, module: ModuleSpec, rules,
         for face in faces:
             edges = (pathways[face.name],) if face.name in pathways else ()
             try:
-                area = usable_area(face, rules, obstructions, array_share=share,
-                                   pathway_edges=edges)
+                area, modules = _filled_face(face, rules, obstructions, share, edges, module,
+                                             options, face.name in racked, latitude)
             except InputError as err:
                 raise err.at(f"faces[{face.name}]") from None
             areas[face.name] = area
-            if face.name in racked:
-                placed.extend(_fill_racked_face(face, area, module, options, latitude))
-            else:
-                placed.extend(fill_face(face, area, module, options))
+            placed.extend(modules)
         layout = Layout(modules=tuple(placed), removed=tuple(removals))
         return areas, layout
 

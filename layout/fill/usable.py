@@ -71,13 +71,17 @@ _NOT_ROOF_MOUNTED = ("tree",)
 
 
 # --------------------------------------------------------------------------- geometry
-def _arc_polygons(centers: np.ndarray, radii: np.ndarray, angles: np.ndarray) -> np.ndarray:
-    """Circumscribed ARC_SIDES-gons around discs, one flat facing each ``angles`` direction."""
+def _arc_rings(centers: np.ndarray, radii: np.ndarray, angles: np.ndarray) -> np.ndarray:
+    """Corners (n, ARC_SIDES, 2) of circumscribed ARC_SIDES-gons, one flat facing each angle."""
     k = (np.arange(ARC_SIDES) + 0.5) * (2 * math.pi / ARC_SIDES)
     theta = angles[:, None] + k[None, :]
     r = (radii / math.cos(math.pi / ARC_SIDES))[:, None]
-    ring = centers[:, None, :] + r[..., None] * np.stack([np.cos(theta), np.sin(theta)], -1)
-    return shapely.polygons(ring)
+    return centers[:, None, :] + r[..., None] * np.stack([np.cos(theta), np.sin(theta)], -1)
+
+
+def _arc_polygons(centers: np.ndarray, radii: np.ndarray, angles: np.ndarray) -> np.ndarray:
+    """Circumscribed ARC_SIDES-gons around discs, one flat facing each ``angles`` direction."""
+    return shapely.polygons(_arc_rings(centers, radii, angles))
 
 
 def _segment_zones(starts, ends, distances) -> np.ndarray:
@@ -115,13 +119,41 @@ def _rings_of(geometry) -> list[np.ndarray]:
 
 
 def _grow(geometry, distance: float):
-    """``geometry`` grown by ``distance`` [m] with rounded corners (conservative arcs)."""
+    """``geometry`` grown by ``distance`` [m] with rounded corners (conservative arcs).
+
+    The union of the geometry, a band of half-width ``distance`` along every edge and a
+    circumscribed disc at both ends of every edge. A convex polygon (a vent's fine circle, a
+    rectangular chimney) is grown at once as the convex hull of the same pieces' corners,
+    which is their union up to notches between the neighbouring discs of at most
+    ``distance × (1 / cos(π / ARC_SIDES) − 1)`` (0.09 mm on a 0.3 m ring): still a superset,
+    and about thirty times quicker on a vent's 64 edges.
+    """
     if distance <= 0:
         return geometry
+    if isinstance(geometry, shapely.Polygon) and not geometry.interiors \
+            and geometry.area >= shapely.convex_hull(geometry).area * (1.0 - 1e-12):
+        return _grow_convex(np.asarray(geometry.exterior.coords), distance)
     pieces = [geometry]
     for ring in _rings_of(geometry):
         pieces.extend(_segment_zones(ring[:-1], ring[1:], np.full(len(ring) - 1, distance)))
     return shapely.union_all(pieces)
+
+
+def _grow_convex(ring: np.ndarray, distance: float):
+    """Convex hull of a convex ring's corners, its edge bands' and its end discs' [m]."""
+    p0, p1 = ring[:-1], ring[1:]
+    delta = p1 - p0
+    length = np.hypot(delta[:, 0], delta[:, 1])
+    use = length > 0
+    p0, p1, delta, length = p0[use], p1[use], delta[use], length[use]
+    t = delta / length[:, None]
+    d = np.full(len(p0), float(distance))
+    n = np.stack([-t[:, 1], t[:, 0]], axis=1) * d[:, None]
+    angle = np.arctan2(t[:, 0], -t[:, 1])  # direction of the normal (-t_y, t_x)
+    corners = np.concatenate([ring, p0 + n, p1 + n, p1 - n, p0 - n,
+                              _arc_rings(p0, d, angle).reshape(-1, 2),
+                              _arc_rings(p1, d, angle).reshape(-1, 2)])
+    return shapely.convex_hull(shapely.linestrings(corners))  # one geometry: quick
 
 
 def _clean(geometry):

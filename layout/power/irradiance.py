@@ -145,21 +145,31 @@ def plane_of_array(weather: Weather, surface_tilt: float, surface_azimuth: float
     azimuth = _check_angle("surface_azimuth", surface_azimuth, 0.0, 360.0)
     model = _check_model(model)
     sun, data = weather.solar_position, weather.data
+
+    def column(frame, name):
+        # pvlib's formulas on plain arrays: the same numbers as on Series, without pandas'
+        # per-operation cost (a quarter of the time on a year of hours)
+        return frame[name].to_numpy(dtype=float)
+
     kwargs = {}
     if model in ("perez", "haydavies"):
-        kwargs["dni_extra"] = sun["dni_extra"]
+        kwargs["dni_extra"] = column(sun, "dni_extra")
     if model == "perez":
-        kwargs["airmass"] = sun["airmass_relative"]
+        kwargs["airmass"] = column(sun, "airmass_relative")
+    zenith, sun_azimuth = column(sun, "apparent_zenith"), column(sun, "azimuth")
     result = pvlib.irradiance.get_total_irradiance(
-        tilt, azimuth, sun["apparent_zenith"], sun["azimuth"], data["dni"], data["ghi"],
-        data["dhi"], albedo=data["albedo"], model=model, diffuse_components=True, **kwargs)
-    frame = pd.DataFrame(result, index=data.index)
-    for column in ("poa_isotropic", "poa_circumsolar", "poa_horizon"):
-        if column not in frame:
-            frame[column] = 0.0
+        tilt, azimuth, zenith, sun_azimuth, column(data, "dni"), column(data, "ghi"),
+        column(data, "dhi"), albedo=column(data, "albedo"), model=model,
+        diffuse_components=True, **kwargs)
+    steps = (len(data.index),)
+    frame = pd.DataFrame({name: np.broadcast_to(np.asarray(values, dtype=float), steps)
+                          for name, values in result.items()}, index=data.index)
+    for name in ("poa_isotropic", "poa_circumsolar", "poa_horizon"):
+        if name not in frame:
+            frame[name] = 0.0
     # the Perez model is undefined with the sun down (airmass NaN): no sky there
     frame = frame.fillna(0.0)
-    frame["aoi"] = pvlib.irradiance.aoi(tilt, azimuth, sun["apparent_zenith"], sun["azimuth"])
+    frame["aoi"] = pvlib.irradiance.aoi(tilt, azimuth, zenith, sun_azimuth)
     return frame
 
 

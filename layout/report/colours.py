@@ -13,6 +13,7 @@ import numpy as np
 
 __all__ = [
     "CASTER_COLOURS",
+    "DATA_EDGE",
     "FIGURE_SCALE",
     "FLAG_EDGE",
     "INK",
@@ -46,6 +47,10 @@ REMOVED_EDGE = "#8d9695"
 #: Tree crowns: a muted grey-green, light fill.
 TREE_EDGE = "#7c8a72"
 TREE_FILL = "#e3e8de"
+
+#: Faces and obstructions from elevation data, not surveyed: a dotted outline over their own,
+#: a muted umber that no other mark of a plan uses (the planner's and the report's).
+DATA_EDGE = "#8a6a3e"
 
 #: How each kind of zone is drawn: fill colour, fill opacity, and whether it is hatched.
 ZONE_STYLES = {

@@ -95,6 +95,10 @@ def _draw_plan(fig: Figure, drawing) -> None:
                     ha="center", fontsize=6.5, color=colours.INK, zorder=6,
                     bbox={"boxstyle": "round,pad=0.15", "fc": "white", "ec": "none",
                           "alpha": 0.8})
+    for name, outline in drawing.from_data:
+        for ring in _rings(outline):
+            ax.add_patch(Polygon(ring, closed=True, fill=False, edgecolor=colours.DATA_EDGE,
+                                 linewidth=1.3, linestyle=":", zorder=7, gid=f"data:{name}"))
     _north_arrow(fig)
     _scale_bar(ax, drawing, x0 - pad, y0 - pad - 0.04 * (y1 - y0 + 2 * pad), x1 - x0)
     if drawing.modules and np.isfinite(drawing.vmin):

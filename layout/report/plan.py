@@ -68,6 +68,9 @@ class PlanDrawing:
         Ends of the colour scale (NaN when no module has a figure).
     numbered : bool
         Whether the modules' numbers fit inside them at :data:`PLAN_WIDTH_MM`.
+    from_data : tuple of (str, shapely geometry)
+        Name and plan outline [m] of each face and obstruction from elevation data, not
+        surveyed (:data:`layout.elevation.PROVENANCE`), outlined apart on the plan.
     """
 
     faces: tuple
@@ -80,6 +83,7 @@ class PlanDrawing:
     vmin: float
     vmax: float
     numbered: bool = True
+    from_data: tuple = ()
 
     @property
     def unit(self) -> tuple[str, float]:
@@ -162,15 +166,23 @@ def plan_drawing(evaluation, *, metric: str = "shade_loss_pct") -> PlanDrawing:
                     for k, m in enumerate(evaluation.modules))
     removed = tuple(np.asarray(m.corners_3d, dtype=float)[:, :2]
                     for m in evaluation.layout.removed_modules)
+    rows = [(label, ob) for label, _, ob, _ in obstruction_rows(project)
+            if hasattr(ob, "footprint_polygon")]
     obstructions = tuple((label, type(ob).__name__ == "Tree", ob.footprint_polygon)
-                         for label, _, ob, _ in obstruction_rows(project)
-                         if hasattr(ob, "footprint_polygon"))
+                         for label, ob in rows)
+    from ..elevation import PROVENANCE  # here: the elevation stage loads pyproj
+
+    from_data = tuple((face.name, shapely.Polygon(face.outline)) for face in project.faces
+                      if project.source_of(face.name) == PROVENANCE)
+    from_data += tuple((label, ob.footprint_polygon) for label, ob in rows
+                       if project.source_of(getattr(ob, "name", "")) == PROVENANCE)
     finite = values[np.isfinite(values)]
     low = float(finite.min()) if len(finite) else float("nan")
     high = float(finite.max()) if len(finite) else float("nan")
     drawing = PlanDrawing(faces=faces, zones=tuple(zones), modules=modules, removed=removed,
                           obstructions=obstructions, units=project.units,
-                          metric_label=PLAN_METRICS[metric], vmin=low, vmax=high)
+                          metric_label=PLAN_METRICS[metric], vmin=low, vmax=high,
+                          from_data=from_data)
     fits = number_font(drawing, width_in=PLAN_WIDTH_MM / 25.4) is not None
     return replace(drawing, numbered=fits)
 
@@ -191,6 +203,11 @@ def layout_section(evaluation, *, metric: str = "shade_loss_pct") -> Section:
     caption = (f"Plan of the roof faces seen from above, north up; scale bar in {unit}. "
                "Hatched: setbacks, access pathways and clearances; grey: obstructions; dashed: "
                "modules taken out.")
+    if drawing.from_data:
+        from ..elevation import PROVENANCE
+
+        caption += (f" Dotted umber outline: {PROVENANCE} ("
+                    + ", ".join(name for name, _ in drawing.from_data) + ").")
     return Section("layout", "The layout", (
         Figure("plan", drawing, caption=caption, key="plan"),
         Paragraph(scale),

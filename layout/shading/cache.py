@@ -7,6 +7,8 @@ recompute.
 
 from __future__ import annotations
 
+from collections import OrderedDict
+
 import numpy as np
 
 from ..errors import InputError, check_positive
@@ -17,7 +19,10 @@ from .point_groups import _point_groups
 from .rays import RAY_START_M, _check_points, _check_sun
 from .sun_sectors import _sun_order
 
-__all__ = ["ShadeCache"]
+__all__ = ["KEEP_DROPPED", "ShadeCache"]
+
+#: Obstructions whose hits a cache keeps after they leave its list (a moved one's old place).
+KEEP_DROPPED = 8
 
 
 class ShadeCache:
@@ -25,12 +30,13 @@ class ShadeCache:
 
     Holds one :class:`ShadeHits` per obstruction, keyed by the obstruction's value (the
     obstruction types are frozen and hashable). :meth:`update` with a new list recomputes only
-    the obstructions that are new or changed (a moved, resized, added one) and forgets deleted
-    ones; the combined result is the same as a full recompute. Each obstruction's hits are
-    kept compact (:meth:`ShadeHits.compact`: uint16 steps, no crown flags for a solid), which
-    on a roof of thousands of modules and a hundred million hits saves a third of their
-    memory, and, where shade is summed in many blocks of steps (:func:`_needs_step_order`),
-    in step order, so that no evaluation sorts them again.
+    the obstructions that are new or changed (a moved, resized, added one) and sets deleted
+    ones aside (the last :data:`KEEP_DROPPED`, for an undo that brings one back); the combined
+    result is the same as a full recompute. Each obstruction's hits are kept compact
+    (:meth:`ShadeHits.compact`: uint16 steps, no crown flags for a solid), which on a roof of
+    thousands of modules and a hundred million hits saves a third of their memory, and, where
+    shade is summed in many blocks of steps (:func:`_needs_step_order`), in step order, so
+    that no evaluation sorts them again.
 
     Parameters
     ----------
@@ -70,6 +76,9 @@ class ShadeCache:
         self._sorted = _needs_step_order(len(self.sun), len(self.points))
         self._hits: dict = {}
         self._prepared: dict = {}
+        # hits of obstructions lately dropped from the list, newest last: an undo that puts a
+        # moved obstruction back finds its hits here
+        self._dropped: OrderedDict = OrderedDict()
         self.obstructions: tuple = ()
         self.update(obstructions)
 
@@ -83,12 +92,19 @@ class ShadeCache:
                 continue
             if ob in self._hits:
                 new[ob] = self._hits[ob]
+            elif ob in self._dropped:
+                new[ob] = self._dropped.pop(ob)
             else:
                 new[ob] = _obstruction_hits(self.points, self.sun, ob, self.ray_start,
                                             self.max_pairs, True, self._order, self.facing,
                                             self._groups).compact(len(self.sun),
                                                                   sort=self._sorted)
                 computed += 1
+        for ob, hits in self._hits.items():
+            if ob not in new:
+                self._dropped[ob] = hits
+        while len(self._dropped) > KEEP_DROPPED:
+            self._dropped.popitem(last=False)
         self._hits = new
         self._prepared = {ob: self._prepared[ob] for ob in new if ob in self._prepared}
         self.obstructions = obstructions

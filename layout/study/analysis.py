@@ -7,6 +7,7 @@ one it holds:
 ======================================  ==================================================
 what changed                            what is recomputed
 ======================================  ==================================================
+back to a recent project (undo, redo)   nothing: its state is recalled from a small cache
 site, weather file, time step           everything
 roofs, module, rules, fill, removals,   the fill; when the active modules changed, their
 an obstruction standing on the roof     sample points and all their ray tests
@@ -17,19 +18,24 @@ energy settings (models, strings)       irradiance or power, and tables
 ======================================  ==================================================
 
 The combined answer is always the same as a fresh evaluation of the edited project (the tests
-check it). The front end keeps one Analysis and redraws from :attr:`Analysis.result`.
+check it). A few recent projects' states are kept, keyed by the project object itself (a
+project is immutable, so undo and redo hand back the very objects evaluated before), within a
+memory budget; a drag's previews pass ``remember=False`` so they do not push those out. The
+front end keeps one Analysis and redraws from :attr:`Analysis.result`.
 """
 
 from __future__ import annotations
 
 import time
+from collections import OrderedDict
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, fields, is_dataclass
+from functools import cached_property
 
 import numpy as np
 import pandas as pd
 
-from ..errors import InputError
+from ..errors import InputError, check_positive
 from ..fill.placed import Layout, PlacedModule
 from ..fill.usable import roof_mounted
 from ..power.electrical import DcPower, dc_power
@@ -81,9 +87,10 @@ class Evaluation:
     totals : dict
         Layout totals (:func:`layout.power.metrics.layout_totals`).
     monthly : pandas.DataFrame
-        Energy and shade loss by month.
+        Energy and shade loss by month (summed when first read: a drag's previews never read
+        it).
     month_hour : pandas.DataFrame
-        Shade loss by month (rows) and hour (columns).
+        Shade loss by month (rows) and hour (columns), summed when first read.
     """
 
     project: object
@@ -98,8 +105,23 @@ class Evaluation:
     power: DcPower | None
     table: pd.DataFrame
     totals: dict
-    monthly: pd.DataFrame
-    month_hour: pd.DataFrame
+
+    @cached_property
+    def monthly(self) -> pd.DataFrame:
+        """Energy and shade loss by month for the whole layout."""
+        if self.power is None:
+            return pd.DataFrame({"energy_kwh": 0.0, "energy_unshaded_kwh": 0.0,
+                                 "shade_loss_pct": np.nan},
+                                index=pd.RangeIndex(1, 13, name="month"))
+        return monthly_table(self.power, step_minutes=self.weather.step_minutes)
+
+    @cached_property
+    def month_hour(self) -> pd.DataFrame:
+        """Shade loss by month (rows) and hour (columns) for the whole layout."""
+        if self.power is None:
+            return pd.DataFrame(np.nan, index=pd.RangeIndex(1, 13, name="month"),
+                                columns=pd.RangeIndex(0, 24, name="hour"))
+        return month_hour_loss(self.power)
 
     def module_monthly(self, module_id: str) -> pd.DataFrame:
         """Energy and shade loss by month for one module."""
@@ -145,6 +167,11 @@ class Analysis:
     progress : callable, keyword-only, optional
         Called as ``progress(stage, done, total)`` before each stage runs, so a front end can
         say what is being computed; ``stage`` is a short plain-language label.
+    recent : int, keyword-only, default 4
+        How many recent projects' computed states are kept for recall (0 keeps none).
+    recent_mb : float, keyword-only, default 600
+        Memory budget of those states [MB] (their arrays, counted roughly); the oldest go
+        first, and a state larger than the budget is not kept.
 
     Attributes
     ----------
@@ -152,7 +179,8 @@ class Analysis:
         The current evaluation.
     recomputed : tuple of str
         Stages the last :meth:`update` ran ("weather", "fill", "points", "rays", "sky",
-        "irradiance", "power", "tables").
+        "irradiance", "power", "tables"), or ``("recalled",)`` when the project's state came
+        from the cache of recent projects.
     timings : dict of str to float
         Seconds each stage of the last update took.
     rays_tested : int
@@ -162,9 +190,18 @@ class Analysis:
     _STAGES = ("weather", "fill", "points", "rays", "sky", "irradiance", "power", "tables")
 
     def __init__(self, project, *, base_dir=None,
-                 progress: Callable[[str, int, int], None] | None = None):
+                 progress: Callable[[str, int, int], None] | None = None,
+                 recent: int = 4, recent_mb: float = 600.0):
         self.base_dir = base_dir
         self.progress = progress
+        if isinstance(recent, bool) or not isinstance(recent, int) or recent < 0:
+            raise InputError("recent", "must be a whole number of projects", value=recent,
+                             allowed="0 or more")
+        self.recent = recent
+        self.recent_bytes = check_positive("recent_mb", recent_mb, unit="MB") * 1e6
+        # id(project) -> (project, its state, its size [bytes]); the project is held so that
+        # its id is not reused while the entry stands
+        self._recent: OrderedDict[int, tuple] = OrderedDict()
         self._project = None
         self._weather_key = None
         self._weather: Weather | None = None
@@ -207,19 +244,83 @@ class Analysis:
         if self.progress is not None:
             self.progress(label, step, len(self._STAGES))
 
-    def update(self, project) -> tuple[str, ...]:
+    def update(self, project, *, remember: bool = True) -> tuple[str, ...]:
         """Bring the result up to date with ``project`` and return the stages that ran.
 
         The project is only read. On an error (a weather file that cannot be read, say) the
         previous result stays in place and the error is raised.
+
+        Parameters
+        ----------
+        project : layout.project.Project
+            The project to evaluate.
+        remember : bool, keyword-only, default True
+            Keep this project's state among the recent ones, for an instant return to it
+            (undo, redo). A passing project (a drag's live preview) passes False.
         """
-        ran: list[str] = []
         self.timings = {}
         clock = time.perf_counter()
+        kept = self._recent.get(id(project))
+        if project is not self._project and kept is not None \
+                and kept[1]["_weather_key"] == self._weather_key_of(project):
+            self._recall(project)
+            self.timings["recalled"] = time.perf_counter() - clock
+            self.recomputed = ("recalled",)
+            return self.recomputed
+        ran = self._run(project, clock)
+        self._project = project
+        self.recomputed = tuple(ran)
+        if remember:
+            self._remember(project)
+        return self.recomputed
+
+    # the attributes that make up a project's computed state (see _remember and _recall)
+    _STATE = ("_weather_key", "_weather", "_sun", "_best", "_best_model", "_geometry",
+              "_cache", "_samples", "_sky_cache", "_casters", "_module_plates", "_buildings",
+              "_shade", "_sky", "_irradiance_key", "_irradiance", "_planes", "_fill_key",
+              "_fill", "_power_key", "_power", "result", "rays_tested")
+
+    def _remember(self, project) -> None:
+        """Keep the current state for a later :meth:`update` with the same project object.
+
+        The hit caches (:class:`ShadeCache`, :class:`SkyViewCache`) are shared with later
+        states, not copied: they hold hits keyed by obstruction and are brought up to the
+        obstructions of hand before every use, so a recalled state stays exact.
+        """
+        self._recent.pop(id(project), None)
+        if self.recent == 0:
+            return
+        size = _array_bytes(self.result)
+        if size > self.recent_bytes:
+            return
+        state = {name: getattr(self, name) for name in self._STATE}
+        self._recent[id(project)] = (project, state, size)
+        while len(self._recent) > self.recent \
+                or sum(entry[2] for entry in self._recent.values()) > self.recent_bytes:
+            self._recent.popitem(last=False)
+
+    def _recall(self, project) -> None:
+        _, state, _ = self._recent[id(project)]
+        self._recent.move_to_end(id(project))
+        for name, value in state.items():
+            setattr(self, name, value)
+        self._project = project
+        self.rays_tested = 0
+
+    def _weather_key_of(self, project) -> tuple:
+        """Return what the weather and the sun path depend on, the folder of a relative file too.
+
+        A kept state is recalled only where it would read the same weather file.
+        """
+        energy = project.energy
+        return (project.site, energy.weather_file, energy.step_minutes, str(self.base_dir))
+
+    def _run(self, project, clock: float) -> list[str]:
+        """Run the stages an edit touched, from the state held, and return their names."""
+        ran: list[str] = []
         energy = project.energy
 
-        weather_key = (project.site, energy.weather_file, energy.step_minutes,
-                       str(self.base_dir))
+        weather_key = self._weather_key_of(project)
         if weather_key != self._weather_key:
             self._say("reading the weather and the sun path", 0)
             weather = load_weather(project.site, energy, base_dir=self.base_dir)
@@ -326,32 +427,31 @@ class Analysis:
         self.result = self._tables(project, layout, areas, modules)
         ran.append("tables")
         self._stage("tables", clock)
-        self._project = project
-        self.recomputed = tuple(ran)
-        return self.recomputed
+        return ran
 
     def _tables(self, project, layout, areas, modules) -> Evaluation:
         step = self._weather.step_minutes
         energy = project.energy
-        if modules:
-            table = module_table(self._power, self._irradiance, modules, step_minutes=step,
-                                 best=self._best)
-            monthly = monthly_table(self._power, step_minutes=step)
-            month_hour = month_hour_loss(self._power)
-        else:
-            table = empty_module_table()
-            monthly = pd.DataFrame({"energy_kwh": 0.0, "energy_unshaded_kwh": 0.0,
-                                    "shade_loss_pct": np.nan},
-                                   index=pd.RangeIndex(1, 13, name="month"))
-            month_hour = pd.DataFrame(np.nan, index=pd.RangeIndex(1, 13, name="month"),
-                                      columns=pd.RangeIndex(0, 24, name="hour"))
+        table = module_table(self._power, self._irradiance, modules, step_minutes=step,
+                             best=self._best) if modules else empty_module_table()
         totals = layout_totals(table, power_w=project.module.power_w,
                                tsrf_threshold_pct=energy.tsrf_threshold_pct)
         return Evaluation(project=project, layout=layout, areas=areas, modules=tuple(modules),
                           weather=self._weather, best=self._best, shade=self._shade,
                           sky_view=self._sky if self._sky is not None else np.zeros(0),
                           irradiance=self._irradiance, power=self._power, table=table,
-                          totals=totals, monthly=monthly, month_hour=month_hour)
+                          totals=totals)
+
+
+def _array_bytes(item, depth: int = 2) -> int:
+    """Return roughly the bytes the arrays of an evaluation hold (dataclass fields, two deep)."""
+    if isinstance(item, np.ndarray):
+        return item.nbytes
+    if isinstance(item, pd.DataFrame):
+        return int(item.memory_usage(index=False).sum())
+    if depth and is_dataclass(item) and not isinstance(item, type):
+        return sum(_array_bytes(getattr(item, f.name), depth - 1) for f in fields(item))
+    return 0
 
 
 def evaluate(project, *, base_dir=None) -> Evaluation:

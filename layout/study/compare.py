@@ -127,7 +127,7 @@ def drop_worst(project, evaluation: Evaluation, *, min_tsrf_pct: float | None = 
     removed = evaluation.layout.remove(ids).removed
     trimmed = project.with_changes(removed=removed)
     if analysis is not None:
-        analysis.update(trimmed)
+        analysis.update(trimmed, remember=False)
         result = analysis.result
     else:
         result = evaluate(trimmed, base_dir=base_dir)
@@ -261,7 +261,7 @@ def compare_layouts(project, *, orientations: Sequence[str] = COMPARED_ORIENTATI
                 analysis = Analysis(variant, base_dir=base_dir, progress=report)
             else:
                 analysis.progress = report
-                analysis.update(variant)
+                analysis.update(variant, remember=False)
             full = analysis.result
             options.append(LayoutOption(orientation, orientation, variant, full))
             if without_worst:

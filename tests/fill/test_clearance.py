@@ -548,3 +548,23 @@ def test_usable_areas_for_a_building():
         usable_areas(faces, rules, pathways={"X": 1})
     with pytest.raises(InputError, match=r"faces\[0\]\.pathway_edges\[0\]"):
         usable_areas(faces, rules, pathways={"S": 0})
+
+
+@pytest.mark.parametrize("sides", [4, 7, 64])
+def test_a_convex_footprint_grows_as_the_union_of_its_pieces(sides):
+    # the quick convex path of _grow (one hull) against the general path (the union of bands
+    # and end discs): a superset, off by at most the notch between two neighbouring discs,
+    # and never inside the exact round offset (GEOS buffer, a reference we did not write)
+    from layout.fill.usable import ARC_SIDES, _grow, _rings_of, _segment_zones
+
+    angles = np.sort(np.random.default_rng(sides).uniform(0, 2 * np.pi, sides))
+    footprint = shapely.Polygon(np.c_[3 + 0.4 * np.cos(angles), 2 + 0.25 * np.sin(angles)])
+    ring = _rings_of(footprint)[0]
+    union = shapely.union_all(
+        [footprint, *_segment_zones(ring[:-1], ring[1:], np.full(len(ring) - 1, 0.3))])
+    hull = _grow(footprint, 0.3)
+    notch = 0.3 * (1 / math.cos(math.pi / ARC_SIDES) - 1)
+    assert shapely.difference(union, hull).area < 1e-12
+    assert shapely.hausdorff_distance(union, hull) <= notch + 1e-9
+    exact = footprint.buffer(0.3, quad_segs=256)
+    assert shapely.difference(exact, hull).area < 1e-9

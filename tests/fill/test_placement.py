@@ -514,3 +514,24 @@ def test_flat_faces_take_rack_rows_when_asked():
     assert FillOptions.from_dict(dense.to_dict()) == dense
     with pytest.raises(InputError, match="rack_tilt_deg"):
         FillOptions(rack_tilt_deg=90.0)
+
+
+def test_kept_face_fills_equal_fresh_ones_and_spare_the_faces_an_edit_left_alone():
+    # the fill keeps recent per-face answers (layout.fill.placement._filled_face); a face
+    # edited refills, the others come back as they were, and all equal a fill from nothing
+    from layout.fill.placement import _filled_face
+
+    rules = ifc_2021_residential()
+    house = hip_roof(14.0, 9.0, 30.0, 3.0, name="house")
+    faces = list(house.faces)
+    faces[0] = replace(faces[0], pitch_deg=33.0)
+    edited = replace(house, faces=tuple(faces))
+    fill_building(house, MODULE, rules, latitude=40.0)
+    before = _filled_face.cache_info()
+    kept = fill_building(edited, MODULE, rules, latitude=40.0)
+    after = _filled_face.cache_info()
+    assert after.hits - before.hits >= len(faces) - 1  # the faces left alone
+    assert after.misses - before.misses >= 1  # the edited face
+    _filled_face.cache_clear()
+    fresh = fill_building(edited, MODULE, rules, latitude=40.0)
+    assert kept.modules == fresh.modules and kept.notes == fresh.notes

@@ -408,3 +408,30 @@ def test_the_survey_against_elevation_data_is_reported():
         assert row[:2] == ["oak", "tree 1"]
         assert row[2] == one(check.surveyed_height_m) and row[3] == one(height)
         assert row[-1] == verdict
+
+
+def test_the_plan_outlines_what_came_from_elevation_data():
+    from layout.elevation import PROVENANCE
+    from layout.report.colours import DATA_EDGE
+    from layout.report.plan import layout_section, plan_drawing
+    from layout.scene.obstructions import Tree
+
+    found = Tree((3.0, -10.0), 9.0, 2.5, 2.0, name="tree 1")
+    base = small_project()
+    face = base.faces[0]
+    project = base.with_changes(obstructions=(found,), sources=(
+        {"kind": "elevation data", "note": PROVENANCE, "items": [face.name, "tree 1"]},))
+    evaluation = Analysis(project).result
+    drawing = plan_drawing(evaluation)
+    assert [name for name, _ in drawing.from_data] == [face.name, "tree 1"]
+    assert PROVENANCE in layout_section(evaluation).blocks[0].caption
+    svg = render_html(build_report(evaluation))
+    svg = svg[svg.index("<svg"):svg.index("</svg>")]
+    # the dotted outline runs through the face's own corners (the same transform as the face)
+    drawn, outline = _path_points(svg, f"data:{face.name}"), _path_points(svg, f"face:{face.name}")
+    np.testing.assert_allclose(drawn[:len(outline) - 1], outline[:-1], atol=1e-3)
+    assert DATA_EDGE.lower() in svg.lower()
+    # an entered project has none, and its caption does not speak of them
+    plain = Analysis(base).result
+    assert plan_drawing(plain).from_data == ()
+    assert PROVENANCE not in layout_section(plain).blocks[0].caption

@@ -202,3 +202,62 @@ def test_changing_the_sky_directions_recomputes_the_sky_view(demo, analysis):
     assert "sky" in ran and analysis.rays_tested == 0  # the beam's hits are all cached
     assert_same(analysis.result, evaluate(edited))
     analysis.update(demo)
+
+
+# --------------------------------------------------------------- recent projects (undo, redo)
+def test_going_back_to_a_recent_project_recalls_its_state_exactly(demo):
+    analysis = Analysis(demo)
+    first = analysis.result
+    tree = index_of(demo, "silver maple")
+    chimney = index_of(demo, "chimney")
+    tree_moved = moved(demo, tree, 2.0, 1.5)
+    analysis.update(tree_moved)  # the shared hit cache now holds the moved tree
+    assert analysis.update(demo) == ("recalled",)  # undo
+    assert analysis.result is first and analysis.project is demo
+    assert analysis.update(tree_moved) == ("recalled",)  # redo
+    assert_same(analysis.result, evaluate(tree_moved))
+    # an edit made from a recalled state is as exact as any other: the hit cache shared
+    # between the states is brought to the edit's obstructions before it is read
+    analysis.update(demo)
+    both = moved(moved(demo, chimney, 1.2, -1.0), tree, -1.0, 0.5)
+    assert "recalled" not in analysis.update(both)
+    assert_same(analysis.result, evaluate(both))
+
+
+def test_a_passing_project_is_not_kept_and_the_kept_ones_are_few(demo):
+    analysis = Analysis(demo, recent=2)
+    tree = index_of(demo, "silver maple")
+    preview = moved(demo, tree, 1.0, 0.0)
+    analysis.update(preview, remember=False)  # a drag's live preview
+    assert "recalled" not in analysis.update(moved(demo, tree, 2.0, 0.0))
+    assert "recalled" not in analysis.update(preview, remember=False)  # computed again
+    assert analysis.update(demo) == ("recalled",)
+    for step in (3.0, 4.0):  # two more projects push the oldest out (the preview, then demo)
+        analysis.update(moved(demo, tree, step, 0.0))
+    assert "recalled" not in analysis.update(demo)
+
+
+def test_no_state_is_kept_beyond_the_memory_budget_or_when_none_is_asked(demo):
+    tree = index_of(demo, "silver maple")
+    for options in ({"recent": 0}, {"recent_mb": 0.001}):  # the demo's arrays hold ~20 MB
+        analysis = Analysis(demo, **options)
+        analysis.update(moved(demo, tree, 1.0, 0.0))
+        assert "recalled" not in analysis.update(demo), options
+
+
+@pytest.mark.parametrize(("options", "field"), [({"recent": -1}, "recent"),
+                                                ({"recent": 1.5}, "recent"),
+                                                ({"recent_mb": 0}, "recent_mb")])
+def test_bad_recall_settings_name_the_field(demo, options, field):
+    from layout.errors import InputError
+
+    with pytest.raises(InputError, match=field):
+        Analysis(demo, **options)
+
+
+def test_a_kept_state_is_not_recalled_once_files_are_read_from_another_folder(demo, tmp_path):
+    analysis = Analysis(demo)
+    tree = index_of(demo, "silver maple")
+    analysis.update(moved(demo, tree, 1.0, 0.0))
+    analysis.base_dir = tmp_path  # a project file opened from elsewhere
+    assert "recalled" not in analysis.update(demo)

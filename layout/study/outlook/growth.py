@@ -160,7 +160,7 @@ def growth_outlook(project, *, years: Sequence[int] = PROJECTION_YEARS,
     ids = None
     for year in range(last + 1):
         at_year = project_at_year(project, year, widen_crown=widen_crown)
-        runner.update(at_year)
+        runner.update(at_year, remember=False)
         result = runner.result
         factor = max(1.0 - rate * (year - 1), 0.0) if year >= 1 else 1.0
         figures = layout_figures(result)

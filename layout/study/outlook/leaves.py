@@ -123,7 +123,7 @@ def leaf_effect(project, *, analysis=None, base_dir=None) -> LeafEffect:
     monthly = {}
     for key, scene in (("opaque", variant(None)), ("clear", variant((1.0,) * 12)),
                        ("modelled", project)):
-        runner.update(scene)
+        runner.update(scene, remember=scene is project)
         monthly[key] = runner.result.monthly
     mean_t = np.mean([flat.obstructions[i].monthly_transmittance for i in see_through], axis=0)
     leaf_off = mean_t > mean_t.min() + 1e-12

@@ -192,7 +192,7 @@ def shade_loss_range(project, *, samples: int = DEFAULT_SAMPLES, seed: int | Non
     for done, sampled in enumerate(drawn):
         if progress is not None:
             progress(done, samples + 1)
-        runner.update(sampled)
+        runner.update(sampled, remember=False)
         result = runner.result
         rows.append(layout_figures(result))
         energy.append(result.table["energy_kwh"])
