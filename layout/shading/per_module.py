@@ -3,12 +3,14 @@
 :func:`module_shade` ray-tests the cell sample points of placed modules (``PlacedModule.
 cell_points``, collected by :func:`module_samples`) against the obstructions and, by default,
 against every module as a :class:`~layout.scene.obstructions.Plate` (rows shade rows; a module
-never shades itself), and returns the beam shaded fraction per (step, module, cell) and per
-(step, module, substring) as float32, tree crowns counted by their monthly transmittance. Hits
-stay sparse (step, point) lists per obstruction until they are summed per group in blocks of
-steps (64 MB dense at most), so memory grows with the number of hits and the output, not with
-the number of rays; without a cache, modules go in chunks of at most ``max_rays`` rays. With a
-:class:`~layout.shading.cache.ShadeCache`, moving one obstruction recomputes only its hits.
+never shades itself), and returns the beam shaded fraction per (step, module) and, per
+(step, module, substring), the mean and the most shaded cell, tree crowns counted by their
+monthly transmittance; per (step, module, cell) too when asked or small. Hits stay sparse
+(step, point) lists per obstruction until they are summed per cell in blocks of steps (64 MB
+dense at most) and each block is reduced to those figures, so memory grows with the number of
+hits and the output, not with the number of rays or of cells; without a cache, modules go in
+chunks of at most ``max_rays`` rays. With a :class:`~layout.shading.cache.ShadeCache`, moving
+one obstruction recomputes only its hits.
 """
 
 from __future__ import annotations
