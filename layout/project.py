@@ -198,6 +198,11 @@ class Project:
                 return source["note"]
         return None
 
+    def items_noted(self, note: str) -> tuple[str, ...]:
+        """Return the names of the items whose source has ``note``, in the order listed."""
+        return tuple(name for source in self.sources if source["note"] == note
+                     for name in source["items"])
+
     def unmarked(self, names) -> Project:
         """Return a copy whose ``sources`` no longer list ``names``.
 

@@ -179,8 +179,8 @@ def survey_against_elevation(project: Project) -> list:
         One per survey entry (:func:`layout.elevation.cross_check`), or an empty list when the
         project has no survey or no obstruction from elevation data.
     """
-    detected = [o for o in project.obstructions
-                if project.source_of(getattr(o, "name", "")) == PROVENANCE]
+    noted = set(project.items_noted(PROVENANCE))
+    detected = [o for o in project.obstructions if getattr(o, "name", "") in noted]
     if not project.survey or not detected:
         return []
     return cross_check(project.survey, detected)

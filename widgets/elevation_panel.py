@@ -97,8 +97,7 @@ class ElevationPanel(w.VBox):
     def show(self, project) -> None:
         """Hold the project the items would join, and list its items from elevation data."""
         self.project = project
-        marked = [name for source in project.sources if source.get("note") == PROVENANCE
-                  for name in source["items"]]
+        marked = project.items_noted(PROVENANCE)
         if not marked:
             self.marked_html.value = ""
             return

@@ -157,11 +157,10 @@ def plan_scene(project, layout, areas: dict) -> PlanScene:
          type(o).__name__ == "Tree", o.footprint_polygon, obstruction_anchor(o),
          (float(entry.station_x_m), float(entry.station_y_m)))
         for i, (entry, o) in enumerate(zip(project.survey, built, strict=True)))
-    from_data = tuple((name, shapely.Polygon(ring)) for name, ring in faces
-                      if project.source_of(name) == PROVENANCE)
+    noted = set(project.items_noted(PROVENANCE))
+    from_data = tuple((name, shapely.Polygon(ring)) for name, ring in faces if name in noted)
     from_data += tuple((label, footprint) for i, label, _, footprint, _ in obstructions
-                       if project.source_of(getattr(project.obstructions[i], "name", ""))
-                       == PROVENANCE)
+                       if getattr(project.obstructions[i], "name", "") in noted)
     return PlanScene(faces=tuple(faces), edges=tuple(edges), zones=tuple(zones),
                      usable=tuple(usable), modules=modules, obstructions=obstructions,
                      surveyed=surveyed, from_data=from_data)

@@ -10,6 +10,8 @@ from __future__ import annotations
 
 from collections.abc import Callable
 
+from ipyevents import Event
+
 __all__ = ["UNDO_KEYS_HINT", "UndoKeys", "shortcut_action"]
 
 #: The shortcuts in words, for the buttons' tooltips.
@@ -48,13 +50,11 @@ class UndoKeys:
     Attributes
     ----------
     event : ipyevents.Event
-        The widget that forwards the key presses; it must be displayed with the page (the
-        planner keeps it among its children, where it takes no room).
+        The widget that forwards the key presses (it has no view of its own: it listens on
+        the views of ``source``).
     """
 
     def __init__(self, source, undo: Callable[[], object], redo: Callable[[], object]):
-        from ipyevents import Event
-
         self._actions = {"undo": undo, "redo": redo}
         self.event = Event(source=source, watched_events=["keydown"],
                            ignore_modifier_key_events=True)

@@ -79,9 +79,25 @@ def _arc_rings(centers: np.ndarray, radii: np.ndarray, angles: np.ndarray) -> np
     return centers[:, None, :] + r[..., None] * np.stack([np.cos(theta), np.sin(theta)], -1)
 
 
-def _arc_polygons(centers: np.ndarray, radii: np.ndarray, angles: np.ndarray) -> np.ndarray:
-    """Circumscribed ARC_SIDES-gons around discs, one flat facing each ``angles`` direction."""
-    return shapely.polygons(_arc_rings(centers, radii, angles))
+def _segment_pieces(starts, ends, distances):
+    """Corners of each segment's band and end discs, for segments with ``d > 0`` and a length.
+
+    Returns ``use`` (bool, one per segment: which segments have pieces), then for those the
+    band's corners (k, 4, 2) of half-width ``d`` and the circumscribed discs' corners
+    (k, ARC_SIDES, 2) at the start and at the end, one flat facing the band's normal [m].
+    """
+    p0 = np.asarray(starts, dtype=float).reshape(-1, 2)
+    p1 = np.asarray(ends, dtype=float).reshape(-1, 2)
+    d = np.asarray(distances, dtype=float).reshape(-1)
+    delta = p1 - p0
+    length = np.hypot(delta[:, 0], delta[:, 1])
+    use = (d > 0) & (length > 0)
+    p0, p1, d, delta, length = p0[use], p1[use], d[use], delta[use], length[use]
+    t = delta / length[:, None]
+    n = np.stack([-t[:, 1], t[:, 0]], axis=1) * d[:, None]
+    band = np.stack([p0 + n, p1 + n, p1 - n, p0 - n], axis=1)
+    angle = np.arctan2(t[:, 0], -t[:, 1])  # direction of the normal (-t_y, t_x)
+    return use, band, _arc_rings(p0, d, angle), _arc_rings(p1, d, angle)
 
 
 def _segment_zones(starts, ends, distances) -> np.ndarray:
@@ -91,25 +107,14 @@ def _segment_zones(starts, ends, distances) -> np.ndarray:
     segment and a circumscribed disc of radius ``d`` at each end. Segments with ``d == 0``
     (or no length) give an empty polygon.
     """
-    p0 = np.asarray(starts, dtype=float).reshape(-1, 2)
-    p1 = np.asarray(ends, dtype=float).reshape(-1, 2)
-    d = np.asarray(distances, dtype=float).reshape(-1)
-    out = np.empty(len(d), dtype=object)
-    out[:] = [shapely.Polygon() for _ in range(len(d))]
-    delta = p1 - p0
-    length = np.hypot(delta[:, 0], delta[:, 1])
-    use = (d > 0) & (length > 0)
+    use, band, caps0, caps1 = _segment_pieces(starts, ends, distances)
+    out = np.empty(len(use), dtype=object)
+    out[:] = [shapely.Polygon() for _ in range(len(use))]
     if not use.any():
         return out
-    p0, p1, d, delta, length = p0[use], p1[use], d[use], delta[use], length[use]
-    t = delta / length[:, None]
-    n = np.stack([-t[:, 1], t[:, 0]], axis=1) * d[:, None]
-    band = shapely.polygons(np.stack([p0 + n, p1 + n, p1 - n, p0 - n], axis=1))
-    angle = np.arctan2(t[:, 0], -t[:, 1])  # direction of the normal (-t_y, t_x)
-    caps0 = _arc_polygons(p0, d, angle)
-    caps1 = _arc_polygons(p1, d, angle)
-    zones = shapely.union_all(np.stack([band, caps0, caps1], axis=1), axis=1)
-    out[np.flatnonzero(use)] = zones
+    pieces = np.stack([shapely.polygons(band), shapely.polygons(caps0),
+                       shapely.polygons(caps1)], axis=1)
+    out[np.flatnonzero(use)] = shapely.union_all(pieces, axis=1)
     return out
 
 
@@ -141,18 +146,9 @@ def _grow(geometry, distance: float):
 
 def _grow_convex(ring: np.ndarray, distance: float):
     """Convex hull of a convex ring's corners, its edge bands' and its end discs' [m]."""
-    p0, p1 = ring[:-1], ring[1:]
-    delta = p1 - p0
-    length = np.hypot(delta[:, 0], delta[:, 1])
-    use = length > 0
-    p0, p1, delta, length = p0[use], p1[use], delta[use], length[use]
-    t = delta / length[:, None]
-    d = np.full(len(p0), float(distance))
-    n = np.stack([-t[:, 1], t[:, 0]], axis=1) * d[:, None]
-    angle = np.arctan2(t[:, 0], -t[:, 1])  # direction of the normal (-t_y, t_x)
-    corners = np.concatenate([ring, p0 + n, p1 + n, p1 - n, p0 - n,
-                              _arc_rings(p0, d, angle).reshape(-1, 2),
-                              _arc_rings(p1, d, angle).reshape(-1, 2)])
+    _, band, caps0, caps1 = _segment_pieces(ring[:-1], ring[1:],
+                                            np.full(len(ring) - 1, float(distance)))
+    corners = np.concatenate([ring, *(c.reshape(-1, 2) for c in (band, caps0, caps1))])
     return shapely.convex_hull(shapely.linestrings(corners))  # one geometry: quick
 
 

@@ -172,10 +172,11 @@ def plan_drawing(evaluation, *, metric: str = "shade_loss_pct") -> PlanDrawing:
                          for label, ob in rows)
     from ..elevation import PROVENANCE  # here: the elevation stage loads pyproj
 
+    noted = set(project.items_noted(PROVENANCE))
     from_data = tuple((face.name, shapely.Polygon(face.outline)) for face in project.faces
-                      if project.source_of(face.name) == PROVENANCE)
+                      if face.name in noted)
     from_data += tuple((label, ob.footprint_polygon) for label, ob in rows
-                       if project.source_of(getattr(ob, "name", "")) == PROVENANCE)
+                       if getattr(ob, "name", "") in noted)
     finite = values[np.isfinite(values)]
     low = float(finite.min()) if len(finite) else float("nan")
     high = float(finite.max()) if len(finite) else float("nan")

@@ -278,14 +278,14 @@ class Analysis:
     _STATE = ("_weather_key", "_weather", "_sun", "_best", "_best_model", "_geometry",
               "_cache", "_samples", "_sky_cache", "_casters", "_module_plates", "_buildings",
               "_shade", "_sky", "_irradiance_key", "_irradiance", "_planes", "_fill_key",
-              "_fill", "_power_key", "_power", "result", "rays_tested")
+              "_fill", "_power_key", "_power", "result")
 
     def _remember(self, project) -> None:
         """Keep the current state for a later :meth:`update` with the same project object.
 
         The hit caches (:class:`ShadeCache`, :class:`SkyViewCache`) are shared with later
         states, not copied: they hold hits keyed by obstruction and are brought up to the
-        obstructions of hand before every use, so a recalled state stays exact.
+        obstructions in hand before every use, so a recalled state stays exact.
         """
         self._recent.pop(id(project), None)
         if self.recent == 0:
@@ -305,7 +305,7 @@ class Analysis:
         for name, value in state.items():
             setattr(self, name, value)
         self._project = project
-        self.rays_tested = 0
+        self.rays_tested = 0  # nothing was ray-tested to come back here
 
     def _weather_key_of(self, project) -> tuple:
         """Return what the weather and the sun path depend on, the folder of a relative file too.
