@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 import shapely
@@ -213,22 +214,43 @@ def free_spot(region, scene: PlanScene | None) -> np.ndarray:
 
     The pole of inaccessibility of the region less the modules (grown by 0.2 m), so a face's
     or a building's handle does not cover a module's click; the centroid when modules cover
-    it all.
+    it all. Spots already found for the same region and modules are remembered (an undo
+    draws a plan seen before).
     """
-    modules = [shapely.Polygon(corners) for _, corners, _ in (scene.modules if scene else ())]
+    corners = tuple(np.asarray(c, dtype=float).tobytes()
+                    for _, c, _ in (scene.modules if scene else ()))
+    return np.array(_free_spot(shapely.to_wkb(region), corners))
+
+
+@lru_cache(maxsize=64)
+def _free_spot(region_wkb: bytes, corners: tuple[bytes, ...]) -> tuple[float, float]:
+    region = shapely.from_wkb(region_wkb)
     free = region
-    if modules:
-        free = shapely.difference(region, shapely.buffer(shapely.union_all(modules), 0.2))
+    if corners:
+        free = shapely.difference(region, _grown_modules(corners))
     if free.is_empty or free.area < 0.05:
-        return np.asarray(region.centroid.coords[0])
+        return tuple(region.centroid.coords[0])
     parts = sorted(shapely.get_parts(free), key=lambda g: g.area, reverse=True)
-    return np.asarray(polylabel(parts[0], tolerance=0.05).coords[0])
+    return tuple(polylabel(parts[0], tolerance=0.05).coords[0])
+
+
+@lru_cache(maxsize=8)
+def _grown_modules(corners: tuple[bytes, ...]):
+    """Return the modules' union grown by 0.2 m, once for all the faces and buildings."""
+    modules = [shapely.Polygon(np.frombuffer(c).reshape(-1, 2)) for c in corners]
+    return shapely.buffer(shapely.union_all(modules), 0.2)
 
 
 def hatch_lines(geometry, spacing: float) -> list[np.ndarray]:
-    """45° hatch segments clipped to a plan geometry [m]."""
+    """45° hatch segments clipped to a plan geometry [m] (remembered for the last few)."""
     if geometry.is_empty:
         return []
+    return list(_hatch_lines(shapely.to_wkb(geometry), float(spacing)))
+
+
+@lru_cache(maxsize=128)
+def _hatch_lines(geometry_wkb: bytes, spacing: float) -> tuple[np.ndarray, ...]:
+    geometry = shapely.from_wkb(geometry_wkb)
     x0, y0, x1, y1 = geometry.bounds
     offsets = np.arange(math.floor((x0 - y1) / spacing), math.ceil((x1 - y0) / spacing) + 1)
     c = offsets * spacing  # lines x - y = c
@@ -239,8 +261,10 @@ def hatch_lines(geometry, spacing: float) -> list[np.ndarray]:
     out = []
     for part in shapely.get_parts(clipped):
         if isinstance(part, shapely.LineString) and not part.is_empty:
-            out.append(np.asarray(part.coords)[[0, -1]])
-    return out
+            segment = np.asarray(part.coords)[[0, -1]]
+            segment.flags.writeable = False  # shared by every draw of this geometry
+            out.append(segment)
+    return tuple(out)
 
 
 def edge_label_rotation(start: np.ndarray, end: np.ndarray) -> float:

@@ -101,7 +101,7 @@ from .string_lines import StringLines
 from .strings_panel import StringsPanel
 from .survey_panel import SurveyPanel
 from .timeline import Timeline, roof_shadows
-from .totals import TotalsPanel, module_note
+from .totals import NOTE_COLUMNS, TotalsPanel, module_note
 from .undo_keys import UndoKeys
 
 __all__ = [
@@ -476,8 +476,9 @@ class Planner(StringsWiring, LossRangeAndReport, w.VBox):
         threshold = self.project.energy.tsrf_threshold_pct
         flagged = table.index[table["tsrf_pct"] < threshold] if len(table) else []
         bands = self._module_bands()
-        notes = {mid: module_note(mid, row, bands.get(mid)) for mid, row in zip(
-            table.index, table.itertuples(index=False), strict=True)}
+        rows = table[list(NOTE_COLUMNS)].itertuples(index=False)  # only what a note reads
+        notes = {mid: module_note(mid, row, bands.get(mid))
+                 for mid, row in zip(table.index, rows, strict=True)}
         self.plan.set_module_figures(values, label=label or "", vmin=vmin, flagged=flagged,
                                      notes=notes, selected=self.selected_id, redraw=redraw)
 

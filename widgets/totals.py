@@ -44,6 +44,10 @@ def totals_text(totals: dict) -> str:
         f"(thick outline)</span>")
 
 
+#: Columns of the module table that :func:`module_note` reads.
+NOTE_COLUMNS = ("energy_kwh", "shade_loss_pct", "tsrf_pct")
+
+
 def module_note(module_id: str, row, band: tuple[float, float] | None = None) -> str:
     """Hover text of one module: its id and annual figures (a row of the module table).
 

@@ -75,6 +75,7 @@ import pvlib
 
 from ..errors import InputError, check_range
 from ..sky.weather import Weather
+from .diffuse_iam import marion_diffuse
 
 __all__ = [
     "IAM_MODELS",
@@ -248,7 +249,8 @@ def iam_factors(aoi, surface_tilt: float, *, iam_model: str | None = "physical")
     -------
     dict
         ``beam`` (numeric, like ``aoi``; used for beam and circumsolar), ``sky``, ``horizon``,
-        ``ground`` (floats, :func:`pvlib.iam.marion_diffuse`) [fraction].
+        ``ground`` (floats: :func:`pvlib.iam.marion_diffuse`'s values, from
+        :func:`layout.power.diffuse_iam.marion_diffuse`) [fraction].
     """
     if iam_model is None:
         return {"beam": np.ones_like(np.asarray(aoi, dtype=float)), "sky": 1.0,
@@ -258,9 +260,8 @@ def iam_factors(aoi, surface_tilt: float, *, iam_model: str | None = "physical")
                          allowed=", ".join(IAM_MODELS) + " or None")
     function = getattr(pvlib.iam, iam_model)
     beam = np.nan_to_num(np.asarray(function(np.asarray(aoi, dtype=float)), dtype=float))
-    diffuse = pvlib.iam.marion_diffuse(iam_model, surface_tilt)
-    return {"beam": beam, "sky": float(diffuse["sky"]), "horizon": float(diffuse["horizon"]),
-            "ground": float(diffuse["ground"])}
+    diffuse = marion_diffuse(iam_model, float(surface_tilt))  # pvlib's values, grids kept
+    return {"beam": beam, **diffuse}
 
 
 def orientation_groups(surface_tilt, surface_azimuth) -> tuple[np.ndarray, np.ndarray]:

@@ -99,15 +99,9 @@ def figure_colours(values, *, vmin: float | None = None, vmax: float | None = No
     span = high - low
     stops = np.array([hex_to_rgb(c) for c in FIGURE_SCALE])
     positions = np.linspace(0.0, 1.0, len(stops))
-    out = []
-    for value, ok in zip(data, finite, strict=True):
-        if not ok:
-            out.append(None)
-            continue
-        t = 0.0 if span <= 0 else float(np.clip((value - low) / span, 0.0, 1.0))
-        rgb = [np.interp(t, positions, stops[:, k]) for k in range(3)]
-        out.append(rgb_to_hex(rgb))
-    return out
+    t = np.zeros(len(data)) if span <= 0 else np.clip((data - low) / span, 0.0, 1.0)
+    rgb = np.column_stack([np.interp(t, positions, stops[:, k]) for k in range(3)])
+    return [rgb_to_hex(colour) if ok else None for colour, ok in zip(rgb, finite, strict=True)]
 
 
 #: Regions of the sky chart and shadows, one muted colour per caster (cycled); none warns.

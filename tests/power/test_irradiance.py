@@ -291,3 +291,15 @@ def test_many_planes_at_once_equal_pvlib_plane_by_plane(tmy3, model):
     with pytest.raises(InputError) as info:
         plane_insolation(tmy3, [30.0, 20.0], [180.0])
     assert info.value.field == "surface_azimuth"
+
+
+@pytest.mark.parametrize("model", ["physical", "ashrae"])
+def test_marion_diffuse_with_kept_grids_equals_pvlibs_bit_for_bit(model):
+    # outside reference: pvlib.iam.marion_diffuse (Marion 2017), called afresh at each tilt;
+    # the kept grids must give exactly its floats, tilts 0 and 90 included
+    from layout.power.diffuse_iam import marion_diffuse
+
+    for tilt in [0.0, 0.5, 7.3, 18.4349, 30.0, 31.25, 45.0001, 63.4, 89.9, 90.0]:
+        ours = marion_diffuse(model, tilt)
+        theirs = pvlib.iam.marion_diffuse(model, tilt)
+        assert ours == {region: float(value) for region, value in theirs.items()}, tilt
