@@ -614,13 +614,21 @@ def test_dragging_shows_a_live_preview_and_the_drop_keeps_it(planner, demo):
         spot = (-1.0, -6.0)
         drag_message(planner, TREE, spot[0] / FOOT_M, spot[1] / FOOT_M)
         x, y = (snap_length(v, "imperial") for v in spot)
-        core = evaluate(moved_project(demo, TREE, x, y))
-        # the figures are exact for the marker's place, the project has not changed yet
-        assert shown_loss(planner) == pytest.approx(core.totals["shade_loss_pct"], abs=0.005)
+        moved = moved_project(demo, TREE, x, y)
+        days = planner.preview_sample_days
+        sampled = Analysis(moved, sample_days=days).result
+        # the figures are those of one day in five of the year for the marker's place, the
+        # project and the main analysis have not changed yet
+        assert shown_loss(planner) == pytest.approx(sampled.totals["shade_loss_pct"],
+                                                    abs=0.005)
         assert planner.plan.module_values.to_numpy() == pytest.approx(
-            core.table["shade_loss_pct"].to_numpy(), rel=1e-9)
-        assert planner.project is demo
+            sampled.table["shade_loss_pct"].to_numpy(), rel=1e-9)
+        # ... close to the whole year's (here 0.02 point apart; the drop gives the exact one)
+        exact = evaluate(moved).totals["shade_loss_pct"]
+        assert sampled.totals["shade_loss_pct"] == pytest.approx(exact, abs=0.25)
+        assert planner.project is demo and planner.analysis.project is demo
         assert "Preview" in planner.status_line.message.value
+        assert f"one day in {days}" in planner.status_line.message.value
         # the crown follows the marker; the markers, which the mouse holds, are not redrawn
         assert list(planner.plan.tree_marks.x) != crowns_before
         assert list(planner.plan.obstruction_markers.x) == markers_before
@@ -645,14 +653,43 @@ def test_dragging_shows_a_live_preview_and_the_drop_keeps_it(planner, demo):
         planner.first_preview_s = planner.FIRST_PREVIEW_S
 
 
+@pytest.mark.parametrize("setting", ["preview_sample_days", "SAMPLED_PREVIEW_MODULES"])
+def test_previews_are_exact_on_a_large_roof_or_when_asked(planner, demo, setting):
+    # one day in one, or a roof above the size limit (here: a limit of one module), previews
+    # on the main analysis: exact figures for the marker's place, not kept as a recent state
+    setattr(planner, setting, 1)
+    planner.preview_interval_s = planner.first_preview_s = 0.0
+    try:
+        spot = (-1.5, -6.0)
+        drag_message(planner, TREE, spot[0] / FOOT_M, spot[1] / FOOT_M)
+        x, y = (snap_length(v, "imperial") for v in spot)
+        exact = evaluate(moved_project(demo, TREE, x, y))
+        assert planner.plan.module_values.to_numpy() == pytest.approx(
+            exact.table["shade_loss_pct"].to_numpy(), rel=1e-9)
+        assert "one day in" not in planner.status_line.message.value
+        assert planner.project is demo and planner.analysis.project is not demo
+        drag_message(planner, TREE, 0, 0, event="drag_end")
+        assert planner.analysis.project is planner.project is demo
+        assert shown_loss(planner) == pytest.approx(evaluate(demo).totals["shade_loss_pct"],
+                                                    abs=0.005)
+    finally:
+        if setting == "preview_sample_days":
+            planner.preview_sample_days = planner.PREVIEW_SAMPLE_DAYS
+        else:
+            del planner.SAMPLED_PREVIEW_MODULES  # back to the class's value
+        planner.preview_interval_s = planner.PREVIEW_INTERVAL_S
+        planner.first_preview_s = planner.FIRST_PREVIEW_S
+
+
 def test_previews_during_a_drag_are_spaced_out(planner, demo):
     # with the app's delays, a quick drag (a burst of moves just after the mouse took hold)
     # runs no preview; later in a drag, a burst of moves runs one (the next ones come before
     # the interval after it has passed)
     calls = []
-    original = planner.analysis.update
-    planner.analysis.update = (lambda project, **options: calls.append(project)
-                               or original(project, **options))
+    previews = planner._preview_analysis()  # the analysis previews run on
+    original = previews.update
+    previews.update = (lambda project, **options: calls.append(project)
+                       or original(project, **options))
     try:
         drag_message(planner, TREE, -1.0 / FOOT_M, -6.0 / FOOT_M, event="drag_start")
         for k in range(5):
@@ -663,7 +700,7 @@ def test_previews_during_a_drag_are_spaced_out(planner, demo):
             drag_message(planner, TREE, (-1.0 - 0.1 * k) / FOOT_M, -6.0 / FOOT_M)
         assert len(calls) == 1
     finally:
-        del planner.analysis.update
+        del previews.update
         drag_message(planner, TREE, 0, 0, event="drag_end")
     assert planner.analysis.project is planner.project is demo
 

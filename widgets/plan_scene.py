@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cached_property, lru_cache
 
 import numpy as np
 import shapely
@@ -106,6 +106,10 @@ class PlanScene:
 
     def bounds(self) -> tuple[float, float, float, float]:
         """``(xmin, ymin, xmax, ymax)`` of everything drawn [m]."""
+        return self._bounds
+
+    @cached_property
+    def _bounds(self) -> tuple[float, float, float, float]:
         geoms = [shapely.Polygon(ring) for _, ring in self.faces]
         geoms += [footprint for _, _, _, footprint, _ in self.obstructions]
         geoms += [footprint for _, _, _, footprint, _, _ in self.surveyed]
@@ -200,13 +204,12 @@ def padded_rings(rings: list[np.ndarray], k: float) -> tuple[list, list]:
     """
     if not rings:
         return [], []
-    n = max(len(r) for r in rings)
-    xs, ys = [], []
-    for ring in rings:
-        pad = np.vstack([ring, np.repeat(ring[-1:], n - len(ring), axis=0)])
-        xs.append((pad[:, 0] * k).tolist())
-        ys.append((pad[:, 1] * k).tolist())
-    return xs, ys
+    padded = np.empty((len(rings), max(len(r) for r in rings), 2))
+    for row, ring in zip(padded, rings, strict=True):
+        row[:len(ring)] = ring
+        row[len(ring):] = ring[-1]
+    padded *= k
+    return padded[:, :, 0].tolist(), padded[:, :, 1].tolist()
 
 
 def free_spot(region, scene: PlanScene | None) -> np.ndarray:

@@ -8,6 +8,7 @@ format figures and compute nothing.
 from __future__ import annotations
 
 import html
+from collections import namedtuple
 
 import ipywidgets as w
 import numpy as np
@@ -46,6 +47,8 @@ def totals_text(totals: dict) -> str:
 
 #: Columns of the module table that :func:`module_note` reads.
 NOTE_COLUMNS = ("energy_kwh", "shade_loss_pct", "tsrf_pct")
+#: A row of those columns (a module table's row serves as well).
+NoteRow = namedtuple("NoteRow", NOTE_COLUMNS)
 
 
 def module_note(module_id: str, row, band: tuple[float, float] | None = None) -> str:

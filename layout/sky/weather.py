@@ -159,6 +159,34 @@ class Weather:
                              allowed="ghi, dni, dhi")
         return float(self.data[column].sum()) * self.step_minutes / 60.0 / 1000.0
 
+    def sampled(self, every_days: int) -> Weather:
+        """Return one day in ``every_days`` of this weather, each step standing for that many.
+
+        The days kept are those whose day of the year is a multiple of ``every_days`` (Jan 1
+        is day 0), whole, at every step; :attr:`step_minutes` becomes the time each kept step
+        stands for (``every_days`` times the step), so energy summed over the sample
+        estimates the whole year's. A quick approximation for live previews, never for a
+        quoted figure: the source says so.
+
+        Parameters
+        ----------
+        every_days : int
+            1 to 24 (one day in 24 still spreads 15 days over the year).
+        """
+        if isinstance(every_days, bool) or not isinstance(every_days, (int, np.integer)) \
+                or not 1 <= every_days <= 24:
+            raise InputError("every_days", "must be a whole number of days", value=every_days,
+                             allowed="1 to 24")
+        if every_days == 1:
+            return self
+        keep = (self.data.index.dayofyear.to_numpy() - 1) % int(every_days) == 0
+        return Weather(data=self.data[keep], solar_position=self.solar_position[keep],
+                       site=self.site,
+                       source=f"{self.source}, one day in {int(every_days)} (a preview)",
+                       is_clear_sky=self.is_clear_sky,
+                       step_minutes=self.step_minutes * len(keep) / int(keep.sum()),
+                       notes=self.notes)
+
     def summary(self) -> dict:
         """Plain-data description for a report: source, site, caveat, totals."""
         return {

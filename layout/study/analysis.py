@@ -172,6 +172,15 @@ class Analysis:
     recent_mb : float, keyword-only, default 600
         Memory budget of those states [MB] (their arrays, counted roughly); the oldest go
         first, and a state larger than the budget is not kept.
+    sample_days : int, keyword-only, default 1
+        Evaluate one day in ``sample_days`` of the weather (:meth:`Weather.sampled`), each
+        standing for that many: a quick estimate for live previews (about ``sample_days``
+        times less ray testing and irradiance work), never for quoted figures. 1 (the
+        default) evaluates every step.
+    weather : layout.sky.weather.Weather, keyword-only, optional
+        The weather already read for this project (another analysis's
+        :attr:`Evaluation.weather`, every step of it), used instead of reading the file
+        again while the project's site, weather file and step stay those it was read for.
 
     Attributes
     ----------
@@ -191,9 +200,18 @@ class Analysis:
 
     def __init__(self, project, *, base_dir=None,
                  progress: Callable[[str, int, int], None] | None = None,
-                 recent: int = 4, recent_mb: float = 600.0):
+                 recent: int = 4, recent_mb: float = 600.0, sample_days: int = 1,
+                 weather: Weather | None = None):
         self.base_dir = base_dir
         self.progress = progress
+        if isinstance(sample_days, bool) or not isinstance(sample_days, int) \
+                or not 1 <= sample_days <= 24:
+            raise InputError("sample_days", "must be a whole number of days",
+                             value=sample_days, allowed="1 to 24")
+        self.sample_days = sample_days
+        # (weather key, weather) read by someone else, for this project's first evaluation
+        self._given_weather = None if weather is None else (
+            self._weather_key_of(project), weather)
         if isinstance(recent, bool) or not isinstance(recent, int) or recent < 0:
             raise InputError("recent", "must be a whole number of projects", value=recent,
                              allowed="0 or more")
@@ -323,7 +341,10 @@ class Analysis:
         weather_key = self._weather_key_of(project)
         if weather_key != self._weather_key:
             self._say("reading the weather and the sun path", 0)
-            weather = load_weather(project.site, energy, base_dir=self.base_dir)
+            given = self._given_weather
+            weather = given[1] if given is not None and given[0] == weather_key \
+                else load_weather(project.site, energy, base_dir=self.base_dir)
+            weather = weather.sampled(self.sample_days)
             self._sun = sun_steps(weather)
             self._best = best_orientation(weather, model=energy.sky_model)
             self._weather, self._weather_key = weather, weather_key

@@ -207,3 +207,25 @@ def test_clear_sky_rejects_bad_input():
         clear_sky(site, step_minutes=7)
     with pytest.raises(InputError, match="albedo"):
         clear_sky(site, albedo=-0.1)
+
+
+def test_one_day_in_n_keeps_whole_days_and_stands_for_the_year(tmy3):
+    # the file's own annual sum (TMY3 from pvlib's data folder) is the outside reference:
+    # a fifth of its days, each step standing for the year's steps over the steps kept,
+    # estimates it within 5 % (3.4 % here: a typical year's days differ from one another)
+    sample = tmy3.sampled(5)
+    days = sample.data.index.dayofyear.to_numpy()
+    assert set(np.unique(days)) == set(range(1, 366, 5))
+    every = tmy3.data.index.dayofyear.to_numpy()
+    assert len(sample.data) == np.isin(every, range(1, 366, 5)).sum()  # whole days
+    assert sample.step_minutes * len(sample.data) == pytest.approx(60 * len(tmy3.data))
+    assert sample.solar_position.index.equals(sample.data.index)
+    assert sample.annual_kwh_m2("ghi") == pytest.approx(tmy3.annual_kwh_m2("ghi"), rel=0.05)
+    assert "one day in 5" in sample.source
+    assert tmy3.sampled(1) is tmy3
+
+
+@pytest.mark.parametrize("days", [0, 25, 2.5, True])
+def test_one_day_in_n_names_the_field(tmy3, days):
+    with pytest.raises(InputError, match="every_days"):
+        tmy3.sampled(days)

@@ -8,6 +8,7 @@ import pandas as pd
 import pytest
 
 from layout import Block, FillOptions, Project, Site, gable_roof, generic_60_cell, no_setbacks
+from layout.errors import InputError
 from layout.power.electrical import ElectricalOptions
 from layout.power.energy import EnergyOptions
 from layout.project import load_demo_project
@@ -261,3 +262,27 @@ def test_a_kept_state_is_not_recalled_once_files_are_read_from_another_folder(de
     analysis.update(moved(demo, tree, 1.0, 0.0))
     analysis.base_dir = tmp_path  # a project file opened from elsewhere
     assert "recalled" not in analysis.update(demo)
+
+
+def test_a_sampled_analysis_reuses_the_weather_given_and_estimates_the_year(demo, analysis):
+    # previews run on one day in five of the weather the main analysis read: nothing is read
+    # again, and the shade loss lands near the whole year's (the exact figure comes at drop)
+    weather = analysis.result.weather
+    sampled = Analysis(demo, sample_days=5, weather=weather, recent=0)
+    assert sampled.result.weather.site == weather.site
+    assert set(sampled.result.weather.data.index.dayofyear) == set(range(1, 366, 5))
+    assert sampled.timings["weather"] < 0.5  # no file read (a read takes a second or so)
+    assert sampled.result.totals["shade_loss_pct"] == pytest.approx(
+        analysis.result.totals["shade_loss_pct"], abs=0.25)
+    assert sampled.result.totals["energy_kwh"] == pytest.approx(
+        analysis.result.totals["energy_kwh"], rel=0.03)
+    tree = index_of(demo, "silver maple (south-west)")
+    project = moved(demo, tree, 1.0, 0.5)
+    sampled.update(project, remember=False)
+    assert sampled.rays_tested == 1 and sampled.result.totals["shade_loss_pct"] > 0
+
+
+@pytest.mark.parametrize("days", [0, 25, 1.5, True])
+def test_sample_days_out_of_range_names_the_field(demo, days):
+    with pytest.raises(InputError, match="sample_days"):
+        Analysis(demo, sample_days=days)
