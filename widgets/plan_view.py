@@ -595,7 +595,8 @@ class PlanView(Quiet, w.VBox):
                  self.module_fill_marks, self.removed_marks, self.obstruction_marks,
                  self.tree_marks, self.edge_labels, self.face_labels, self.module_targets,
                  self.obstruction_markers, self.flag_marks, self.selected_mark,
-                 self.surveyed_markers, self.station_marks, self.sight_marks, self.data_marks]
+                 self.surveyed_markers, self.station_marks, self.sight_marks, self.data_marks,
+                 self.face_targets]
         with contextlib.ExitStack() as stack, self._silently():
             for mark in marks:
                 stack.enter_context(mark.hold_sync())
