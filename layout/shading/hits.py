@@ -128,10 +128,15 @@ class Facing:
         True where the sun is in front of surface orientation k (``sun · normal > 0``).
     group : numpy.ndarray of int, shape (N,)
         Surface orientation of each point.
+    normals : numpy.ndarray, shape (K, 3), optional
+        The normal of each orientation, as ``lit`` was computed with it; with it an
+        obstruction wholly behind a point's surface is not ray-tested from that point
+        (:func:`_in_front`).
     """
 
     lit: np.ndarray
     group: np.ndarray
+    normals: np.ndarray | None = None
 
     @classmethod
     def from_normals(cls, sun, normals) -> Facing:
@@ -139,7 +144,7 @@ class Facing:
         normals = np.asarray(normals, dtype=float)
         unique, group = np.unique(np.round(normals, 9), axis=0, return_inverse=True)
         lit = np.asarray(sun, dtype=float) @ unique.T > 0.0
-        return cls(lit=lit, group=group.reshape(-1).astype(np.intp))
+        return cls(lit=lit, group=group.reshape(-1).astype(np.intp), normals=unique)
 
     def lit_at(self, step, point) -> np.ndarray:
         """Whether the sun of each ``step`` lights the front of the surface of each ``point``."""
@@ -149,7 +154,51 @@ class Facing:
 
     def subset(self, index) -> Facing:
         """Return the same table for the points ``index`` only."""
-        return Facing(self.lit, self.group[index])
+        return Facing(self.lit, self.group[index], self.normals)
+
+
+#: [m] How far behind a point's surface an obstruction's box must lie, all of it, to be left
+#: untested from that point: far above the rounding of the distances, far below any size.
+_BEHIND_MARGIN_M = 1e-9
+
+
+def _in_front(pts, facing: Facing, obstruction) -> np.ndarray | None:
+    """Return the points that may see ``obstruction`` in front of their surface, or None (all).
+
+    A ray is tested only while the sun is in front of the point's surface
+    (``sun · n > 0``, :class:`Facing`), so every point ``p + t · sun`` it reaches lies in front
+    of the surface's plane through ``p`` (``n · (x − p) = t · (sun · n) > 0``). An
+    obstruction whose bounding box lies wholly behind that plane (every corner ``c`` with
+    ``n · (c − p) <= 0``, by a margin) can therefore never be hit from ``p``: the far slope of a
+    gable seen from the near one, the rack rows behind a tilted module. Exact, with the same
+    normals that decide which steps are lit.
+    """
+    if facing.normals is None:
+        return None
+    corners = _hull_corners(obstruction)
+    reach = (facing.normals @ corners.T).max(axis=1)  # farthest corner along each normal
+    normals = facing.normals[facing.group]
+    ahead = np.flatnonzero(reach[facing.group] - np.einsum("ij,ij->i", pts, normals)
+                           > -_BEHIND_MARGIN_M)
+    return None if len(ahead) == len(pts) else ahead
+
+
+def _hull_corners(obstruction) -> np.ndarray:
+    """Points whose convex hull holds the obstruction [m], (K, 3).
+
+    A plate's corners (a plate set's hull), a block's footprint at its base and top, else
+    the corners of the bounding box.
+    """
+    if isinstance(obstruction, PlateSet):
+        obstruction = obstruction.hull
+    if isinstance(obstruction, Plate):
+        return np.asarray(obstruction.corners, dtype=float)
+    if isinstance(obstruction, Block):
+        ring = np.asarray(obstruction.footprint, dtype=float)
+        return np.vstack([np.column_stack([ring, np.full(len(ring), z)])
+                          for z in (obstruction.base, obstruction.top)])
+    x0, y0, z0, x1, y1, z1 = obstruction.bounds
+    return np.array(list(itertools.product((x0, x1), (y0, y1), (z0, z1))), dtype=float)
 
 
 class _HitList:
@@ -224,6 +273,15 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
                                          sun_order, sub_facing)
                 return ShadeHits(hits.step, near[hits.point].astype(np.int32),
                                  hits.crown_only)
+    if cull and facing is not None:
+        ahead = _in_front(pts, facing, obstruction)  # the rest have it behind their surface
+        if ahead is not None:
+            if not len(ahead):
+                _ray_effect(obstruction, np.zeros((0, 3)), np.zeros((0, 3)), start)
+                return ShadeHits(empty, empty, np.zeros(0, dtype=bool))
+            hits = _obstruction_hits(pts[ahead], sun_v, obstruction, start, max_pairs, cull,
+                                     sun_order, facing.subset(ahead))
+            return ShadeHits(hits.step, ahead[hits.point].astype(np.int32), hits.crown_only)
     side = None
     # a plate set is culled as its hull, a plate in the same plane (plate_sets.py)
     cull_as = obstruction.hull if isinstance(obstruction, PlateSet) else obstruction

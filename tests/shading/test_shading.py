@@ -886,3 +886,46 @@ def test_module_casters_shade_as_the_modules_one_by_one():
         one_by_one = module_shade(mods, spec, sun, [Plate.from_module(m) for m in mods],
                                   include_modules=False)
         assert sets.cell.any() and np.array_equal(sets.cell, one_by_one.cell)
+
+
+@pytest.mark.parametrize("seed", [21, 22])
+def test_obstructions_behind_a_surface_are_not_tested_and_the_hits_stay_the_same(seed):
+    # Points on tilted surfaces, a random scene plus the far slope of a gable: the cull of
+    # obstructions wholly behind a point's surface (Facing with its normals) leaves the hits
+    # of the same facing rule without it, and those equal trimesh's ray caster (a general
+    # library) on the lit rays, up to the tessellation of curved parts.
+    from layout.shading.hits import Facing, _in_front, _obstruction_hits
+
+    rng = np.random.default_rng(seed)
+    south = RoofFace([(-6, -3), (6, -3), (6, 0), (-6, 0)], 35.0, 180.0, 4.0, name="south")
+    north = RoofFace([(-6, 0), (6, 0), (6, 3), (-6, 3)], 35.0, 0.0, 4.0, name="north")
+    far_slope = Plate.from_face(north)
+    scene = [*random_scene(rng), far_slope]
+    uv = np.column_stack([rng.uniform(0.2, 11.8, 60), rng.uniform(0.2, 3.0, 60)])
+    pts = np.vstack([south.roof_to_3d(uv) + 0.1 * south.normal,
+                     north.roof_to_3d(uv) + 0.1 * north.normal])
+    normals = np.vstack([np.tile(south.normal, (60, 1)), np.tile(north.normal, (60, 1))])
+    sun = sun_vectors(rng.uniform(0, 360, 50), rng.uniform(1, 89, 50))
+    with_normals = Facing.from_normals(sun, normals)
+    without = Facing(with_normals.lit, with_normals.group)  # the same rule, no cull
+    culled_somewhere = False
+    for ob in scene:
+        ahead = _in_front(pts, with_normals, ob)
+        culled_somewhere |= ahead is not None
+        kept = _obstruction_hits(pts, sun, ob, RAY_START_M, 1 << 16, True, None,
+                                 with_normals)
+        plain = _obstruction_hits(pts, sun, ob, RAY_START_M, 1 << 16, True, None, without)
+        assert set(zip(kept.step.tolist(), kept.point.tolist(), strict=True)) \
+            == set(zip(plain.step.tolist(), plain.point.tolist(), strict=True))
+    assert culled_somewhere
+    # the far slope is behind every point of the near one (and a hair below its own points)
+    ahead = _in_front(pts, with_normals, far_slope)
+    assert ahead is not None and not (ahead < 60).any()
+    # trimesh on the plane scene: the far slope never shades the near slope's lit points
+    mesh = trimesh.Trimesh(np.asarray(far_slope.corners), [[0, 1, 2], [0, 2, 3]],
+                           process=False)
+    step, point = np.meshgrid(np.arange(len(sun)), np.arange(60), indexing="ij")
+    step, point = step.ravel(), point.ravel()
+    lit = with_normals.lit_at(step, point)
+    origins = pts[point[lit]] + RAY_START_M * sun[step[lit]]
+    assert not mesh.ray.intersects_any(origins, sun[step[lit]]).any()
