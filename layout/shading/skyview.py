@@ -257,8 +257,9 @@ class SkyViewCache:
         self._groups = []
         for index in keys.values():
             pts = np.vstack([_module_grid_points(modules[k], self.grid) for k in index])
-            dirs = hemisphere_directions(modules[index[0]].normal, n_directions)
-            self._groups.append((np.array(index), _check_points(pts), dirs))
+            normal = np.asarray(modules[index[0]].normal, dtype=float)
+            dirs = hemisphere_directions(normal, n_directions)
+            self._groups.append((np.array(index), _check_points(pts), dirs, normal))
         self._caches: dict = {}
         self._module_plates: tuple | None = None  # built once: the modules never change
         self.tested = 0
@@ -288,13 +289,18 @@ class SkyViewCache:
         out = np.empty(len(self.modules))
         kept = {}
         self.tested = 0
-        for g, (index, pts, dirs) in enumerate(self._groups):
+        for g, (index, pts, dirs, normal) in enumerate(self._groups):
             key = (g, horizons)  # the skyline decides which directions are tested at all
             cache = self._caches.get(key)
             if cache is None:
                 open_ = dirs[_above_skyline(dirs, horizons)]
+                # every direction is in front of the modules' plane: with their normal the
+                # cache skips what stands wholly behind it (the same rays, Facing)
+                front = (np.tile(normal, (len(pts), 1))
+                         if len(open_) and (open_ @ np.round(normal, 9) > 0.0).all() else None)
                 cache = ShadeCache(pts, open_, ray_start=self.ray_start,
-                                   max_pairs=self.max_pairs) if len(open_) else None
+                                   max_pairs=self.max_pairs, normals=front) \
+                    if len(open_) else None
             kept[key] = cache
             if cache is None:
                 f = np.zeros(len(pts))
@@ -308,6 +314,6 @@ class SkyViewCache:
     def open_factors(self) -> np.ndarray:
         """Return the sky-view factor of each module with nothing around it (ground only)."""
         out = np.empty(len(self.modules))
-        for index, _, dirs in self._groups:
+        for index, _, dirs, _ in self._groups:
             out[index] = np.count_nonzero(dirs[:, 2] > 0.0) / len(dirs)
         return out
