@@ -699,6 +699,10 @@ def test_previews_during_a_drag_are_spaced_out(planner, demo):
         for k in range(5):
             drag_message(planner, TREE, (-1.0 - 0.1 * k) / FOOT_M, -6.0 / FOOT_M)
         assert len(calls) == 1
+        # the place just previewed, sent again (browsers send moves in pairs): no new preview
+        planner._preview_done -= planner.preview_interval_s
+        drag_message(planner, TREE, -1.0 / FOOT_M, -6.0 / FOOT_M)
+        assert len(calls) == 1
     finally:
         del previews.update
         drag_message(planner, TREE, 0, 0, event="drag_end")

@@ -550,8 +550,10 @@ class Planner(StringsWiring, LossRangeAndReport, w.VBox):
             return
         try:
             preview, label, place = self._moved_project(index, x_m, y_m)
-            self._busy_since = time.perf_counter()
             analysis = self._preview_analysis()
+            if self._previewed and preview == analysis.project:
+                return  # the same snapped place again (a browser sends moves in pairs)
+            self._busy_since = time.perf_counter()
             analysis.update(preview, remember=False)
         except (InputError, ProjectFileError, OSError, ValueError):
             self._progress_done()
