@@ -20,6 +20,8 @@ from functools import cached_property
 from importlib import resources
 from pathlib import Path
 
+import shapely
+
 from .errors import InputError, check_fields
 from .fill.faces import FillOptions
 from .fill.placed import Layout
@@ -202,6 +204,20 @@ class Project:
         """Return the names of the items whose source has ``note``, in the order listed."""
         return tuple(name for source in self.sources if source["note"] == note
                      for name in source["items"])
+
+    def outlines_noted(self, note: str) -> tuple:
+        """Return ``(name, plan outline)`` of the faces and obstructions noted ``note`` [m].
+
+        The faces first, then the obstructions with a plan footprint, each in the order
+        listed: what the plan and the report outline apart (a dotted line for items "from
+        elevation data, not surveyed").
+        """
+        noted = set(self.items_noted(note))
+        faces = tuple((face.name, shapely.Polygon(face.outline)) for face in self.faces
+                      if face.name in noted)
+        return faces + tuple((ob.name, ob.footprint_polygon) for ob in self.obstructions
+                             if getattr(ob, "name", "") in noted
+                             and hasattr(ob, "footprint_polygon"))
 
     def unmarked(self, names) -> Project:
         """Return a copy whose ``sources`` no longer list ``names``.

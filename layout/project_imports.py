@@ -9,11 +9,12 @@ from __future__ import annotations
 
 from dataclasses import replace
 
-from .elevation import PROVENANCE, ElevationScene, cross_check
+from .elevation import ElevationScene, cross_check
 from .errors import InputError
 from .fill.rules import ifc_2021_residential
 from .project import Project
 from .scene.modules import generic_108_half_cell
+from .scene.provenance import PROVENANCE
 from .scene.site import Site
 
 __all__ = [

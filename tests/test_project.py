@@ -253,3 +253,25 @@ def test_string_inputs_must_match_the_strings(document):
     assert info.value.problems[0][0] == "strings.inputs"
     document["energy"]["electrical"]["strings"] = [["south/r0c0"], ["south/r0c1"]]
     assert project_from_dict(document).strings.inputs == (0, 1)
+
+
+def test_outlines_noted_are_the_faces_then_the_obstructions_a_source_names(demo):
+    from layout.scene.provenance import PROVENANCE
+
+    face = demo.faces[1]
+    tree = next(o for o in demo.obstructions if type(o).__name__ == "Tree")
+    project = demo.with_changes(sources=(
+        {"kind": "elevation data", "note": PROVENANCE, "items": [tree.name, face.name]},
+        {"kind": "footprint file", "note": "from a footprint file", "items": ["chimney"]}))
+    outlines = project.outlines_noted(PROVENANCE)
+    assert [name for name, _ in outlines] == [face.name, tree.name]
+    # the face's own plan outline and the crown's footprint, the same areas
+    assert outlines[0][1].area == pytest.approx(abs(_shoelace(face.outline)), rel=1e-12)
+    assert outlines[1][1].equals(tree.footprint_polygon)
+    assert demo.outlines_noted(PROVENANCE) == ()
+
+
+def _shoelace(ring) -> float:
+    """Plan area of a ring by the shoelace formula (independent of shapely)."""
+    return 0.5 * sum(x0 * y1 - x1 * y0 for (x0, y0), (x1, y1)
+                     in zip(ring, [*ring[1:], ring[0]], strict=True))

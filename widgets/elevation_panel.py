@@ -15,9 +15,10 @@ from collections.abc import Callable
 
 import ipywidgets as w
 
-from layout.elevation import PROVENANCE, import_elevation
+from layout.elevation import import_elevation
 from layout.errors import InputError
 from layout.project_imports import add_scene_items, scene_items
+from layout.scene.provenance import PROVENANCE
 
 __all__ = ["ElevationPanel", "item_label"]
 

@@ -15,8 +15,8 @@ import numpy as np
 import shapely
 from shapely.ops import polylabel
 
-from layout.elevation import PROVENANCE
 from layout.report.plan import zone_category
+from layout.scene.provenance import PROVENANCE
 from layout.units import FOOT_M
 
 __all__ = [
@@ -162,13 +162,9 @@ def plan_scene(project, layout, areas: dict) -> PlanScene:
          type(o).__name__ == "Tree", o.footprint_polygon, obstruction_anchor(o),
          (float(entry.station_x_m), float(entry.station_y_m)))
         for i, (entry, o) in enumerate(zip(project.survey, built, strict=True)))
-    noted = set(project.items_noted(PROVENANCE))
-    from_data = tuple((name, shapely.Polygon(ring)) for name, ring in faces if name in noted)
-    from_data += tuple((label, footprint) for i, label, _, footprint, _ in obstructions
-                       if getattr(project.obstructions[i], "name", "") in noted)
     return PlanScene(faces=tuple(faces), edges=tuple(edges), zones=tuple(zones),
                      usable=tuple(usable), modules=modules, obstructions=obstructions,
-                     surveyed=surveyed, from_data=from_data)
+                     surveyed=surveyed, from_data=project.outlines_noted(PROVENANCE))
 
 
 def footprint_rings(scene: PlanScene) -> tuple[list, list]:

@@ -28,7 +28,7 @@ import ipywidgets as w
 import numpy as np
 import shapely
 
-from layout.elevation import PROVENANCE
+from layout.scene.provenance import PROVENANCE
 from layout.units import format_length
 
 from . import style

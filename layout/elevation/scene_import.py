@@ -17,6 +17,7 @@ import shapely
 from ..errors import InputError
 from ..scene.building import Building
 from ..scene.obstructions import Block, HorizonProfile, Tree
+from ..scene.provenance import PROVENANCE
 from .bumps import RoofBump, roof_bumps
 from .classify import classify_points
 from .faces import faces_from_planes, level_eaves
@@ -34,10 +35,6 @@ from .terrain import ground_model
 from .trees import find_trees
 
 __all__ = ["PROVENANCE", "ElevationScene", "import_elevation", "scene_from_points"]
-
-#: What every imported item is, for the planner and the project file.
-PROVENANCE = "from elevation data, not surveyed"
-
 
 @dataclass(frozen=True, eq=False)
 class ElevationScene:

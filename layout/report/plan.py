@@ -14,6 +14,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 import shapely
 
+from ..scene.provenance import PROVENANCE
 from ..units import FOOT_M
 from .blocks import Figure, Paragraph, Section, number
 from .colours import figure_colours
@@ -70,7 +71,7 @@ class PlanDrawing:
         Whether the modules' numbers fit inside them at :data:`PLAN_WIDTH_MM`.
     from_data : tuple of (str, shapely geometry)
         Name and plan outline [m] of each face and obstruction from elevation data, not
-        surveyed (:data:`layout.elevation.PROVENANCE`), outlined apart on the plan.
+        surveyed (:data:`layout.scene.provenance.PROVENANCE`), outlined apart on the plan.
     """
 
     faces: tuple
@@ -170,13 +171,7 @@ def plan_drawing(evaluation, *, metric: str = "shade_loss_pct") -> PlanDrawing:
             if hasattr(ob, "footprint_polygon")]
     obstructions = tuple((label, type(ob).__name__ == "Tree", ob.footprint_polygon)
                          for label, ob in rows)
-    from ..elevation import PROVENANCE  # here: the elevation stage loads pyproj
-
-    noted = set(project.items_noted(PROVENANCE))
-    from_data = tuple((face.name, shapely.Polygon(face.outline)) for face in project.faces
-                      if face.name in noted)
-    from_data += tuple((label, ob.footprint_polygon) for label, ob in rows
-                       if getattr(ob, "name", "") in noted)
+    from_data = project.outlines_noted(PROVENANCE)
     finite = values[np.isfinite(values)]
     low = float(finite.min()) if len(finite) else float("nan")
     high = float(finite.max()) if len(finite) else float("nan")
@@ -205,8 +200,6 @@ def layout_section(evaluation, *, metric: str = "shade_loss_pct") -> Section:
                "Hatched: setbacks, access pathways and clearances; grey: obstructions; dashed: "
                "modules taken out.")
     if drawing.from_data:
-        from ..elevation import PROVENANCE
-
         caption += (f" Dotted umber outline: {PROVENANCE} ("
                     + ", ".join(name for name, _ in drawing.from_data) + ").")
     return Section("layout", "The layout", (
