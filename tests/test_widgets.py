@@ -653,6 +653,25 @@ def test_dragging_shows_a_live_preview_and_the_drop_keeps_it(planner, demo):
         planner.first_preview_s = planner.FIRST_PREVIEW_S
 
 
+def test_the_first_preview_after_a_roof_edit_recolours_the_modules(demo):
+    # the preview analysis catches up with the edit (it refills) at the next drag's first
+    # preview: the modules it colours are still those drawn, so they are recoloured
+    planner = Planner(demo)
+    planner.preview_interval_s = planner.first_preview_s = 0.0
+    drag_message(planner, TREE, -1.0 / FOOT_M, -6.0 / FOOT_M)  # makes the preview analysis
+    drag_message(planner, TREE, 0, 0, event="drag_end")
+    planner.roof_panel.select_face("south")
+    planner.roof_panel.pitch.input.value = "33"
+    assert planner.roof_panel.apply_face()
+    edited = planner.project
+    drag_message(planner, TREE, -1.5 / FOOT_M, -6.5 / FOOT_M)
+    assert "fill" in planner._preview_analysis().recomputed
+    x, y = (snap_length(v, "imperial") for v in (-1.5, -6.5))
+    sampled = Analysis(moved_project(edited, TREE, x, y), sample_days=5).result
+    assert planner.plan.module_values.to_numpy() == pytest.approx(
+        sampled.table["shade_loss_pct"].to_numpy(), rel=1e-9)
+
+
 @pytest.mark.parametrize("setting", ["preview_sample_days", "SAMPLED_PREVIEW_MODULES"])
 def test_previews_are_exact_on_a_large_roof_or_when_asked(planner, demo, setting):
     # one day in one, or a roof above the size limit (here: a limit of one module), previews

@@ -562,7 +562,10 @@ class Planner(StringsWiring, LossRangeAndReport, w.VBox):
         result = analysis.result
         self._previewing = self._previewed = True
         try:
-            if "fill" not in analysis.recomputed:  # same modules: recolour them
+            shown = self.array_layout
+            if result.layout is shown or (result.layout.modules == shown.modules
+                                          and result.layout.removed == shown.removed):
+                # the modules drawn (not a roof-mounted obstruction refilling): recolour them
                 self._set_module_figures(redraw=False, result=result)
                 self.plan.draw(plan_scene(preview, result.layout, result.areas),
                                units=preview.units, preview=True)
