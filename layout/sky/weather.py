@@ -128,8 +128,9 @@ class Weather:
         Where the data came from, for the report (``"clear sky (Ineichen)"`` or the file).
     is_clear_sky : bool
         True for the default clear sky.
-    step_minutes : int
-        Length of each interval [minutes].
+    step_minutes : int or float
+        Length of each interval [minutes]; the time each step stands for in a sample of the
+        year (:meth:`sampled`, not a whole number).
     notes : tuple of str
         What was converted or assumed while reading (label shift, defaults filled in).
     """
@@ -164,9 +165,10 @@ class Weather:
 
         The days kept are those whose day of the year is a multiple of ``every_days`` (Jan 1
         is day 0), whole, at every step; :attr:`step_minutes` becomes the time each kept step
-        stands for (``every_days`` times the step), so energy summed over the sample
-        estimates the whole year's. A quick approximation for live previews, never for a
-        quoted figure: the source says so.
+        stands for, the year's steps over the steps kept (about ``every_days`` times the
+        step, and not a whole number), so that energy summed over the sample estimates the
+        whole year's. A quick approximation for live previews, never for a quoted figure:
+        the source says so.
 
         Parameters
         ----------

@@ -468,8 +468,8 @@ def _array_bytes(item, depth: int = 2) -> int:
     """Return roughly the bytes the arrays of an evaluation hold (dataclass fields, two deep)."""
     if isinstance(item, np.ndarray):
         return item.nbytes
-    if isinstance(item, pd.DataFrame):  # its numbers, counted at 8 bytes each (pandas'
-        return 8 * item.size                # memory_usage takes milliseconds)
+    if isinstance(item, pd.DataFrame):
+        return 8 * item.size  # 8 bytes a value: pandas' memory_usage takes milliseconds
     if depth and is_dataclass(item) and not isinstance(item, type):
         return sum(_array_bytes(getattr(item, f.name), depth - 1) for f in fields(item))
     return 0
