@@ -653,6 +653,57 @@ def test_dragging_shows_a_live_preview_and_the_drop_keeps_it(planner, demo):
         planner.first_preview_s = planner.FIRST_PREVIEW_S
 
 
+def test_a_move_handled_late_is_not_previewed(planner, demo, monkeypatch):
+    # the kernel behind the browser (moves queued): a move older than the freshest of the
+    # drag by more than PREVIEW_LATE_S is skipped; caught up again, moves preview
+    import widgets.planner as planner_module
+
+    ages = iter([0.020, 0.020 + planner.PREVIEW_LATE_S + 0.03, 0.025])
+    monkeypatch.setattr(planner_module, "message_age_s", lambda widget: next(ages))
+    previews = planner._preview_analysis()
+    calls = []
+    original = previews.update
+    monkeypatch.setattr(previews, "update", lambda project, **options: calls.append(
+        project) or original(project, **options))
+    planner.preview_interval_s = planner.first_preview_s = 0.0
+    try:
+        drag_message(planner, TREE, -1.0 / FOOT_M, -6.0 / FOOT_M, event="drag_start")
+        drag_message(planner, TREE, -1.1 / FOOT_M, -6.0 / FOOT_M)  # fresh: previewed
+        drag_message(planner, TREE, -1.2 / FOOT_M, -6.0 / FOOT_M)  # 80 ms late: skipped
+        drag_message(planner, TREE, -1.3 / FOOT_M, -6.0 / FOOT_M)  # caught up: previewed
+        assert len(calls) == 2
+        assert [p.obstructions[TREE] for p in calls] == [
+            moved_project(demo, TREE, snap_length(x, "imperial"),
+                          snap_length(-6.0, "imperial")).obstructions[TREE]
+            for x in (-1.1, -1.3)]
+    finally:
+        planner.preview_interval_s = planner.PREVIEW_INTERVAL_S
+        planner.first_preview_s = planner.FIRST_PREVIEW_S
+        monkeypatch.undo()
+        drag_message(planner, TREE, 0, 0, event="drag_end")
+    assert planner.analysis.project is planner.project is demo
+
+
+def test_message_age_reads_the_front_ends_date_from_the_kernel():
+    from datetime import UTC, datetime, timedelta
+    from types import SimpleNamespace
+
+    from widgets.message_age import message_age_s
+
+    sent = datetime.now(UTC) - timedelta(seconds=0.5)
+
+    def widget(date):
+        header = {"header": {"date": date}}
+        return SimpleNamespace(comm=SimpleNamespace(kernel=SimpleNamespace(
+            get_parent=lambda channel: header)))
+
+    assert message_age_s(widget(sent)) == pytest.approx(0.5, abs=0.2)
+    assert message_age_s(widget(sent.isoformat())) == pytest.approx(0.5, abs=0.2)
+    assert message_age_s(widget(sent.replace(tzinfo=None))) == pytest.approx(0.5, abs=0.2)
+    assert message_age_s(widget("not a date")) is None
+    assert message_age_s(SimpleNamespace(comm=None)) is None  # no kernel: a test, a script
+
+
 def test_the_first_preview_after_a_roof_edit_recolours_the_modules(demo):
     # the preview analysis catches up with the edit (it refills) at the next drag's first
     # preview: the modules it colours are still those drawn, so they are recoloured

@@ -89,6 +89,7 @@ from .forms import ObstructionForm, length_text
 from .history_bar import HistoryBar
 from .hours_panel import HoursPanel
 from .loss_band import LossRangePanel
+from .message_age import message_age_s
 from .module_panel import ModulePanel
 from .page_style import page_style
 from .plan_view import PlanView, obstruction_anchor, obstruction_label, plan_scene
@@ -216,6 +217,10 @@ class Planner(StringsWiring, LossRangeAndReport, w.VBox):
     #: many): about a third of an exact update's time on the demo house, with its shade loss
     #: within about 0.1 point of the exact one; the drop gives the exact figures.
     PREVIEW_SAMPLE_DAYS = 5
+    #: A move handled this long [s] after the freshest move of the drag is skipped: the
+    #: kernel is behind and newer moves are queued (a busy machine, a slow preview), so the
+    #: preview waits for them and the drop does not queue behind stale previews.
+    PREVIEW_LATE_S = 0.05
     #: Largest roof [modules] whose previews run on the sampled weather; a larger one
     #: previews exactly on the main analysis.
     SAMPLED_PREVIEW_MODULES = 200
@@ -241,6 +246,7 @@ class Planner(StringsWiring, LossRangeAndReport, w.VBox):
         self._busy_since = 0.0
         self._preview_done = 0.0
         self._previewing = self._previewed = False
+        self._freshest = None
         self.preview_sample_days = self.PREVIEW_SAMPLE_DAYS
         self._previews = None  # (the weather it was made from, the preview analysis)
         self.compare_result = None
@@ -543,6 +549,8 @@ class Planner(StringsWiring, LossRangeAndReport, w.VBox):
                 obstruction_label(old, index), place)
 
     def _obstruction_dragging(self, index: int, x_m: float, y_m: float) -> None:
+        if self._behind_the_mouse():
+            return  # newer moves are queued: preview where the mouse is, not where it was
         now = time.perf_counter()
         if now - self._drag_since < self.first_preview_s \
                 or now - self._preview_done < self.preview_interval_s \
@@ -602,10 +610,24 @@ class Planner(StringsWiring, LossRangeAndReport, w.VBox):
             self._previews = kept = (weather, analysis)
         return kept[1]
 
+    def _behind_the_mouse(self) -> bool:
+        """Tell whether the kernel is behind the browser's moves.
+
+        True when the move being handled is older than the freshest move of the drag by more
+        than :attr:`PREVIEW_LATE_S`.
+        """
+        age = message_age_s(self.plan.obstruction_markers)
+        if age is None:
+            return False
+        floor = age if self._freshest is None else min(self._freshest, age)
+        self._freshest = floor
+        return age - floor > self.PREVIEW_LATE_S
+
     def _drag_started(self) -> None:
         # the first preview comes first_preview_s into the drag: a quick drag goes straight
         # to its drop, with the kernel free
         self._drag_since = time.perf_counter()
+        self._freshest = None  # least age of this drag's moves [s] (message_age_s)
 
     def _drag_ended(self) -> None:
         if self._previewed:
