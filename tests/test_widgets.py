@@ -656,10 +656,10 @@ def test_dragging_shows_a_live_preview_and_the_drop_keeps_it(planner, demo):
 def test_a_move_handled_late_is_not_previewed(planner, demo, monkeypatch):
     # the kernel behind the browser (moves queued): a move older than the freshest of the
     # drag by more than PREVIEW_LATE_S is skipped; caught up again, moves preview
-    import widgets.planner as planner_module
+    import widgets.planner_previews as previews_module
 
     ages = iter([0.020, 0.020 + planner.PREVIEW_LATE_S + 0.03, 0.025])
-    monkeypatch.setattr(planner_module, "message_age_s", lambda widget: next(ages))
+    monkeypatch.setattr(previews_module, "message_age_s", lambda widget: next(ages))
     previews = planner._preview_analysis()
     calls = []
     original = previews.update
