@@ -321,14 +321,17 @@ def dc_module_level(substring_irradiance, temp_cell, pdc0: float, *,
         return np.zeros(g.shape[:2])
     if temp.shape != g.shape[:2]:
         temp = np.broadcast_to(temp, g.shape[:2])
-    out = np.empty(g.shape[:2])
-    dark = np.ones(g.shape[0], dtype=bool)
+    # no light at a step on any module: no power; the rest (about half a year of hours) are
+    # worked on alone, each value as it would be among all the steps
+    out = np.zeros(g.shape[:2])
+    lit = _lit_steps(g)
     # a block of modules at a time (every step is reduced within its module): the
     # temporaries stay a few (T, block) arrays on a roof of thousands of modules
-    block = max(1, _BLOCK_VALUES // max(1, g.shape[0]))
+    block = max(1, _BLOCK_VALUES // max(1, len(lit)))
     for lo in range(0, g.shape[1], block):
         part = slice(lo, lo + block)
-        substrings = np.ascontiguousarray(np.moveaxis(g[:, part], 2, 0))  # (S, T, m)
+        temp_lit = temp[lit, part]
+        substrings = np.ascontiguousarray(np.moveaxis(g[lit, part], 2, 0))  # (S, T, m)
         highest = np.full(substrings.shape[1:], -np.inf)
         lowest = np.full(substrings.shape[1:], np.inf)
         for brightness in substrings:
@@ -336,11 +339,9 @@ def dc_module_level(substring_irradiance, temp_cell, pdc0: float, *,
             candidate = rank * (brightness / s)
             np.maximum(highest, candidate, out=highest)
             np.minimum(lowest, candidate, out=lowest)
-        factor = pvlib.pvsystem.pvwatts_dc(1000.0, temp[:, part], 1.0, gamma_pdc)
+        factor = pvlib.pvsystem.pvwatts_dc(1000.0, temp_lit, 1.0, gamma_pdc)
         best = np.where(factor >= 0, highest, lowest)
-        out[:, part] = pvlib.pvsystem.pvwatts_dc(best, temp[:, part], pdc0, gamma_pdc)
-        dark &= substrings.max(axis=0).max(axis=1, initial=0.0) <= 0
-    out[dark] = 0.0  # no light at the step on any module: no power
+        out[lit, part] = pvlib.pvsystem.pvwatts_dc(best, temp_lit, pdc0, gamma_pdc)
     return out
 
 
