@@ -92,8 +92,10 @@ def _elevation_band(points, near, far, zmin, zmax):
     """
     up = zmax - points[:, 2]
     down = zmin - points[:, 2]
-    el_max = np.where(up > 0, np.arctan2(up, near), np.arctan2(up, far)) + _ANGLE_MARGIN
-    el_min = np.where(down >= 0, np.arctan2(down, far), np.arctan2(down, near)) - _ANGLE_MARGIN
+    el_max = np.arctan2(up, np.where(up > 0, near, far))  # one arctan2 a bound
+    el_max += _ANGLE_MARGIN
+    el_min = np.arctan2(down, np.where(down >= 0, far, near))
+    el_min -= _ANGLE_MARGIN
     return el_min, el_max
 
 
@@ -175,17 +177,18 @@ def _plate_sector_limits(plate: Plate) -> tuple[np.ndarray, np.ndarray]:
     return upper + _ANGLE_MARGIN + _EL_SHIFT, lower - _ANGLE_MARGIN + _EL_SHIFT
 
 
-def _candidate_ranges(points, sun_order: _SunOrder, obstruction):
+def _candidate_ranges(points, sun_order: _SunOrder, obstruction, *, coarse: bool = True):
     """Per point, runs of sector-sorted sun steps that may meet the obstruction.
 
     Returns ``(point, start, count)`` arrays, one row per (point, azimuth sector) pair the
     point's window spans, each run holding the sector's steps inside the point's elevation
     band (positions in ``sun_order.order``). A point whose band misses every sun elevation in
     its window's sectors gets no run; for blocks and plates a coarse bound (bounding
-    cylinder) drops such points before the tighter hull bound is computed.
+    cylinder) drops such points before the tighter hull bound is computed, unless
+    ``coarse`` is False (points already culled by their group, :mod:`.point_groups`).
     """
     index = np.arange(len(points))
-    if isinstance(obstruction, (Block, Plate)):
+    if coarse and isinstance(obstruction, (Block, Plate)):
         _, span, _, _ = _sector_spans(sun_order,
                                       *_angular_bounds(points, obstruction, coarse=True))
         index = np.flatnonzero(span)

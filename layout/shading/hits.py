@@ -202,7 +202,7 @@ class _HitList:
 
 
 def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order,
-                      facing=None, groups=None) -> ShadeHits:
+                      facing=None, groups=None, coarse=True) -> ShadeHits:
     empty = np.zeros(0, dtype=np.int32)
     if isinstance(obstruction, HorizonProfile):
         blocked = np.asarray(obstruction.blocks_vectors(sun_v), dtype=bool) if len(sun_v) \
@@ -220,8 +220,10 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
             near = _near_points(groups, sun_order, obstruction)
             if near is not None:
                 sub_facing = None if facing is None else facing.subset(near)
+                # only the points of the groups kept: the group cull has done what the
+                # coarse per-point pass would (which drops under 1 % of them on rack roofs)
                 hits = _obstruction_hits(pts[near], sun_v, obstruction, start, max_pairs, cull,
-                                         sun_order, sub_facing)
+                                         sun_order, sub_facing, coarse=False)
                 return ShadeHits(hits.step, near[hits.point].astype(np.int32),
                                  hits.crown_only)
     side = None
@@ -238,7 +240,7 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
         if len(active) < len(pts):
             sub_facing = None if facing is None else facing.subset(active)
             hits = _obstruction_hits(pts[active], sun_v, obstruction, start, max_pairs, cull,
-                                     sun_order, sub_facing)
+                                     sun_order, sub_facing, coarse=coarse)
             return ShadeHits(hits.step, active[hits.point].astype(np.int32), hits.crown_only)
         # a ray meets the plane only when the sun lies on the far side from the point
         side = (dist > 0, sun_v @ _plate_geometry(cull_as)[3] < 0)
@@ -270,7 +272,9 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
 
     found = _HitList(effect, facing, sub)
     if cull:
-        found.test_runs(order, _candidate_ranges(pts, order, cull_as), max_pairs, side)
+        found.test_runs(order, _candidate_ranges(pts, order, cull_as,
+                                                 coarse=coarse and groups is None),
+                        max_pairs, side)
         if len(order.zenith_steps):
             found.test(np.repeat(np.arange(len(pts)), len(order.zenith_steps)),
                        np.tile(order.zenith_steps, len(pts)))
