@@ -230,12 +230,27 @@ def _window_runs(sun_order: _SunOrder, index, bounds, tighten=None):
         local, sector, run_lo, run_hi = local[reach], sector[reach], run_lo[reach], run_hi[reach]
     if tighten is not None:
         run_lo, run_hi = tighten(local, sector, run_lo, run_hi)
-    base = sector * 4.0
-    start = np.searchsorted(sun_order.key, base + run_lo, side="left")
-    stop = np.searchsorted(sun_order.key, base + run_hi, side="right")
+    start = _run_ends(sun_order, sector, run_lo, run_lo <= low[sector], "left")
+    stop = _run_ends(sun_order, sector, run_hi, run_hi >= high[sector], "right")
     count = stop - start
     keep = count > 0
     return index[local[keep]], start[keep], count[keep]
+
+
+def _run_ends(sun_order: _SunOrder, sector, band, whole, side: str):
+    """Sorted positions where shifted elevations ``band`` fall in their sectors' steps.
+
+    As ``np.searchsorted(sun_order.key, sector * 4 + band, side)``; where ``whole`` (the band
+    end lies beyond every step of the sector), the sector's own end, from a table, without a
+    search: a run from below a sector's lowest sun (a point below the top of a solid) begins
+    where the sector begins.
+    """
+    ends = sun_order.sector_start[sector + (side == "right")]
+    search = np.flatnonzero(~whole)
+    if len(search):
+        sec = sector[search]
+        ends[search] = np.searchsorted(sun_order.key, sec * 4.0 + band[search], side=side)
+    return ends
 
 
 #: [rad] widening of a tree crown's cull window: its bounds go through arcsin and arccos

@@ -24,7 +24,7 @@ from .culling import _candidate_ranges, _Column, _crown_ranges, _expand_runs
 from .plate_sets import PlateSet, _plate_set_kernel
 from .plates import _plate_geometry, _plate_kernel, _plate_side
 from .point_groups import _near_points
-from .ray_tests import _kernel_cost, _ray_effect
+from .ray_tests import _check_solid, _kernel_cost, _ray_effect
 from .rays import RAY_START_M, _check_points, _check_sun
 from .round_solids import _cone_tree_kernels, _tree_kernel, _tree_kernels
 from .sun_sectors import _sun_order, _SunOrder
@@ -209,14 +209,14 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
             else np.zeros(0, dtype=bool)
         return ShadeHits(empty, empty, np.zeros(0, dtype=bool), blocked)
     if len(pts) == 0 or len(sun_v) == 0:
-        _ray_effect(obstruction, np.zeros((0, 3)), np.zeros((0, 3)), start)  # type check
+        _check_solid(obstruction)
         return ShadeHits(empty, empty, np.zeros(0, dtype=bool))
     if cull and groups is not None:
         # whole groups of points out of the obstruction's reach are dropped first
         if sun_order is None:
             sun_order = _sun_order(sun_v)
         if not len(sun_order.zenith_steps):
-            _ray_effect(obstruction, np.zeros((0, 3)), np.zeros((0, 3)), start)  # type check
+            _check_solid(obstruction)
             near = _near_points(groups, sun_order, obstruction)
             if near is not None:
                 sub_facing = None if facing is None else facing.subset(near)

@@ -696,6 +696,28 @@ def test_module_shade_without_cells_keeps_the_same_reductions(per_cell, steps_a_
         assert lean.worst_rows.max() > 0
 
 
+@pytest.mark.parametrize("labels, run", [
+    ([0, 0, 1, 1, 2, 2] * 10, 2),  # the generic 60-cell module: pairs of columns
+    ([0] * 20 + [1] * 20 + [2] * 20, 20),  # contiguous substrings
+    ([0, 1, 2] * 4, 1),
+    ([0, 0, 1, 1, 2, 2] * 9 + [2, 2, 1, 1, 0, 0], None),  # no repeated pattern
+    ([0, 1, 1, 0], None),
+])
+def test_substring_pattern_reduces_as_the_cells_of_each_substring(labels, run):
+    # the worst cell per substring taken over a reshaped view (no copy of the cells) equals
+    # the maximum over each substring's own cells, picked by its labels
+    from layout.shading.per_module import _substring_pattern
+
+    labels = np.asarray(labels)
+    n_sub = labels.max() + 1
+    assert _substring_pattern(labels, n_sub) == run
+    if run is not None:
+        cells = np.random.default_rng(3).random((4, len(labels), 7)).astype(np.float32)
+        view = cells.reshape(4, -1, n_sub, run, 7).max(axis=(1, 3))
+        for s in range(n_sub):
+            assert np.array_equal(view[:, s], cells[:, labels == s].max(axis=1))
+
+
 @settings(max_examples=10, deadline=None)
 @given(st.integers(0, 10_000))
 def test_tabulated_kernels_equal_the_direct_ones(seed):
@@ -886,3 +908,23 @@ def test_module_casters_shade_as_the_modules_one_by_one():
         one_by_one = module_shade(mods, spec, sun, [Plate.from_module(m) for m in mods],
                                   include_modules=False)
         assert sets.cell.any() and np.array_equal(sets.cell, one_by_one.cell)
+
+
+def test_run_ends_from_the_sector_table_equal_the_binary_search():
+    # a band end beyond every step of its sector takes the sector's end from a table; the
+    # positions are those of a binary search on the sorted keys all the same
+    from layout.shading.culling import _run_ends
+    from layout.shading.sun_sectors import _SECTORS, _sun_order
+
+    rng = np.random.default_rng(5)
+    sun = rng.normal(size=(3000, 3))
+    sun[:, 2] = np.abs(sun[:, 2]) * rng.choice([1.0, -0.2], 3000)
+    order = _sun_order(sun / np.linalg.norm(sun, axis=1, keepdims=True))
+    sector = rng.integers(0, _SECTORS, 5000)
+    band = rng.uniform(-0.5 * math.pi, 0.5 * math.pi, 5000) + 2.0
+    band[::3] = rng.choice([-0.5 * math.pi + 2.0, 0.5 * math.pi + 2.0], len(band[::3]))
+    low, high = order.range_low[:, 0], order.range_high[:, 0]
+    for side, whole in (("left", band <= low[sector]), ("right", band >= high[sector])):
+        expected = np.searchsorted(order.key, sector * 4.0 + band, side=side)
+        assert np.array_equal(_run_ends(order, sector, band, whole, side), expected)
+        assert whole.any() and not whole.all()
