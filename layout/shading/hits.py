@@ -66,19 +66,41 @@ class ShadeHits:
         """Return the same hits as a cache keeps them: in fewer bytes, sorted by step.
 
         Steps become uint16 when ``n_steps`` is at most 65,535, and crown flags that are all
-        False become one shared read-only False; 6 bytes a hit instead of 9. With ``sort``
-        False the order is kept.
+        False become one shared read-only False; 6 bytes a hit instead of 9. Sorted hits
+        without crown flags come by step, then point; with flags, by step in their order.
+        With ``sort`` False the order is kept.
         """
         step, point, crown = self.step, self.point, self.crown_only
+        opaque = crown.strides == (0,) or not crown.any()
         if sort and len(step) > 1 and not (step[1:] >= step[:-1]).all():
-            key = step.astype(np.uint16) if n_steps <= 65535 else step
-            order = np.argsort(key, kind="stable")
-            step, point, crown = step[order], point[order], crown[order]
+            if opaque:  # no flags to carry: sort (step, point) packed in one integer
+                step, point = _sorted_pairs(step, point, n_steps)
+            else:
+                order = np.argsort(step, kind="stable")
+                step, point, crown = step[order], point[order], crown[order]
         if n_steps <= 65535:
             step = step.astype(np.uint16, copy=False)
-        if crown.strides != (0,) and not crown.any():
+        if opaque:
             crown = np.broadcast_to(np.False_, crown.shape)
         return ShadeHits(step, point, crown, self.blocked_steps)
+
+
+def _sorted_pairs(step: np.ndarray, point: np.ndarray, n_steps: int):
+    """Sort (step, point) pairs by step, then point: both packed in one unsigned integer.
+
+    Sorting the packed keys (32 bits when steps and points fit, else 64) is several times
+    faster than an argsort of the steps followed by gathering both arrays, and leaves each
+    step's points in ascending order.
+    """
+    shift = max(1, int(point.max()).bit_length())
+    wide = shift + max(1, (n_steps - 1).bit_length()) > 32
+    kind = np.uint64 if wide else np.uint32
+    key = step.astype(kind)
+    key <<= kind(shift)
+    key |= point.astype(kind, copy=False)
+    key.sort()
+    return (key >> kind(shift)).astype(step.dtype), (key & kind((1 << shift) - 1)).astype(
+        point.dtype)
 
 
 def obstruction_hits(points, sun, obstruction, *, ray_start: float = RAY_START_M,

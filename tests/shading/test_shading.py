@@ -706,16 +706,17 @@ def test_module_shade_without_cells_keeps_the_same_reductions(per_cell, steps_a_
 def test_substring_pattern_reduces_as_the_cells_of_each_substring(labels, run):
     # the worst cell per substring taken over a reshaped view (no copy of the cells) equals
     # the maximum over each substring's own cells, picked by its labels
-    from layout.shading.per_module import _substring_pattern
+    from layout.shading.per_module import _Reductions, _substring_pattern
 
     labels = np.asarray(labels)
     n_sub = labels.max() + 1
     assert _substring_pattern(labels, n_sub) == run
-    if run is not None:
-        cells = np.random.default_rng(3).random((4, len(labels), 7)).astype(np.float32)
-        view = cells.reshape(4, -1, n_sub, run, 7).max(axis=(1, 3))
-        for s in range(n_sub):
-            assert np.array_equal(view[:, s], cells[:, labels == s].max(axis=1))
+    cells = np.random.default_rng(3).random((4, len(labels), 7)).astype(np.float32)
+    sums = _Reductions(4, labels, keep_cells=False)
+    sums.at(0)(np.arange(7), 0, 7, cells.reshape(-1, 7))
+    for s in range(n_sub):
+        assert np.array_equal(sums.worst[:, s], cells[:, labels == s].max(axis=1))
+    assert np.array_equal(sums.mean, cells.sum(axis=1, dtype=np.float64) / len(labels))
 
 
 @settings(max_examples=10, deadline=None)
@@ -928,3 +929,18 @@ def test_run_ends_from_the_sector_table_equal_the_binary_search():
         expected = np.searchsorted(order.key, sector * 4.0 + band, side=side)
         assert np.array_equal(_run_ends(order, sector, band, whole, side), expected)
         assert whole.any() and not whole.all()
+
+
+@pytest.mark.parametrize("n_steps, n_points", [(4430, 30_000), (8760, 3_000_000), (70_000, 9)])
+def test_packed_sort_of_hits_equals_a_lexicographic_sort(n_steps, n_points):
+    # the cache sorts opaque hits as (step, point) packed in one integer, 32 bits or 64
+    # (the middle case needs 14 + 22 bits); the order is numpy's lexsort of the pairs
+    from layout.shading.hits import _sorted_pairs
+
+    rng = np.random.default_rng(n_points)
+    step = rng.integers(0, n_steps, 50_000).astype(np.int32)
+    point = rng.integers(0, n_points, 50_000).astype(np.int32)
+    order = np.lexsort((point, step))
+    got_step, got_point = _sorted_pairs(step, point, n_steps)
+    assert got_step.dtype == step.dtype and got_point.dtype == point.dtype
+    assert np.array_equal(got_step, step[order]) and np.array_equal(got_point, point[order])
