@@ -253,6 +253,21 @@ def _run_ends(sun_order: _SunOrder, sector, band, whole, side: str):
     return ends
 
 
+def _sector_offsets(center, sector):
+    """Azimuth offsets [rad] of each sector's ends from a window's centre, and the smallest.
+
+    Returns ``(d0, d1, d_min)``: the offsets of the sector's two ends (wrapped to
+    [-pi, pi)) and the smallest absolute offset within the sector (0 when it holds the
+    centre).
+    """
+    width = 2 * math.pi / _SECTORS
+    a0 = -math.pi + width * sector
+    d0 = (a0 - center + math.pi) % (2 * math.pi) - math.pi
+    d1 = (a0 + width - center + math.pi) % (2 * math.pi) - math.pi
+    d_min = np.where((d0 <= 0) & (d1 >= 0), 0.0, np.minimum(np.abs(d0), np.abs(d1)))
+    return d0, d1, d_min
+
+
 #: [rad] widening of a tree crown's cull window: its bounds go through arcsin and arccos
 #: near 1, where a rounding error of 1e-16 grows to about 1e-8 rad.
 _CROWN_MARGIN = 1e-6
@@ -296,11 +311,7 @@ def _crown_ranges(points, sun_order: _SunOrder, tree: Tree):
     el_max = np.where(inside, 0.5 * math.pi, true_elevation(ec + ang)) + _CROWN_MARGIN
 
     def tighten(local, sector, run_lo, run_hi):
-        width = 2 * math.pi / _SECTORS
-        a0 = -math.pi + width * sector
-        d0 = (a0 - center[local] + math.pi) % (2 * math.pi) - math.pi
-        d1 = (a0 + width - center[local] + math.pi) % (2 * math.pi) - math.pi
-        d_min = np.where((d0 <= 0) & (d1 >= 0), 0.0, np.minimum(np.abs(d0), np.abs(d1)))
+        d0, d1, d_min = _sector_offsets(center[local], sector)
         reach = half_cap[local]
         d_max = np.minimum(np.maximum(np.abs(d0), np.abs(d1)), reach)
         d_min = np.minimum(d_min, reach)
@@ -316,6 +327,41 @@ def _crown_ranges(points, sun_order: _SunOrder, tree: Tree):
         lo = np.where(use, true_elevation(lo) - _CROWN_MARGIN + _EL_SHIFT, run_lo)
         hi = np.where(use, true_elevation(hi) + _CROWN_MARGIN + _EL_SHIFT, run_hi)
         return np.maximum(run_lo, lo), np.minimum(run_hi, hi)
+
+    return _window_runs(sun_order, np.arange(len(points)), (center, half, el_min, el_max),
+                        tighten)
+
+
+def _cone_ranges(points, sun_order: _SunOrder, tree: Tree):
+    """Find the runs of sun steps that may meet a cone crown (as :func:`_candidate_ranges`).
+
+    The crown's bounding column gives each point its window and band; each (point, azimuth
+    sector) run is then capped by the cone's narrowing: a ray whose azimuth is ``d`` off the
+    direction of the axis passes no nearer to the axis than ``D sin|d|`` in plan (``D`` the
+    point's plan distance from the axis), while the cone's radius there,
+    ``R (apex - z) / (apex - base)``, shrinks with the height ``z``: the ray can be inside
+    only below ``z_top = apex - (apex - base) D sin|d| / R``, at a plan distance between
+    ``D - R`` and ``D + R``. Over a sector the smallest ``|d|`` gives the highest
+    ``z_top``, so the run's elevations stop at ``atan2(z_top - z, D - R)`` (``D + R`` when
+    ``z_top`` is below the point). Points inside the crown's column keep their runs.
+    """
+    x0, y0, _, x1, y1, top = tree.bounds
+    base = tree.ground_m + tree.crown_base
+    column = _Column((x0, y0, base, x1, y1, top))
+    center, half, el_min, el_max = _angular_bounds(points, column)
+    (cx, cy), radius = tree.center, tree.crown_radius
+    dist = np.hypot(cx - points[:, 0], cy - points[:, 1])
+    beside = dist > radius * (1 + 1e-9) + 1e-9
+    slope = (top - base) / radius  # height lost per metre of radius
+
+    def tighten(local, sector, run_lo, run_hi):
+        d_min = _sector_offsets(center[local], sector)[2]
+        reach = dist[local]
+        up = top - slope * reach * np.sin(np.minimum(d_min, 0.5 * math.pi)) \
+            - points[local, 2]
+        el = np.arctan2(up, np.where(up > 0, reach - radius, reach + radius))
+        el += _CROWN_MARGIN + _EL_SHIFT
+        return run_lo, np.where(beside[local], np.minimum(run_hi, el), run_hi)
 
     return _window_runs(sun_order, np.arange(len(points)), (center, half, el_min, el_max),
                         tighten)

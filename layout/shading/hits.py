@@ -20,7 +20,7 @@ import numpy as np
 from ..errors import check_positive
 from ..scene.obstructions import PLANE_TOLERANCE_M, Block, HorizonProfile, Plate, Tree
 from .blocks import _block_kernel
-from .culling import _candidate_ranges, _Column, _crown_ranges, _expand_runs
+from .culling import _candidate_ranges, _Column, _cone_ranges, _crown_ranges, _expand_runs
 from .plate_sets import PlateSet, _plate_set_kernel
 from .plates import _plate_geometry, _plate_kernel, _plate_side
 from .point_groups import _near_points
@@ -314,16 +314,15 @@ def _tree_hits(pts, tree: Tree, kernels, order: _SunOrder, facing, max_pairs: in
     """Hits of a tree, its crown and its trunk culled apart.
 
     The crown's candidates come from its own cap (:func:`_crown_ranges`) for a spheroid, from
-    the crown's bounding column for a cone; the trunk's from its thin column, so a point above
-    the crown base never tests the trunk and a low sun below the crown never tests the crown.
+    the crown's bounding column narrowed sector by sector (:func:`_cone_ranges`) for a cone;
+    the trunk's from its thin column, so a point above the crown base never tests the trunk
+    and a low sun below the crown never tests the crown.
     A ray through both is blocked by the trunk.
     """
     crown_kernel, trunk_kernel = kernels
     crown = _HitList(lambda p, st: (None, crown_kernel(p, st)), facing, sub)
     if tree.crown_shape == "cone":
-        x0, y0, _, x1, y1, top = tree.bounds
-        crown_runs = _candidate_ranges(pts, order, _Column(
-            (x0, y0, tree.ground_m + tree.crown_base, x1, y1, top)))
+        crown_runs = _cone_ranges(pts, order, tree)
     else:
         crown_runs = _crown_ranges(pts, order, tree)
     crown.test_runs(order, crown_runs, max_pairs)

@@ -291,7 +291,8 @@ def hit_set(hits):
 @given(st.integers(0, 10_000), st.sampled_from(["spheroid", "cone"]))
 def test_tree_crown_and_trunk_culled_apart_give_every_hit(seed, crown_shape):
     # the sun-up speed path culls a spheroid crown by its exact cap per azimuth sector (a cone
-    # crown by its bounding column) and the trunk by its own column; every (step, point) pair
+    # crown by its bounding column, capped per sector by the cone's narrowing) and the trunk
+    # by its own column; every (step, point) pair
     # and its crown-only flag must be the same as with no culling at all (the direct tests,
     # the old exact answer), for points around, under, above and inside crowns
     rng = np.random.default_rng(seed)
@@ -324,6 +325,30 @@ def test_tree_crown_cull_keeps_grazing_rays():
     got = obstruction_hits(pts, sun, tree)
     want = obstruction_hits(pts, sun, tree, cull=False)
     assert len(want) > 0 and hit_set(got) == hit_set(want)
+
+
+def test_cone_crown_cull_keeps_rays_through_its_surface():
+    # rays aimed at points of a cone crown's surface (and a hair either side) touch or graze
+    # it: the cull capped per azimuth sector by the cone's narrowing must keep every one the
+    # direct test finds, seen from points around the tree, below and above the apex
+    tree = Tree((2.0, 12.0), 14.0, 3.0, 2.5, crown_shape="cone")
+    base, apex = tree.ground_m + tree.crown_base, tree.ground_m + tree.height
+    rng = np.random.default_rng(8)
+    pts = np.column_stack([rng.uniform(-8, 8, 12), rng.uniform(-6, 4, 12),
+                           rng.uniform(1, 16, 12)])
+    z = rng.uniform(base, apex, 400)
+    phi = rng.uniform(0, 2 * math.pi, 400)
+    r = tree.crown_radius * (apex - z) / (apex - base)
+    surface = np.column_stack([2.0 + r * np.cos(phi), 12.0 + r * np.sin(phi), z])
+    for nudge in (0.0, 1e-7, -1e-7):
+        d = surface[None, :, :] - pts[:, None, :]
+        d *= 1 + nudge
+        d[..., 2] += nudge * np.linalg.norm(d, axis=-1)
+        sun = (d / np.linalg.norm(d, axis=-1, keepdims=True)).reshape(-1, 3)
+        sun = sun[sun[:, 2] > 0.01]
+        got = obstruction_hits(pts, sun, tree)
+        want = obstruction_hits(pts, sun, tree, cull=False)
+        assert len(want) > 0 and hit_set(got) == hit_set(want)
 
 
 # ------------------------------------------------------------------ transmittance
