@@ -218,20 +218,22 @@ def _window_runs(sun_order: _SunOrder, index, bounds, tighten=None):
     s_lo, span, e_lo, e_hi = _sector_spans(sun_order, *bounds)
     total = int(span.sum())
     local = np.repeat(np.arange(len(index)), span)
-    within = np.arange(total) - np.repeat(np.cumsum(span) - span, span)
-    sector = (s_lo[local] + within) % _SECTORS
-    run_lo, run_hi = e_lo[local], e_hi[local]
+    sector = np.repeat(s_lo - (np.cumsum(span) - span), span)
+    sector += np.arange(total)  # s_lo + 0, 1, ... within each point's window
+    sector &= _SECTORS - 1  # wrapped (a power of two)
+    run_lo, run_hi = np.repeat(e_lo, span), np.repeat(e_hi, span)
     # a run whose band misses its own sector's sun elevations (a sector the sun never
     # reaches, a band below the sector's lowest sun) holds no step: dropped before the
     # searches, and before tightening
-    low, high = sun_order.range_low[:, 0], sun_order.range_high[:, 0]
-    reach = np.flatnonzero((run_hi >= low[sector]) & (run_lo <= high[sector]))
+    low, high = sun_order.range_low[sector, 0], sun_order.range_high[sector, 0]
+    reach = np.flatnonzero((run_hi >= low) & (run_lo <= high))
     if len(reach) < total:
-        local, sector, run_lo, run_hi = local[reach], sector[reach], run_lo[reach], run_hi[reach]
+        local, sector, run_lo, run_hi, low, high = (
+            a[reach] for a in (local, sector, run_lo, run_hi, low, high))
     if tighten is not None:
         run_lo, run_hi = tighten(local, sector, run_lo, run_hi)
-    start = _run_ends(sun_order, sector, run_lo, run_lo <= low[sector], "left")
-    stop = _run_ends(sun_order, sector, run_hi, run_hi >= high[sector], "right")
+    start = _run_ends(sun_order, sector, run_lo, run_lo <= low, "left")
+    stop = _run_ends(sun_order, sector, run_hi, run_hi >= high, "right")
     count = stop - start
     keep = count > 0
     return index[local[keep]], start[keep], count[keep]

@@ -232,20 +232,32 @@ def _plate_set_kernel(plate_set: PlateSet, pts: np.ndarray, sun_v: np.ndarray, s
         hit[pair[ok]] = True
         return hit
 
+    # the grid's status with a border of empty cells, so that a crossing off the grid needs
+    # no test of its own: cell (i, j) is padded[(i + 1) * (nv + 2) + j + 1], i and j clipped
+    padded = np.zeros((nu + 2, nv + 2), dtype=np.int8)
+    padded[1:-1, 1:-1] = status.reshape(nu, nv)
+    padded = padded.ravel()
+    # the crossing in grid cells, u = u_cell(p) + (-dist(p)) * u_step(st): the same point as
+    # (u_pt + s du - u0) / cell to rounding (1e-13 cells), far inside the grid's margins
+    back = -dist
+    u_cell, v_cell = (u_pt - u0) / cell, (v_pt - v0) / cell
+    u_step, v_step = inv_den * du / cell, inv_den * dv / cell
+
     def kernel(p, st):
-        s = -dist[p] * inv_den[st]  # where the ray crosses the plane (0 when grazing)
-        i = np.floor((u_pt[p] + s * du[st] - u0) / cell)
-        j = np.floor((v_pt[p] + s * dv[st] - v0) / cell)
-        on_grid = (i >= 0) & (i < nu) & (j >= 0) & (j < nv) & (s > 0)
-        key = np.where(on_grid, i * nv + j, 0).astype(np.intp)
-        state = np.where(on_grid, status[key], 0)
-        every = grazing[st]
-        sure = (state == 1) & sure_off[p] & (s > start + _SURE_M) & ~every
-        hit = sure.copy()
-        check = np.flatnonzero(~sure & ((state != 0) | every))
+        dp = back.take(p)
+        s = dp * inv_den.take(st)  # where the ray crosses the plane (0 when grazing)
+        i = np.clip(np.floor(u_cell.take(p) + dp * u_step.take(st)), -1, nu)
+        j = np.clip(np.floor(v_cell.take(p) + dp * v_step.take(st)), -1, nv)
+        state = padded.take(((i + 1) * (nv + 2) + (j + 1)).astype(np.intp))
+        every = grazing.take(st)
+        sure = (state == 1) & (s > start + _SURE_M) & sure_off.take(p) & ~every
+        check = np.flatnonzero(((state != 0) & (s > 0) & ~sure) | every)
         if len(check):
-            hit[check] = exact(p[check], st[check], every[check], key[check])
-        return hit, np.zeros(len(p), dtype=bool)
+            i, j = i[check], j[check]
+            on_grid = (i >= 0) & (i < nu) & (j >= 0) & (j < nv)
+            key = np.where(on_grid, i * nv + j, 0).astype(np.intp)
+            sure[check] = exact(p[check], st[check], every[check], key)
+        return sure, np.zeros(len(p), dtype=bool)
 
     return kernel
 

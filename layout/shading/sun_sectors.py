@@ -13,7 +13,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-#: Number of equal azimuth sectors the sun steps are binned into for culling.
+#: Number of equal azimuth sectors the sun steps are binned into for culling (a power of two:
+#: sector numbers wrap by a bit mask).
 _SECTORS = 128
 _EL_SHIFT = 2.0  # [rad] elevation + 2 lies in (0, 4): sector · 4 + it is a sortable key
 
