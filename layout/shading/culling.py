@@ -99,11 +99,12 @@ def _elevation_band(points, near, far, zmin, zmax):
     return el_min, el_max
 
 
-def _hull_bounds(points, corners, zmin: float, zmax: float):
+def _hull_bounds(points, corners, zmin: float, zmax: float, *, plan=None):
     """Return the angular bounds (as :func:`_angular_bounds`) of a prism over a convex polygon.
 
     ``corners`` (K, 2) counter-clockwise (two for a vertical plate); the extreme directions
-    pass through the corners.
+    pass through the corners. ``plan``, a dict if given, receives each point's plan distance
+    from the polygon (``near``, 0 inside) [m].
     """
     px, py = points[:, 0], points[:, 1]
     first = np.arctan2(corners[0, 0] - px, corners[0, 1] - py)
@@ -118,6 +119,8 @@ def _hull_bounds(points, corners, zmin: float, zmax: float):
         np.maximum(far2, vx * vx + vy * vy, out=far2)
     center = first + 0.5 * (low + high)
     near, inside = _hull_distance(corners, px, py)
+    if plan is not None:
+        plan["near"] = near
     half = np.where(inside, math.pi, 0.5 * (high - low) + _ANGLE_MARGIN)
     far = np.sqrt(far2)
     return (center, half, *_elevation_band(points, near, far, zmin, zmax))

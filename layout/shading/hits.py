@@ -23,7 +23,7 @@ from .blocks import _block_kernel
 from .culling import _candidate_ranges, _Column, _cone_ranges, _crown_ranges, _expand_runs
 from .plate_sets import PlateSet, _plate_set_kernel
 from .plates import _plate_geometry, _plate_kernel, _plate_side
-from .point_groups import _near_points
+from .point_groups import _near_points, _split_groups
 from .ray_tests import _check_solid, _kernel_cost, _ray_effect
 from .rays import RAY_START_M, _check_points, _check_sun
 from .round_solids import _cone_tree_kernels, _tree_kernel, _tree_kernels
@@ -224,7 +224,9 @@ class _HitList:
 
 
 def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order,
-                      facing=None, groups=None, coarse=True) -> ShadeHits:
+                      facing=None, groups=None, coarse=True, runs=None) -> ShadeHits:
+    # runs: candidate runs (point, start, count) found already (points far from the
+    # obstruction, culled a group at a time: point_groups._split_groups)
     empty = np.zeros(0, dtype=np.int32)
     if isinstance(obstruction, HorizonProfile):
         blocked = np.asarray(obstruction.blocks_vectors(sun_v), dtype=bool) if len(sun_v) \
@@ -239,6 +241,9 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
             sun_order = _sun_order(sun_v)
         if not len(sun_order.zenith_steps):
             _check_solid(obstruction)
+            if isinstance(obstruction, PlateSet):  # a rack row: long, seen from far
+                return _split_hits(pts, sun_v, obstruction, start, max_pairs, sun_order,
+                                   facing, groups)
             near = _near_points(groups, sun_order, obstruction)
             if near is not None:
                 sub_facing = None if facing is None else facing.subset(near)
@@ -261,8 +266,14 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
             return ShadeHits(empty, empty, np.zeros(0, dtype=bool))
         if len(active) < len(pts):
             sub_facing = None if facing is None else facing.subset(active)
+            if runs is not None:  # the runs of the points kept, renumbered
+                local = np.full(len(pts), -1)
+                local[active] = np.arange(len(active))
+                renumbered = local[runs[0]]
+                keep = renumbered >= 0
+                runs = (renumbered[keep], runs[1][keep], runs[2][keep])
             hits = _obstruction_hits(pts[active], sun_v, obstruction, start, max_pairs, cull,
-                                     sun_order, sub_facing, coarse=coarse)
+                                     sun_order, sub_facing, coarse=coarse, runs=runs)
             return ShadeHits(hits.step, active[hits.point].astype(np.int32), hits.crown_only)
         # a ray meets the plane only when the sun lies on the far side from the point
         side = (dist > 0, sun_v @ _plate_geometry(cull_as)[3] < 0)
@@ -294,9 +305,9 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
 
     found = _HitList(effect, facing, sub)
     if cull:
-        found.test_runs(order, _candidate_ranges(pts, order, cull_as,
-                                                 coarse=coarse and groups is None),
-                        max_pairs, side)
+        if runs is None:
+            runs = _candidate_ranges(pts, order, cull_as, coarse=coarse and groups is None)
+        found.test_runs(order, runs, max_pairs, side)
         if len(order.zenith_steps):
             found.test(np.repeat(np.arange(len(pts)), len(order.zenith_steps)),
                        np.tile(order.zenith_steps, len(pts)))
@@ -307,6 +318,29 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
             found.test(np.tile(np.arange(len(pts)), len(st_block)),
                        np.repeat(st_block, len(pts)))
     return found.result()
+
+
+def _split_hits(pts, sun_v, obstruction, start, max_pairs, sun_order, facing, groups):
+    """Hits of a block, plate or plate set, its points culled by group first.
+
+    The groups near the obstruction have their points culled one by one; the far ones
+    a group at a time, each of their points taking its group's runs
+    (:func:`~layout.shading.point_groups._split_groups`).
+    """
+    near, far, far_runs = _split_groups(groups, sun_order, obstruction)
+    parts = []
+    for index, runs, coarse in ((near, None, False), (far, far_runs, True)):
+        if len(index):
+            sub_facing = None if facing is None else facing.subset(index)
+            hits = _obstruction_hits(pts[index], sun_v, obstruction, start, max_pairs, True,
+                                     sun_order, sub_facing, coarse=coarse, runs=runs)
+            parts.append(ShadeHits(hits.step, index[hits.point].astype(np.int32),
+                                   hits.crown_only))
+    if not parts:
+        empty = np.zeros(0, dtype=np.int32)
+        return ShadeHits(empty, empty, np.zeros(0, dtype=bool))
+    return ShadeHits(*(np.concatenate([getattr(h, k) for h in parts])
+                       for k in ("step", "point", "crown_only")))
 
 
 def _tree_hits(pts, tree: Tree, kernels, order: _SunOrder, facing, max_pairs: int,

@@ -844,10 +844,11 @@ def test_a_tree_on_a_bank_shades_as_the_same_tree_lifted():
 @given(st.integers(0, 10_000), st.sampled_from([0.5, 2.0, 7.0]))
 def test_point_groups_keep_every_hit(seed, cell):
     # the group pre-cull (large point sets: whole groups out of an obstruction's reach are
-    # dropped first) against the old exact answer without it, on random scenes and plates,
-    # with points spread wide and the sun low and high
+    # dropped first; a plate set's far groups culled a group at a time, their points taking
+    # the group's runs) against the old exact answer without it, on random scenes, plates
+    # and plate sets, with points spread wide and the sun low and high
     from layout.shading.hits import _obstruction_hits
-    from layout.shading.point_groups import _near_points, _point_groups
+    from layout.shading.point_groups import _near_points, _point_groups, _split_groups
     from layout.shading.sun_sectors import _sun_order
 
     rng = np.random.default_rng(seed)
@@ -857,12 +858,15 @@ def test_point_groups_keep_every_hit(seed, cell):
     order = _sun_order(sun)
     groups = _point_groups(pts, cell=cell, min_points=0)
     dropped = 0
-    for ob in [*random_scene(rng), *random_plates(rng)]:
+    plate_set = random_plate_grid(rng)[0]
+    for ob in [*random_scene(rng), *random_plates(rng), plate_set]:
         got = _obstruction_hits(pts, sun, ob, RAY_START_M, 1 << 19, True, order, None, groups)
         want = _obstruction_hits(pts, sun, ob, RAY_START_M, 1 << 19, True, order)
         assert hit_set(got) == hit_set(want) and len(got) == len(want)
         dropped += _near_points(groups, order, ob) is not None
     assert dropped  # the pre-cull did drop groups somewhere
+    if cell < 7.0:  # some groups far from the plate set, culled a group at a time
+        assert len(_split_groups(groups, order, plate_set)[1])
 
 
 def random_plate_grid(rng):
