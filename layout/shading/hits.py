@@ -158,10 +158,16 @@ class Facing:
     @classmethod
     def from_normals(cls, sun, normals) -> Facing:
         """Build the table from unit vectors toward the sun (T, 3) and point normals (N, 3)."""
-        normals = np.asarray(normals, dtype=float)
-        unique, group = np.unique(np.round(normals, 9), axis=0, return_inverse=True)
-        lit = np.asarray(sun, dtype=float) @ unique.T > 0.0
-        return cls(lit=lit, group=group.reshape(-1).astype(np.intp))
+        rounded = np.round(np.asarray(normals, dtype=float), 9).reshape(-1, 3)
+        # the distinct rows, in the order of np.unique(axis=0), found by a lexicographic
+        # sort of the columns (an order of magnitude faster on a roof of many modules)
+        order = np.lexsort(rounded.T[::-1])
+        ranked = rounded[order]
+        first = np.r_[True, (ranked[1:] != ranked[:-1]).any(axis=1)]
+        group = np.empty(len(rounded), dtype=np.intp)
+        group[order] = np.cumsum(first) - 1
+        lit = np.asarray(sun, dtype=float) @ ranked[first].T > 0.0
+        return cls(lit=lit, group=group)
 
     def lit_at(self, step, point) -> np.ndarray:
         """Whether the sun of each ``step`` lights the front of the surface of each ``point``."""

@@ -973,3 +973,35 @@ def test_packed_sort_of_hits_equals_a_lexicographic_sort(n_steps, n_points):
     got_step, got_point = _sorted_pairs(step, point, n_steps)
     assert got_step.dtype == step.dtype and got_point.dtype == point.dtype
     assert np.array_equal(got_step, step[order]) and np.array_equal(got_point, point[order])
+
+
+@pytest.mark.parametrize("steps_a_block", [None, 7, 1])
+def test_group_shade_of_single_points_equals_one_minus_the_beam(steps_a_block, monkeypatch):
+    # one point a group: the shade is 1 - the beam that gets through, exactly, whether the
+    # hits are all opaque (the block then holds the shade itself) or a crown lets some
+    # through; in one block, a few blocks (masks) and many (sorted hits); with a reduce
+    # callback too
+    from layout.shading import groups
+
+    rng = np.random.default_rng(21)
+    pts = np.column_stack([rng.uniform(-6, 6, 90), rng.uniform(-6, 6, 90),
+                           rng.uniform(0, 3, 90)])
+    sun = sun_vectors(rng.uniform(60, 300, 150), rng.uniform(3, 70, 150))
+    month = rng.integers(1, 13, 150)
+    if steps_a_block is not None:
+        monkeypatch.setattr(groups, "_DENSE_BLOCK", len(pts) * steps_a_block)
+    tree = Tree.deciduous((0.0, -8.0), 9.0, 3.0, 2.5)
+    solids = [ob for ob in random_scene(rng) if not isinstance(ob, Tree)]
+    for scene in (solids, [*solids, tree]):
+        cache = ShadeCache(pts, sun, scene, month=month)
+        want = (np.float32(1.0) - transmitted(pts, sun, scene, month=month).astype(
+            np.float32))
+        labels = np.arange(len(pts))
+        assert np.array_equal(cache.group_shade(labels), want)
+        seen = np.zeros((len(sun), len(pts)), dtype=np.float32)
+
+        def keep(rows, r0, r1, block, seen=seen):
+            seen[rows[r0:r1]] = block.T
+
+        cache.group_shade_rows(labels, reduce=keep)
+        assert np.array_equal(seen, want) and want.max() == 1.0
