@@ -183,14 +183,11 @@ def _plate_set_kernel(plate_set: PlateSet, pts: np.ndarray, sun_v: np.ndarray, s
     rel = pts - origin
     dist, u_pt, v_pt = _dot3(rel, normal), _dot3(rel, e1), _dot3(rel, e2)
     sure_off = np.abs(dist) > PLANE_TOLERANCE_M + _SURE_M
-    den = _dot3(sun_v, normal)
-    du, dv = _dot3(sun_v, e1), _dot3(sun_v, e2)
-    grazing = np.abs(den) < _GRAZING
-    with np.errstate(divide="ignore"):
-        inv_den = np.where(grazing, 0.0, 1.0 / den)
     u0, v0, cell, nu, nv, cell_start, members, status = _grid(plate_set)
     origins, pe1, pe2, normals, part_normal, limit = _stacked(plate_set)
     n_plates, n_edges = limit.shape
+    grazing, inv_den, u_step, v_step, step_inv, step_cross, step_du, step_dv = \
+        _step_terms(plate_set, sun_v)
     px, py, pz = (pts[:, k].copy() for k in range(3))
     ox, oy, oz = origins.T.copy()
     nx, ny, nz = normals.T.copy()
@@ -199,13 +196,6 @@ def _plate_set_kernel(plate_set: PlateSet, pts: np.ndarray, sun_v: np.ndarray, s
     edge_x = [part_normal[:, k, 0].copy() for k in range(n_edges)]
     edge_y = [part_normal[:, k, 1].copy() for k in range(n_edges)]
     edge_limit = [limit[:, k].copy() for k in range(n_edges)]
-    # the plates' own terms per (step, plate), as _plate_kernel tabulates them, flat
-    step_den = np.stack([_dot3(sun_v, n) for n in normals], axis=1)  # (T, P)
-    with np.errstate(divide="ignore"):
-        step_inv = (1.0 / step_den).ravel()
-    step_cross = (step_den != 0).ravel()
-    step_du = np.stack([_dot3(sun_v, a) for a in pe1], axis=1).ravel()
-    step_dv = np.stack([_dot3(sun_v, b) for b in pe2], axis=1).ravel()
 
     def exact(p, st, every, key):
         """Each pair against the plates of its cell (every plate when ``every``)."""
@@ -241,7 +231,6 @@ def _plate_set_kernel(plate_set: PlateSet, pts: np.ndarray, sun_v: np.ndarray, s
     # (u_pt + s du - u0) / cell to rounding (1e-13 cells), far inside the grid's margins
     back = -dist
     u_cell, v_cell = (u_pt - u0) / cell, (v_pt - v0) / cell
-    u_step, v_step = inv_den * du / cell, inv_den * dv / cell
 
     def kernel(p, st):
         dp = back.take(p)
@@ -260,6 +249,41 @@ def _plate_set_kernel(plate_set: PlateSet, pts: np.ndarray, sun_v: np.ndarray, s
         return sure, np.zeros(len(p), dtype=bool)
 
     return kernel
+
+
+#: The last plate set's per-step terms, ``(plate_set, sun, terms)``: the near and the far
+#: points of one set (hits.py, _split_hits) are ray-tested one after the other.
+_LAST_STEPS: list = [None]
+
+
+def _step_terms(plate_set: PlateSet, sun_v: np.ndarray):
+    """Terms of a plate set's kernel that depend only on the sun step.
+
+    ``(grazing, inv_den, u_step, v_step)`` per step for the crossing of the hull's plane in
+    grid cells, and the plates' own terms per (step, plate), flat, as
+    :func:`~layout.shading.plates._plate_kernel` tabulates them (``step_inv``,
+    ``step_cross``, ``step_du``, ``step_dv``). The last set's are kept for the same ``sun``
+    array (the same object).
+    """
+    last = _LAST_STEPS[0]
+    if last is not None and last[0] is plate_set and last[1] is sun_v:
+        return last[2]
+    _, e1, e2, normal, _, _ = _plate_geometry(plate_set.hull)
+    cell = _grid(plate_set)[2]
+    _, pe1, pe2, normals, _, _ = _stacked(plate_set)
+    den = _dot3(sun_v, normal)
+    du, dv = _dot3(sun_v, e1), _dot3(sun_v, e2)
+    grazing = np.abs(den) < _GRAZING
+    with np.errstate(divide="ignore"):
+        inv_den = np.where(grazing, 0.0, 1.0 / den)
+    step_den = np.stack([_dot3(sun_v, n) for n in normals], axis=1)  # (T, P)
+    with np.errstate(divide="ignore"):
+        step_inv = (1.0 / step_den).ravel()
+    terms = (grazing, inv_den, inv_den * du / cell, inv_den * dv / cell, step_inv,
+             (step_den != 0).ravel(), np.stack([_dot3(sun_v, a) for a in pe1], axis=1).ravel(),
+             np.stack([_dot3(sun_v, b) for b in pe2], axis=1).ravel())
+    _LAST_STEPS[0] = (plate_set, sun_v, terms)
+    return terms
 
 
 def _hit_plate_set(plate_set: PlateSet, o: np.ndarray, d: np.ndarray, start: float):
