@@ -8,7 +8,9 @@ candidates are one contiguous run per sector its window spans, found by binary s
 whose band misses the sun's elevations in all those sectors is dropped at once (a coarse
 bounding-cylinder pass first, for blocks and plates). For a plate, each sector's run is also cut
 to the elevations on the far side of the plate's plane; for a spheroid crown, to the elevations
-of the crown's cap over that sector.
+of the crown's cap over that sector; for a cone crown, to the heights where the cone is still
+as wide as the ray's closest approach to its axis. A run that starts below its sector's
+lowest sun (or ends above its highest) takes the sector's end from a table, with no search.
 """
 
 from __future__ import annotations

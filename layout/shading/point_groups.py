@@ -10,6 +10,11 @@ test is conservative: if the ray from a point ``p`` meets the obstruction at ``q
 from its group's centre ``c`` passes through ``q + (c - p)``, which lies in the box grown by
 ``|c - p|``, per axis at most the half extent. The points kept then go through the exact
 per-point cull and ray tests as before, so the hits are the same, only found sooner.
+
+For a plate set (a rack row, long beside a group), :func:`_split_groups` goes one step
+further: the points of a group far from it take the runs of sun steps of the group's centre
+toward the grown box, by the same argument a superset of each point's own, so that one cull
+serves the whole group; only the groups near it are culled point by point.
 """
 
 from __future__ import annotations
