@@ -253,10 +253,12 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
             near = _near_points(groups, sun_order, obstruction)
             if near is not None:
                 sub_facing = None if facing is None else facing.subset(near)
-                # only the points of the groups kept: the group cull has done what the
-                # coarse per-point pass would (which drops under 1 % of them on rack roofs)
+                # only the points of the groups kept: for a plate the group cull has done
+                # what the coarse per-point pass would (it drops under 1 % of them on rack
+                # roofs); for a small block the coarse pass still drops a quarter
                 hits = _obstruction_hits(pts[near], sun_v, obstruction, start, max_pairs, cull,
-                                         sun_order, sub_facing, coarse=False)
+                                         sun_order, sub_facing,
+                                         coarse=not isinstance(obstruction, Plate))
                 return ShadeHits(hits.step, near[hits.point].astype(np.int32),
                                  hits.crown_only)
     side = None
@@ -312,7 +314,8 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
     found = _HitList(effect, facing, sub)
     if cull:
         if runs is None:
-            runs = _candidate_ranges(pts, order, cull_as, coarse=coarse and groups is None)
+            runs = _candidate_ranges(pts, order, cull_as, coarse=coarse and (
+                groups is None or not isinstance(cull_as, Plate)))
         found.test_runs(order, runs, max_pairs, side)
         if len(order.zenith_steps):
             found.test(np.repeat(np.arange(len(pts)), len(order.zenith_steps)),
@@ -335,11 +338,11 @@ def _split_hits(pts, sun_v, obstruction, start, max_pairs, sun_order, facing, gr
     """
     near, far, far_runs = _split_groups(groups, sun_order, obstruction)
     parts = []
-    for index, runs, coarse in ((near, None, False), (far, far_runs, True)):
+    for index, runs in ((near, None), (far, far_runs)):
         if len(index):
             sub_facing = None if facing is None else facing.subset(index)
             hits = _obstruction_hits(pts[index], sun_v, obstruction, start, max_pairs, True,
-                                     sun_order, sub_facing, coarse=coarse, runs=runs)
+                                     sun_order, sub_facing, coarse=False, runs=runs)
             parts.append(ShadeHits(hits.step, index[hits.point].astype(np.int32),
                                    hits.crown_only))
     if not parts:
