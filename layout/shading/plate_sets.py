@@ -38,7 +38,7 @@ _GRID_MARGIN_M = 1e-4
 #: [m] margin of the sure cases: a cell surely inside a plate, a point surely off the plane
 _SURE_M = 1e-6
 #: Grid cells across the smaller side of a plate
-_CELLS_PER_PLATE = 10
+_CELLS_PER_PLATE = 16
 #: Most plates in one set (neighbours along a row)
 _SET_SIZE = 32
 #: Rays this close to parallel with the plane (|sun · normal|) are tested against every plate
