@@ -1005,3 +1005,28 @@ def test_group_shade_of_single_points_equals_one_minus_the_beam(steps_a_block, m
 
         cache.group_shade_rows(labels, reduce=keep)
         assert np.array_equal(seen, want) and want.max() == 1.0
+
+
+def test_far_groups_of_a_plate_set_keep_its_plane_rule():
+    # points far from a flat plate set, some in its plane (flush modules: never shaded by
+    # it), some a little above or below; culled a group at a time, the far points' runs are
+    # renumbered when the in-plane points are dropped: the same hits as without groups
+    from layout.shading import PlateSet
+    from layout.shading.hits import _obstruction_hits
+    from layout.shading.point_groups import _point_groups, _split_groups
+    from layout.shading.sun_sectors import _sun_order
+
+    plate_set = PlateSet(tuple(_rack_plates(1, 6, 1.0, 1.7, 0.0, 2.0)))
+    rng = np.random.default_rng(4)
+    pts = np.column_stack([rng.uniform(-40, 40, 600), rng.uniform(-40, 40, 600),
+                           np.where(rng.random(600) < 0.5, 3.0,
+                                    3.0 + rng.uniform(-1.5, 1.5, 600))])
+    sun = sun_vectors(rng.uniform(0, 360, 300), rng.uniform(-10, 89.5, 300) % 90 + 0.01)
+    order = _sun_order(sun)
+    groups = _point_groups(pts, cell=2.0, min_points=0)
+    far = _split_groups(groups, order, plate_set)[1]
+    assert (pts[far, 2] == 3.0).any() and (pts[far, 2] != 3.0).any()
+    got = _obstruction_hits(pts, sun, plate_set, RAY_START_M, 1 << 19, True, order, None, groups)
+    want = _obstruction_hits(pts, sun, plate_set, RAY_START_M, 1 << 19, True, order)
+    assert len(want) > 0 and hit_set(got) == hit_set(want) and len(got) == len(want)
+    assert not np.isin(got.point, np.flatnonzero(pts[:, 2] == 3.0)).any()
