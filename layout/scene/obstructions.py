@@ -488,12 +488,26 @@ class Tree:
 # --------------------------------------------------------------------------- thin plates
 def _newell_normal(corners: np.ndarray) -> np.ndarray:
     """Newell's normal of a 3D polygon: twice its area times the unit normal."""
-    nxt = np.roll(corners, -1, axis=0)
-    return np.array([
-        np.sum((corners[:, 1] - nxt[:, 1]) * (corners[:, 2] + nxt[:, 2])),
-        np.sum((corners[:, 2] - nxt[:, 2]) * (corners[:, 0] + nxt[:, 0])),
-        np.sum((corners[:, 0] - nxt[:, 0]) * (corners[:, 1] + nxt[:, 1])),
-    ])
+    nxt = np.concatenate([corners[1:], corners[:1]])  # the next corner of each
+    # the three sums as rows of one (3, n) array, each row summed as np.sum sums it
+    a = corners[:, [1, 2, 0]].T
+    b = nxt[:, [1, 2, 0]].T
+    c = corners[:, [2, 0, 1]].T
+    d = nxt[:, [2, 0, 1]].T
+    return np.add.reduce((a - b) * (c + d), axis=1)
+
+
+def _plate_frame(pts: np.ndarray, origin: np.ndarray, newell: np.ndarray):
+    """``(origin, e1, e2, normal)`` of a plate (see :attr:`Plate.frame`) from its corners."""
+    normal = newell / np.linalg.norm(newell)
+    edge = pts[np.argmax(np.linalg.norm(pts - pts[0], axis=1))] - pts[0]
+    e1 = edge - (edge @ normal) * normal
+    e1 /= np.linalg.norm(e1)
+    # normal × e1, term by term as np.cross computes it
+    e2 = np.array([normal[1] * e1[2] - normal[2] * e1[1],
+                   normal[2] * e1[0] - normal[0] * e1[2],
+                   normal[0] * e1[1] - normal[1] * e1[0]])
+    return origin, e1, e2, normal
 
 
 @dataclass(frozen=True)
@@ -525,7 +539,7 @@ class Plate:
     def __post_init__(self):
         set_ = object.__setattr__
         pts = check_points("corners", self.corners, dims=3, min_count=3)
-        if len(pts) > 3 and np.allclose(pts[0], pts[-1], atol=1e-9, rtol=0):
+        if len(pts) > 3 and np.abs(pts[0] - pts[-1]).max() <= 1e-9:  # closed: drop the end
             pts = pts[:-1]
         rounded = np.round(pts, 9)
         if len({tuple(row) for row in rounded.tolist()}) < len(pts):  # quick check first
@@ -533,7 +547,8 @@ class Plate:
             dup = int(first[np.flatnonzero(counts > 1)[0]])
             raise InputError(f"corners[{dup}]", "corner is repeated", value=pts[dup].tolist(),
                              allowed="each corner once")
-        newell = _newell_normal(pts - pts.mean(axis=0))
+        origin = pts.mean(axis=0)
+        newell = _newell_normal(pts - origin)
         area = 0.5 * float(np.linalg.norm(newell))
         if area < 1e-6:
             raise InputError("corners", "enclose no area", value=area,
@@ -546,6 +561,8 @@ class Plate:
                              value=float(deviation[worst]),
                              allowed=f"within {0.5 * PLANE_TOLERANCE_M * 1e3:g} mm of one plane")
         set_(self, "corners", tuple(tuple(float(v) for v in p) for p in pts))
+        # the frame from the same origin and Newell normal (what the property computes)
+        self.__dict__["frame"] = _plate_frame(pts, origin, newell)
         polygon = self.plane_polygon
         if not polygon.is_valid:
             raise InputError("corners",
@@ -577,13 +594,7 @@ class Plate:
         """
         pts = np.asarray(self.corners)
         origin = pts.mean(axis=0)
-        newell = _newell_normal(pts - origin)
-        normal = newell / np.linalg.norm(newell)
-        edge = pts[np.argmax(np.linalg.norm(pts - pts[0], axis=1))] - pts[0]
-        e1 = edge - (edge @ normal) * normal
-        e1 /= np.linalg.norm(e1)
-        e2 = np.cross(normal, e1)
-        return origin, e1, e2, normal
+        return _plate_frame(pts, origin, _newell_normal(pts - origin))
 
     @cached_property
     def plane_polygon(self) -> shapely.Polygon:

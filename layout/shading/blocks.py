@@ -61,14 +61,17 @@ def _block_kernel(block: Block, pts: np.ndarray, sun_v: np.ndarray, start: float
     of a sun path); otherwise None, and the caller uses :func:`_hit_block`.
     """
     normal, offset = _block_planes(block)
-    den = np.einsum("tc,pkc->pkt", sun_v[:, :2], normal)  # (P, K, T)
+    # n · d and n · p term by term (as _hit_block sums them; einsum gives the same sums,
+    # slower on these small contractions)
+    den = normal[..., 0, None] * sun_v[:, 0] + normal[..., 1, None] * sun_v[:, 1]  # (P, K, T)
     if (sun_v[:, 2] <= 0).any() or (den == 0).any():
         return None
     with np.errstate(divide="ignore"):
         inv = 1.0 / den
     inv_enter = np.where(den < 0, inv, np.nan)  # the ray enters the half-plane: lower bound
     inv_leave = np.where(den > 0, inv, np.nan)  # it leaves: upper bound
-    room = offset[..., None] - np.einsum("nc,pkc->pkn", pts[:, :2], normal)  # (P, K, N)
+    room = offset[..., None] - (normal[..., 0, None] * pts[:, 0]
+                                + normal[..., 1, None] * pts[:, 1])  # (P, K, N)
     inv_dz = 1.0 / sun_v[:, 2]
     below = block.base - pts[:, 2]
     above = block.top - pts[:, 2]

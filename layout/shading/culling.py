@@ -8,7 +8,9 @@ candidates are one contiguous run per sector its window spans, found by binary s
 whose band misses the sun's elevations in all those sectors is dropped at once (a coarse
 bounding-cylinder pass first, for blocks and plates). For a plate, each sector's run is also cut
 to the elevations on the far side of the plate's plane; for a spheroid crown, to the elevations
-of the crown's cap over that sector.
+of the crown's cap over that sector; for a cone crown, to the heights where the cone is still
+as wide as the ray's closest approach to its axis. A run that starts below its sector's
+lowest sun (or ends above its highest) takes the sector's end from a table, with no search.
 """
 
 from __future__ import annotations
@@ -92,16 +94,19 @@ def _elevation_band(points, near, far, zmin, zmax):
     """
     up = zmax - points[:, 2]
     down = zmin - points[:, 2]
-    el_max = np.where(up > 0, np.arctan2(up, near), np.arctan2(up, far)) + _ANGLE_MARGIN
-    el_min = np.where(down >= 0, np.arctan2(down, far), np.arctan2(down, near)) - _ANGLE_MARGIN
+    el_max = np.arctan2(up, np.where(up > 0, near, far))  # one arctan2 a bound
+    el_max += _ANGLE_MARGIN
+    el_min = np.arctan2(down, np.where(down >= 0, far, near))
+    el_min -= _ANGLE_MARGIN
     return el_min, el_max
 
 
-def _hull_bounds(points, corners, zmin: float, zmax: float):
+def _hull_bounds(points, corners, zmin: float, zmax: float, *, plan=None):
     """Return the angular bounds (as :func:`_angular_bounds`) of a prism over a convex polygon.
 
     ``corners`` (K, 2) counter-clockwise (two for a vertical plate); the extreme directions
-    pass through the corners.
+    pass through the corners. ``plan``, a dict if given, receives each point's plan distance
+    from the polygon (``near``, 0 inside) [m].
     """
     px, py = points[:, 0], points[:, 1]
     first = np.arctan2(corners[0, 0] - px, corners[0, 1] - py)
@@ -116,6 +121,8 @@ def _hull_bounds(points, corners, zmin: float, zmax: float):
         np.maximum(far2, vx * vx + vy * vy, out=far2)
     center = first + 0.5 * (low + high)
     near, inside = _hull_distance(corners, px, py)
+    if plan is not None:
+        plan["near"] = near
     half = np.where(inside, math.pi, 0.5 * (high - low) + _ANGLE_MARGIN)
     far = np.sqrt(far2)
     return (center, half, *_elevation_band(points, near, far, zmin, zmax))
@@ -175,17 +182,18 @@ def _plate_sector_limits(plate: Plate) -> tuple[np.ndarray, np.ndarray]:
     return upper + _ANGLE_MARGIN + _EL_SHIFT, lower - _ANGLE_MARGIN + _EL_SHIFT
 
 
-def _candidate_ranges(points, sun_order: _SunOrder, obstruction):
+def _candidate_ranges(points, sun_order: _SunOrder, obstruction, *, coarse: bool = True):
     """Per point, runs of sector-sorted sun steps that may meet the obstruction.
 
     Returns ``(point, start, count)`` arrays, one row per (point, azimuth sector) pair the
     point's window spans, each run holding the sector's steps inside the point's elevation
     band (positions in ``sun_order.order``). A point whose band misses every sun elevation in
     its window's sectors gets no run; for blocks and plates a coarse bound (bounding
-    cylinder) drops such points before the tighter hull bound is computed.
+    cylinder) drops such points before the tighter hull bound is computed, unless
+    ``coarse`` is False (points already culled by their group, :mod:`.point_groups`).
     """
     index = np.arange(len(points))
-    if isinstance(obstruction, (Block, Plate)):
+    if coarse and isinstance(obstruction, (Block, Plate)):
         _, span, _, _ = _sector_spans(sun_order,
                                       *_angular_bounds(points, obstruction, coarse=True))
         index = np.flatnonzero(span)
@@ -215,24 +223,56 @@ def _window_runs(sun_order: _SunOrder, index, bounds, tighten=None):
     s_lo, span, e_lo, e_hi = _sector_spans(sun_order, *bounds)
     total = int(span.sum())
     local = np.repeat(np.arange(len(index)), span)
-    within = np.arange(total) - np.repeat(np.cumsum(span) - span, span)
-    sector = (s_lo[local] + within) % _SECTORS
-    run_lo, run_hi = e_lo[local], e_hi[local]
+    sector = np.repeat(s_lo - (np.cumsum(span) - span), span)
+    sector += np.arange(total)  # s_lo + 0, 1, ... within each point's window
+    sector &= _SECTORS - 1  # wrapped (a power of two)
+    run_lo, run_hi = np.repeat(e_lo, span), np.repeat(e_hi, span)
     # a run whose band misses its own sector's sun elevations (a sector the sun never
     # reaches, a band below the sector's lowest sun) holds no step: dropped before the
     # searches, and before tightening
-    low, high = sun_order.range_low[:, 0], sun_order.range_high[:, 0]
-    reach = np.flatnonzero((run_hi >= low[sector]) & (run_lo <= high[sector]))
+    low, high = sun_order.range_low[sector, 0], sun_order.range_high[sector, 0]
+    reach = np.flatnonzero((run_hi >= low) & (run_lo <= high))
     if len(reach) < total:
-        local, sector, run_lo, run_hi = local[reach], sector[reach], run_lo[reach], run_hi[reach]
+        local, sector, run_lo, run_hi, low, high = (
+            a[reach] for a in (local, sector, run_lo, run_hi, low, high))
     if tighten is not None:
         run_lo, run_hi = tighten(local, sector, run_lo, run_hi)
-    base = sector * 4.0
-    start = np.searchsorted(sun_order.key, base + run_lo, side="left")
-    stop = np.searchsorted(sun_order.key, base + run_hi, side="right")
+    start = _run_ends(sun_order, sector, run_lo, run_lo <= low, "left")
+    stop = _run_ends(sun_order, sector, run_hi, run_hi >= high, "right")
     count = stop - start
     keep = count > 0
     return index[local[keep]], start[keep], count[keep]
+
+
+def _run_ends(sun_order: _SunOrder, sector, band, whole, side: str):
+    """Sorted positions where shifted elevations ``band`` fall in their sectors' steps.
+
+    As ``np.searchsorted(sun_order.key, sector * 4 + band, side)``; where ``whole`` (the band
+    end lies beyond every step of the sector), the sector's own end, from a table, without a
+    search: a run from below a sector's lowest sun (a point below the top of a solid) begins
+    where the sector begins.
+    """
+    ends = sun_order.sector_start[sector + (side == "right")]
+    search = np.flatnonzero(~whole)
+    if len(search):
+        sec = sector[search]
+        ends[search] = np.searchsorted(sun_order.key, sec * 4.0 + band[search], side=side)
+    return ends
+
+
+def _sector_offsets(center, sector):
+    """Azimuth offsets [rad] of each sector's ends from a window's centre, and the smallest.
+
+    Returns ``(d0, d1, d_min)``: the offsets of the sector's two ends (wrapped to
+    [-pi, pi)) and the smallest absolute offset within the sector (0 when it holds the
+    centre).
+    """
+    width = 2 * math.pi / _SECTORS
+    a0 = -math.pi + width * sector
+    d0 = (a0 - center + math.pi) % (2 * math.pi) - math.pi
+    d1 = (a0 + width - center + math.pi) % (2 * math.pi) - math.pi
+    d_min = np.where((d0 <= 0) & (d1 >= 0), 0.0, np.minimum(np.abs(d0), np.abs(d1)))
+    return d0, d1, d_min
 
 
 #: [rad] widening of a tree crown's cull window: its bounds go through arcsin and arccos
@@ -278,11 +318,7 @@ def _crown_ranges(points, sun_order: _SunOrder, tree: Tree):
     el_max = np.where(inside, 0.5 * math.pi, true_elevation(ec + ang)) + _CROWN_MARGIN
 
     def tighten(local, sector, run_lo, run_hi):
-        width = 2 * math.pi / _SECTORS
-        a0 = -math.pi + width * sector
-        d0 = (a0 - center[local] + math.pi) % (2 * math.pi) - math.pi
-        d1 = (a0 + width - center[local] + math.pi) % (2 * math.pi) - math.pi
-        d_min = np.where((d0 <= 0) & (d1 >= 0), 0.0, np.minimum(np.abs(d0), np.abs(d1)))
+        d0, d1, d_min = _sector_offsets(center[local], sector)
         reach = half_cap[local]
         d_max = np.minimum(np.maximum(np.abs(d0), np.abs(d1)), reach)
         d_min = np.minimum(d_min, reach)
@@ -298,6 +334,41 @@ def _crown_ranges(points, sun_order: _SunOrder, tree: Tree):
         lo = np.where(use, true_elevation(lo) - _CROWN_MARGIN + _EL_SHIFT, run_lo)
         hi = np.where(use, true_elevation(hi) + _CROWN_MARGIN + _EL_SHIFT, run_hi)
         return np.maximum(run_lo, lo), np.minimum(run_hi, hi)
+
+    return _window_runs(sun_order, np.arange(len(points)), (center, half, el_min, el_max),
+                        tighten)
+
+
+def _cone_ranges(points, sun_order: _SunOrder, tree: Tree):
+    """Find the runs of sun steps that may meet a cone crown (as :func:`_candidate_ranges`).
+
+    The crown's bounding column gives each point its window and band; each (point, azimuth
+    sector) run is then capped by the cone's narrowing: a ray whose azimuth is ``d`` off the
+    direction of the axis passes no nearer to the axis than ``D sin|d|`` in plan (``D`` the
+    point's plan distance from the axis), while the cone's radius there,
+    ``R (apex - z) / (apex - base)``, shrinks with the height ``z``: the ray can be inside
+    only below ``z_top = apex - (apex - base) D sin|d| / R``, at a plan distance between
+    ``D - R`` and ``D + R``. Over a sector the smallest ``|d|`` gives the highest
+    ``z_top``, so the run's elevations stop at ``atan2(z_top - z, D - R)`` (``D + R`` when
+    ``z_top`` is below the point). Points inside the crown's column keep their runs.
+    """
+    x0, y0, _, x1, y1, top = tree.bounds
+    base = tree.ground_m + tree.crown_base
+    column = _Column((x0, y0, base, x1, y1, top))
+    center, half, el_min, el_max = _angular_bounds(points, column)
+    (cx, cy), radius = tree.center, tree.crown_radius
+    dist = np.hypot(cx - points[:, 0], cy - points[:, 1])
+    beside = dist > radius * (1 + 1e-9) + 1e-9
+    slope = (top - base) / radius  # height lost per metre of radius
+
+    def tighten(local, sector, run_lo, run_hi):
+        d_min = _sector_offsets(center[local], sector)[2]
+        reach = dist[local]
+        up = top - slope * reach * np.sin(np.minimum(d_min, 0.5 * math.pi)) \
+            - points[local, 2]
+        el = np.arctan2(up, np.where(up > 0, reach - radius, reach + radius))
+        el += _CROWN_MARGIN + _EL_SHIFT
+        return run_lo, np.where(beside[local], np.minimum(run_hi, el), run_hi)
 
     return _window_runs(sun_order, np.arange(len(points)), (center, half, el_min, el_max),
                         tighten)

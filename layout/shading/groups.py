@@ -134,13 +134,16 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
         cuts = [np.r_[np.searchsorted(step, first.astype(step.dtype)), len(step)]
                 for step, _, _ in prepared]
     blocked = row_of[np.flatnonzero(horizon)]  # columns below the far horizon
+    # one point a group and only opaque hits: the block holds the shade itself (0 or 1,
+    # exactly 1 - beam), with no pass to turn beam into shade
+    as_shade = direct and all(factor is None for _, _, factor in prepared)
     for r0 in range(0, n_rows, per):
         r1 = min(n_rows, r0 + per)
         width = r1 - r0
         whole = direct and width == n_rows and values is not None \
             and values.flags.c_contiguous
         beam = values if whole else np.empty((n_points, width), dtype=np.float32)
-        beam.fill(1.0)
+        beam.fill(0.0 if as_shade else 1.0)
         flat_beam = beam.reshape(-1)
         for k, (step, point, factor) in enumerate(prepared):
             part = slice(None)
@@ -156,13 +159,16 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
             if r0:
                 flat -= r0
             if factor is None:
-                flat_beam[flat] = 0.0
+                flat_beam[flat] = 1.0 if as_shade else 0.0
             else:
                 flat_beam[flat] *= factor[part]  # each (step, point) once per obstruction
         block = beam if direct and reduce is not None else \
             np.empty((n_groups, width), dtype=np.float32) if reduce is not None \
             else values[:, r0:r1]
-        if direct:
+        if as_shade:
+            if not whole and block is not beam:  # else the block is the beam's memory
+                block[:] = beam
+        elif direct:
             np.subtract(np.float32(1.0), beam, out=block)
         elif regular:
             lit = beam.reshape(n_groups, size, r1 - r0).sum(axis=1)

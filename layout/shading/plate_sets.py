@@ -38,7 +38,7 @@ _GRID_MARGIN_M = 1e-4
 #: [m] margin of the sure cases: a cell surely inside a plate, a point surely off the plane
 _SURE_M = 1e-6
 #: Grid cells across the smaller side of a plate
-_CELLS_PER_PLATE = 10
+_CELLS_PER_PLATE = 16
 #: Most plates in one set (neighbours along a row)
 _SET_SIZE = 32
 #: Rays this close to parallel with the plane (|sun · normal|) are tested against every plate
@@ -183,14 +183,11 @@ def _plate_set_kernel(plate_set: PlateSet, pts: np.ndarray, sun_v: np.ndarray, s
     rel = pts - origin
     dist, u_pt, v_pt = _dot3(rel, normal), _dot3(rel, e1), _dot3(rel, e2)
     sure_off = np.abs(dist) > PLANE_TOLERANCE_M + _SURE_M
-    den = _dot3(sun_v, normal)
-    du, dv = _dot3(sun_v, e1), _dot3(sun_v, e2)
-    grazing = np.abs(den) < _GRAZING
-    with np.errstate(divide="ignore"):
-        inv_den = np.where(grazing, 0.0, 1.0 / den)
     u0, v0, cell, nu, nv, cell_start, members, status = _grid(plate_set)
     origins, pe1, pe2, normals, part_normal, limit = _stacked(plate_set)
     n_plates, n_edges = limit.shape
+    grazing, inv_den, u_step, v_step, step_inv, step_cross, step_du, step_dv = \
+        _step_terms(plate_set, sun_v)
     px, py, pz = (pts[:, k].copy() for k in range(3))
     ox, oy, oz = origins.T.copy()
     nx, ny, nz = normals.T.copy()
@@ -199,13 +196,6 @@ def _plate_set_kernel(plate_set: PlateSet, pts: np.ndarray, sun_v: np.ndarray, s
     edge_x = [part_normal[:, k, 0].copy() for k in range(n_edges)]
     edge_y = [part_normal[:, k, 1].copy() for k in range(n_edges)]
     edge_limit = [limit[:, k].copy() for k in range(n_edges)]
-    # the plates' own terms per (step, plate), as _plate_kernel tabulates them, flat
-    step_den = np.stack([_dot3(sun_v, n) for n in normals], axis=1)  # (T, P)
-    with np.errstate(divide="ignore"):
-        step_inv = (1.0 / step_den).ravel()
-    step_cross = (step_den != 0).ravel()
-    step_du = np.stack([_dot3(sun_v, a) for a in pe1], axis=1).ravel()
-    step_dv = np.stack([_dot3(sun_v, b) for b in pe2], axis=1).ravel()
 
     def exact(p, st, every, key):
         """Each pair against the plates of its cell (every plate when ``every``)."""
@@ -232,22 +222,68 @@ def _plate_set_kernel(plate_set: PlateSet, pts: np.ndarray, sun_v: np.ndarray, s
         hit[pair[ok]] = True
         return hit
 
+    # the grid's status with a border of empty cells, so that a crossing off the grid needs
+    # no test of its own: cell (i, j) is padded[(i + 1) * (nv + 2) + j + 1], i and j clipped
+    padded = np.zeros((nu + 2, nv + 2), dtype=np.int8)
+    padded[1:-1, 1:-1] = status.reshape(nu, nv)
+    padded = padded.ravel()
+    # the crossing in grid cells, u = u_cell(p) + (-dist(p)) * u_step(st): the same point as
+    # (u_pt + s du - u0) / cell to rounding (1e-13 cells), far inside the grid's margins
+    back = -dist
+    u_cell, v_cell = (u_pt - u0) / cell, (v_pt - v0) / cell
+
     def kernel(p, st):
-        s = -dist[p] * inv_den[st]  # where the ray crosses the plane (0 when grazing)
-        i = np.floor((u_pt[p] + s * du[st] - u0) / cell)
-        j = np.floor((v_pt[p] + s * dv[st] - v0) / cell)
-        on_grid = (i >= 0) & (i < nu) & (j >= 0) & (j < nv) & (s > 0)
-        key = np.where(on_grid, i * nv + j, 0).astype(np.intp)
-        state = np.where(on_grid, status[key], 0)
-        every = grazing[st]
-        sure = (state == 1) & sure_off[p] & (s > start + _SURE_M) & ~every
-        hit = sure.copy()
-        check = np.flatnonzero(~sure & ((state != 0) | every))
+        dp = back.take(p)
+        s = dp * inv_den.take(st)  # where the ray crosses the plane (0 when grazing)
+        i = np.clip(np.floor(u_cell.take(p) + dp * u_step.take(st)), -1, nu)
+        j = np.clip(np.floor(v_cell.take(p) + dp * v_step.take(st)), -1, nv)
+        state = padded.take(((i + 1) * (nv + 2) + (j + 1)).astype(np.intp))
+        every = grazing.take(st)
+        sure = (state == 1) & (s > start + _SURE_M) & sure_off.take(p) & ~every
+        check = np.flatnonzero(((state != 0) & (s > 0) & ~sure) | every)
         if len(check):
-            hit[check] = exact(p[check], st[check], every[check], key[check])
-        return hit, np.zeros(len(p), dtype=bool)
+            i, j = i[check], j[check]
+            on_grid = (i >= 0) & (i < nu) & (j >= 0) & (j < nv)
+            key = np.where(on_grid, i * nv + j, 0).astype(np.intp)
+            sure[check] = exact(p[check], st[check], every[check], key)
+        return sure, np.zeros(len(p), dtype=bool)
 
     return kernel
+
+
+#: The last plate set's per-step terms, ``(plate_set, sun, terms)``: the near and the far
+#: points of one set (hits.py, _split_hits) are ray-tested one after the other.
+_LAST_STEPS: list = [None]
+
+
+def _step_terms(plate_set: PlateSet, sun_v: np.ndarray):
+    """Terms of a plate set's kernel that depend only on the sun step.
+
+    ``(grazing, inv_den, u_step, v_step)`` per step for the crossing of the hull's plane in
+    grid cells, and the plates' own terms per (step, plate), flat, as
+    :func:`~layout.shading.plates._plate_kernel` tabulates them (``step_inv``,
+    ``step_cross``, ``step_du``, ``step_dv``). The last set's are kept for the same ``sun``
+    array (the same object).
+    """
+    last = _LAST_STEPS[0]
+    if last is not None and last[0] is plate_set and last[1] is sun_v:
+        return last[2]
+    _, e1, e2, normal, _, _ = _plate_geometry(plate_set.hull)
+    cell = _grid(plate_set)[2]
+    _, pe1, pe2, normals, _, _ = _stacked(plate_set)
+    den = _dot3(sun_v, normal)
+    du, dv = _dot3(sun_v, e1), _dot3(sun_v, e2)
+    grazing = np.abs(den) < _GRAZING
+    with np.errstate(divide="ignore"):
+        inv_den = np.where(grazing, 0.0, 1.0 / den)
+    step_den = np.stack([_dot3(sun_v, n) for n in normals], axis=1)  # (T, P)
+    with np.errstate(divide="ignore"):
+        step_inv = (1.0 / step_den).ravel()
+    terms = (grazing, inv_den, inv_den * du / cell, inv_den * dv / cell, step_inv,
+             (step_den != 0).ravel(), np.stack([_dot3(sun_v, a) for a in pe1], axis=1).ravel(),
+             np.stack([_dot3(sun_v, b) for b in pe2], axis=1).ravel())
+    _LAST_STEPS[0] = (plate_set, sun_v, terms)
+    return terms
 
 
 def _hit_plate_set(plate_set: PlateSet, o: np.ndarray, d: np.ndarray, start: float):

@@ -10,6 +10,11 @@ test is conservative: if the ray from a point ``p`` meets the obstruction at ``q
 from its group's centre ``c`` passes through ``q + (c - p)``, which lies in the box grown by
 ``|c - p|``, per axis at most the half extent. The points kept then go through the exact
 per-point cull and ray tests as before, so the hits are the same, only found sooner.
+
+For a plate set (a rack row, long beside a group), :func:`_split_groups` goes one step
+further: the points of a group far from it take the runs of sun steps of the group's centre
+toward the grown box, by the same argument a superset of each point's own, so that one cull
+serves the whole group; only the groups near it are culled point by point.
 """
 
 from __future__ import annotations
@@ -18,13 +23,17 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .culling import _hull_bounds, _sector_spans
+from .culling import _hull_bounds, _sector_spans, _window_runs
 from .sun_sectors import _SunOrder
 
 #: Fewest points for which grouping pays; below it every obstruction sees every point.
 _MIN_POINTS = 4096
 #: Edge of the cubes the points are bucketed into [m].
 _CELL_M = 2.0
+#: A group is far from an obstruction when its centre lies more than this many times the
+#: groups' largest plan half extent from the obstruction's grown box, in plan: its points
+#: then take the group's runs of sun steps instead of their own.
+_FAR = 8.0
 
 
 @dataclass(frozen=True, eq=False)
@@ -55,12 +64,10 @@ def _point_groups(points: np.ndarray, *, cell: float = _CELL_M,
                         (0.5 * (high - low)).max(axis=0))
 
 
-def _near_points(groups: _PointGroups, sun_order: _SunOrder, obstruction) -> np.ndarray | None:
-    """Return the points whose group may see the obstruction; None when every group may.
+def _grown_box_bounds(groups: _PointGroups, obstruction, plan=None):
+    """Angular bounds of the obstruction's box, grown by the groups' half extents, per group.
 
-    The indices come group by group (ascending within each group).
-
-    Only for sun steps that all have an azimuth (no step with the sun straight up or down).
+    As :func:`~layout.shading.culling._hull_bounds` gives them from each group's centre.
     """
     xmin, ymin, zmin, xmax, ymax, zmax = obstruction.bounds
     hx, hy, hz = groups.half * (1 + 1e-9) + 1e-9
@@ -68,13 +75,58 @@ def _near_points(groups: _PointGroups, sun_order: _SunOrder, obstruction) -> np.
     # the grown box as a prism over its rectangle: for a long rack row far tighter than the
     # cylinder around it, which would take in every group within half the row's length
     box = np.array([(x0, y0), (x1, y0), (x1, y1), (x0, y1)])
-    _, span, _, _ = _sector_spans(sun_order, *_hull_bounds(groups.centre, box, zmin - hz,
-                                                           zmax + hz))
-    keep = np.flatnonzero(span)
-    if len(keep) == len(span):
-        return None
+    return _hull_bounds(groups.centre, box, zmin - hz, zmax + hz, plan=plan)
+
+
+def _members(groups: _PointGroups, keep: np.ndarray) -> np.ndarray:
+    """Return the points of the groups ``keep``, group by group."""
     starts, stops = groups.starts[keep], groups.starts[keep + 1]
     count = stops - starts
     first = np.cumsum(count) - count
     pos = np.repeat(starts - first, count) + np.arange(int(count.sum()))
     return groups.members[pos]
+
+
+def _split_groups(groups: _PointGroups, sun_order: _SunOrder, obstruction):
+    """Split the points whose group may see the obstruction into near and far ones.
+
+    Returns ``(near, far, far_runs)``: the points of the groups near the obstruction (culled
+    one by one afterwards), those of the far groups, and the far points' candidate runs
+    ``(point, start, count)`` (``point`` indexing ``far``), each point taking the runs of its
+    group's centre toward the grown box, which hold every sun step any point of the group
+    can meet the obstruction at (module docstring). Far from it, a group's window and band
+    are hardly wider than its points' own, and one cull serves all its points.
+
+    Only for sun steps that all have an azimuth.
+    """
+    plan: dict = {}
+    bounds = _grown_box_bounds(groups, obstruction, plan)
+    span = _sector_spans(sun_order, *bounds)[1]
+    far_off = plan["near"] > _FAR * float(groups.half[:2].max())
+    near_ids = np.flatnonzero((span > 0) & ~far_off)
+    far_ids = np.flatnonzero((span > 0) & far_off)
+    group, start, count = _window_runs(sun_order, far_ids,
+                                       tuple(b[far_ids] for b in bounds))
+    # each run of a far group, once per member point (numbered within ``far``)
+    size = groups.starts[far_ids + 1] - groups.starts[far_ids]
+    first = np.cumsum(size) - size
+    rank = np.searchsorted(far_ids, group)  # the run's group among the far ones
+    times = size[rank]
+    total = int(times.sum())
+    point = np.repeat(first[rank] - (np.cumsum(times) - times), times) + np.arange(total)
+    return (_members(groups, near_ids), _members(groups, far_ids),
+            (point, np.repeat(start, times), np.repeat(count, times)))
+
+
+def _near_points(groups: _PointGroups, sun_order: _SunOrder, obstruction) -> np.ndarray | None:
+    """Return the points whose group may see the obstruction; None when every group may.
+
+    The indices come group by group (ascending within each group).
+
+    Only for sun steps that all have an azimuth (no step with the sun straight up or down).
+    """
+    _, span, _, _ = _sector_spans(sun_order, *_grown_box_bounds(groups, obstruction))
+    keep = np.flatnonzero(span)
+    if len(keep) == len(span):
+        return None
+    return _members(groups, keep)

@@ -48,9 +48,16 @@ def _ray_effect(obstruction, o, d, start) -> tuple[np.ndarray, np.ndarray]:
             crown = _hit_spheroid(cx, cy, obstruction.crown_center_z, obstruction.crown_radius,
                                   obstruction.crown_semi_axis_z, o, d, start)
         return trunk, crown & ~trunk
-    raise InputError("obstructions", "contains an unknown obstruction",
-                     value=type(obstruction).__name__,
-                     allowed="Block, Cylinder, Tree, Plate or HorizonProfile")
+    _check_solid(obstruction)
+    raise AssertionError("unreachable")  # pragma: no cover
+
+
+def _check_solid(obstruction) -> None:
+    """Raise :class:`InputError` unless the obstruction is a solid :func:`_ray_effect` tests."""
+    if not isinstance(obstruction, (Block, Plate, PlateSet, Cylinder, Tree)):
+        raise InputError("obstructions", "contains an unknown obstruction",
+                         value=type(obstruction).__name__,
+                         allowed="Block, Cylinder, Tree, Plate or HorizonProfile")
 
 
 def _kernel_cost(obstruction) -> int:

@@ -13,7 +13,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-#: Number of equal azimuth sectors the sun steps are binned into for culling.
+#: Number of equal azimuth sectors the sun steps are binned into for culling (a power of two:
+#: sector numbers wrap by a bit mask).
 _SECTORS = 128
 _EL_SHIFT = 2.0  # [rad] elevation + 2 lies in (0, 4): sector · 4 + it is a sortable key
 
@@ -33,6 +34,7 @@ class _SunOrder:
     zenith_steps: np.ndarray  # steps with an undefined azimuth (sun straight up or down)
     range_low: np.ndarray  # (S, S): lowest elevation + 2 over sectors s .. s + n (circular)
     range_high: np.ndarray  # (S, S): highest elevation + 2 over the same sectors
+    sector_start: np.ndarray  # (S + 1,): sorted position of each sector's first step
 
 
 def _sector(angle):
@@ -59,5 +61,7 @@ def _sun_order(sun: np.ndarray) -> _SunOrder:
     index = (np.arange(_SECTORS)[:, None] + np.arange(_SECTORS)[None, :]) % _SECTORS
     range_low = np.minimum.accumulate(low[index], axis=1)
     range_high = np.maximum.accumulate(high[index], axis=1)
-    return _SunOrder(steps[sort], key[sort], elevation, np.flatnonzero(~defined), range_low,
-                     range_high)
+    key = key[sort]
+    sector_start = np.searchsorted(key, 4.0 * np.arange(_SECTORS + 1), side="left")
+    return _SunOrder(steps[sort], key, elevation, np.flatnonzero(~defined), range_low,
+                     range_high, sector_start)

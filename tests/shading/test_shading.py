@@ -291,7 +291,8 @@ def hit_set(hits):
 @given(st.integers(0, 10_000), st.sampled_from(["spheroid", "cone"]))
 def test_tree_crown_and_trunk_culled_apart_give_every_hit(seed, crown_shape):
     # the sun-up speed path culls a spheroid crown by its exact cap per azimuth sector (a cone
-    # crown by its bounding column) and the trunk by its own column; every (step, point) pair
+    # crown by its bounding column, capped per sector by the cone's narrowing) and the trunk
+    # by its own column; every (step, point) pair
     # and its crown-only flag must be the same as with no culling at all (the direct tests,
     # the old exact answer), for points around, under, above and inside crowns
     rng = np.random.default_rng(seed)
@@ -324,6 +325,30 @@ def test_tree_crown_cull_keeps_grazing_rays():
     got = obstruction_hits(pts, sun, tree)
     want = obstruction_hits(pts, sun, tree, cull=False)
     assert len(want) > 0 and hit_set(got) == hit_set(want)
+
+
+def test_cone_crown_cull_keeps_rays_through_its_surface():
+    # rays aimed at points of a cone crown's surface (and a hair either side) touch or graze
+    # it: the cull capped per azimuth sector by the cone's narrowing must keep every one the
+    # direct test finds, seen from points around the tree, below and above the apex
+    tree = Tree((2.0, 12.0), 14.0, 3.0, 2.5, crown_shape="cone")
+    base, apex = tree.ground_m + tree.crown_base, tree.ground_m + tree.height
+    rng = np.random.default_rng(8)
+    pts = np.column_stack([rng.uniform(-8, 8, 12), rng.uniform(-6, 4, 12),
+                           rng.uniform(1, 16, 12)])
+    z = rng.uniform(base, apex, 400)
+    phi = rng.uniform(0, 2 * math.pi, 400)
+    r = tree.crown_radius * (apex - z) / (apex - base)
+    surface = np.column_stack([2.0 + r * np.cos(phi), 12.0 + r * np.sin(phi), z])
+    for nudge in (0.0, 1e-7, -1e-7):
+        d = surface[None, :, :] - pts[:, None, :]
+        d *= 1 + nudge
+        d[..., 2] += nudge * np.linalg.norm(d, axis=-1)
+        sun = (d / np.linalg.norm(d, axis=-1, keepdims=True)).reshape(-1, 3)
+        sun = sun[sun[:, 2] > 0.01]
+        got = obstruction_hits(pts, sun, tree)
+        want = obstruction_hits(pts, sun, tree, cull=False)
+        assert len(want) > 0 and hit_set(got) == hit_set(want)
 
 
 # ------------------------------------------------------------------ transmittance
@@ -696,6 +721,29 @@ def test_module_shade_without_cells_keeps_the_same_reductions(per_cell, steps_a_
         assert lean.worst_rows.max() > 0
 
 
+@pytest.mark.parametrize("labels, run", [
+    ([0, 0, 1, 1, 2, 2] * 10, 2),  # the generic 60-cell module: pairs of columns
+    ([0] * 20 + [1] * 20 + [2] * 20, 20),  # contiguous substrings
+    ([0, 1, 2] * 4, 1),
+    ([0, 0, 1, 1, 2, 2] * 9 + [2, 2, 1, 1, 0, 0], None),  # no repeated pattern
+    ([0, 1, 1, 0], None),
+])
+def test_substring_pattern_reduces_as_the_cells_of_each_substring(labels, run):
+    # the worst cell per substring taken over a reshaped view (no copy of the cells) equals
+    # the maximum over each substring's own cells, picked by its labels
+    from layout.shading.per_module import _Reductions, _substring_pattern
+
+    labels = np.asarray(labels)
+    n_sub = labels.max() + 1
+    assert _substring_pattern(labels, n_sub) == run
+    cells = np.random.default_rng(3).random((4, len(labels), 7)).astype(np.float32)
+    sums = _Reductions(4, labels, keep_cells=False)
+    sums.at(0)(np.arange(7), 0, 7, cells.reshape(-1, 7))
+    for s in range(n_sub):
+        assert np.array_equal(sums.worst[:, s], cells[:, labels == s].max(axis=1))
+    assert np.array_equal(sums.mean, cells.sum(axis=1, dtype=np.float64) / len(labels))
+
+
 @settings(max_examples=10, deadline=None)
 @given(st.integers(0, 10_000))
 def test_tabulated_kernels_equal_the_direct_ones(seed):
@@ -796,10 +844,11 @@ def test_a_tree_on_a_bank_shades_as_the_same_tree_lifted():
 @given(st.integers(0, 10_000), st.sampled_from([0.5, 2.0, 7.0]))
 def test_point_groups_keep_every_hit(seed, cell):
     # the group pre-cull (large point sets: whole groups out of an obstruction's reach are
-    # dropped first) against the old exact answer without it, on random scenes and plates,
-    # with points spread wide and the sun low and high
+    # dropped first; a plate set's far groups culled a group at a time, their points taking
+    # the group's runs) against the old exact answer without it, on random scenes, plates
+    # and plate sets, with points spread wide and the sun low and high
     from layout.shading.hits import _obstruction_hits
-    from layout.shading.point_groups import _near_points, _point_groups
+    from layout.shading.point_groups import _near_points, _point_groups, _split_groups
     from layout.shading.sun_sectors import _sun_order
 
     rng = np.random.default_rng(seed)
@@ -809,12 +858,15 @@ def test_point_groups_keep_every_hit(seed, cell):
     order = _sun_order(sun)
     groups = _point_groups(pts, cell=cell, min_points=0)
     dropped = 0
-    for ob in [*random_scene(rng), *random_plates(rng)]:
+    plate_set = random_plate_grid(rng)[0]
+    for ob in [*random_scene(rng), *random_plates(rng), plate_set]:
         got = _obstruction_hits(pts, sun, ob, RAY_START_M, 1 << 19, True, order, None, groups)
         want = _obstruction_hits(pts, sun, ob, RAY_START_M, 1 << 19, True, order)
         assert hit_set(got) == hit_set(want) and len(got) == len(want)
         dropped += _near_points(groups, order, ob) is not None
     assert dropped  # the pre-cull did drop groups somewhere
+    if cell < 7.0:  # some groups far from the plate set, culled a group at a time
+        assert len(_split_groups(groups, order, plate_set)[1])
 
 
 def random_plate_grid(rng):
@@ -929,3 +981,95 @@ def test_obstructions_behind_a_surface_are_not_tested_and_the_hits_stay_the_same
     lit = with_normals.lit_at(step, point)
     origins = pts[point[lit]] + RAY_START_M * sun[step[lit]]
     assert not mesh.ray.intersects_any(origins, sun[step[lit]]).any()
+
+
+def test_run_ends_from_the_sector_table_equal_the_binary_search():
+    # a band end beyond every step of its sector takes the sector's end from a table; the
+    # positions are those of a binary search on the sorted keys all the same
+    from layout.shading.culling import _run_ends
+    from layout.shading.sun_sectors import _SECTORS, _sun_order
+
+    rng = np.random.default_rng(5)
+    sun = rng.normal(size=(3000, 3))
+    sun[:, 2] = np.abs(sun[:, 2]) * rng.choice([1.0, -0.2], 3000)
+    order = _sun_order(sun / np.linalg.norm(sun, axis=1, keepdims=True))
+    sector = rng.integers(0, _SECTORS, 5000)
+    band = rng.uniform(-0.5 * math.pi, 0.5 * math.pi, 5000) + 2.0
+    band[::3] = rng.choice([-0.5 * math.pi + 2.0, 0.5 * math.pi + 2.0], len(band[::3]))
+    low, high = order.range_low[:, 0], order.range_high[:, 0]
+    for side, whole in (("left", band <= low[sector]), ("right", band >= high[sector])):
+        expected = np.searchsorted(order.key, sector * 4.0 + band, side=side)
+        assert np.array_equal(_run_ends(order, sector, band, whole, side), expected)
+        assert whole.any() and not whole.all()
+
+
+@pytest.mark.parametrize("n_steps, n_points", [(4430, 30_000), (8760, 3_000_000), (70_000, 9)])
+def test_packed_sort_of_hits_equals_a_lexicographic_sort(n_steps, n_points):
+    # the cache sorts opaque hits as (step, point) packed in one integer, 32 bits or 64
+    # (the middle case needs 14 + 22 bits); the order is numpy's lexsort of the pairs
+    from layout.shading.hits import _sorted_pairs
+
+    rng = np.random.default_rng(n_points)
+    step = rng.integers(0, n_steps, 50_000).astype(np.int32)
+    point = rng.integers(0, n_points, 50_000).astype(np.int32)
+    order = np.lexsort((point, step))
+    got_step, got_point = _sorted_pairs(step, point, n_steps)
+    assert got_step.dtype == step.dtype and got_point.dtype == point.dtype
+    assert np.array_equal(got_step, step[order]) and np.array_equal(got_point, point[order])
+
+
+@pytest.mark.parametrize("steps_a_block", [None, 7, 1])
+def test_group_shade_of_single_points_equals_one_minus_the_beam(steps_a_block, monkeypatch):
+    # one point a group: the shade is 1 - the beam that gets through, exactly, whether the
+    # hits are all opaque (the block then holds the shade itself) or a crown lets some
+    # through; in one block, a few blocks (masks) and many (sorted hits); with a reduce
+    # callback too
+    from layout.shading import groups
+
+    rng = np.random.default_rng(21)
+    pts = np.column_stack([rng.uniform(-6, 6, 90), rng.uniform(-6, 6, 90),
+                           rng.uniform(0, 3, 90)])
+    sun = sun_vectors(rng.uniform(60, 300, 150), rng.uniform(3, 70, 150))
+    month = rng.integers(1, 13, 150)
+    if steps_a_block is not None:
+        monkeypatch.setattr(groups, "_DENSE_BLOCK", len(pts) * steps_a_block)
+    tree = Tree.deciduous((0.0, -8.0), 9.0, 3.0, 2.5)
+    solids = [ob for ob in random_scene(rng) if not isinstance(ob, Tree)]
+    for scene in (solids, [*solids, tree]):
+        cache = ShadeCache(pts, sun, scene, month=month)
+        want = (np.float32(1.0) - transmitted(pts, sun, scene, month=month).astype(
+            np.float32))
+        labels = np.arange(len(pts))
+        assert np.array_equal(cache.group_shade(labels), want)
+        seen = np.zeros((len(sun), len(pts)), dtype=np.float32)
+
+        def keep(rows, r0, r1, block, seen=seen):
+            seen[rows[r0:r1]] = block.T
+
+        cache.group_shade_rows(labels, reduce=keep)
+        assert np.array_equal(seen, want) and want.max() == 1.0
+
+
+def test_far_groups_of_a_plate_set_keep_its_plane_rule():
+    # points far from a flat plate set, some in its plane (flush modules: never shaded by
+    # it), some a little above or below; culled a group at a time, the far points' runs are
+    # renumbered when the in-plane points are dropped: the same hits as without groups
+    from layout.shading import PlateSet
+    from layout.shading.hits import _obstruction_hits
+    from layout.shading.point_groups import _point_groups, _split_groups
+    from layout.shading.sun_sectors import _sun_order
+
+    plate_set = PlateSet(tuple(_rack_plates(1, 6, 1.0, 1.7, 0.0, 2.0)))
+    rng = np.random.default_rng(4)
+    pts = np.column_stack([rng.uniform(-40, 40, 600), rng.uniform(-40, 40, 600),
+                           np.where(rng.random(600) < 0.5, 3.0,
+                                    3.0 + rng.uniform(-1.5, 1.5, 600))])
+    sun = sun_vectors(rng.uniform(0, 360, 300), rng.uniform(-10, 89.5, 300) % 90 + 0.01)
+    order = _sun_order(sun)
+    groups = _point_groups(pts, cell=2.0, min_points=0)
+    far = _split_groups(groups, order, plate_set)[1]
+    assert (pts[far, 2] == 3.0).any() and (pts[far, 2] != 3.0).any()
+    got = _obstruction_hits(pts, sun, plate_set, RAY_START_M, 1 << 19, True, order, None, groups)
+    want = _obstruction_hits(pts, sun, plate_set, RAY_START_M, 1 << 19, True, order)
+    assert len(want) > 0 and hit_set(got) == hit_set(want) and len(got) == len(want)
+    assert not np.isin(got.point, np.flatnonzero(pts[:, 2] == 3.0)).any()
