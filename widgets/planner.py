@@ -391,21 +391,22 @@ class Planner(LivePreviews, StringsWiring, LossRangeAndReport, w.VBox):
         keep = (previous is not None and result.layout is self.array_layout
                 and result.areas is self.areas and previous.faces == project.faces)
         self.project, self.array_layout, self.areas = project, result.layout, result.areas
-        self.file_panel.show(project, result.layout)
-        self.elevation_panel.show(project)
-        self._quiet_units(project.units)
         active = [m.id for m in result.modules]
         if self.selected_id not in active:
             table = result.table
             self.selected_id = (str(table["shade_loss_pct"].idxmax())
                                 if len(table) and table["shade_loss_pct"].notna().any()
                                 else (active[0] if active else None))
+        # the figures go out first: the browser shows them while it redraws the plan
+        self._show_figures()
         self._set_module_figures(redraw=False)
         self.plan.draw(plan_scene(project, result.layout, result.areas), units=project.units,
                        keep_static=keep)
         self.plan.show_buildings([b.name for b in project.buildings],
                                  [b.footprint for b in project.buildings])
-        self._show_figures()
+        self.file_panel.show(project, result.layout)
+        self.elevation_panel.show(project)
+        self._quiet_units(project.units)
         self._draw_shadows()
         self.objects.show(project.obstructions, units=project.units,
                           new_position=self._roof_middle(), origins=_origins(project))
