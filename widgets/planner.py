@@ -221,16 +221,9 @@ class Planner(LivePreviews, StringsWiring, LossRangeAndReport, w.VBox):
         self.selected_id: str | None = None
         self.last_recompute_s = 0.0
         self.last_timings: dict = {}
-        self.preview_interval_s = self.PREVIEW_INTERVAL_S
-        self.first_preview_s = self.FIRST_PREVIEW_S
-        self._drag_since = 0.0
+        self._init_previews()
         self.progress_after_s = self.PROGRESS_AFTER_S
         self._busy_since = 0.0
-        self._preview_done = 0.0
-        self._previewing = self._previewed = False
-        self._freshest = None
-        self.preview_sample_days = self.PREVIEW_SAMPLE_DAYS
-        self._previews = None  # (the weather it was made from, the preview analysis)
         self.compare_result = None
         self._compare_for = None
         self._base_dir = Path(path).expanduser().resolve().parent if path else None
@@ -469,7 +462,7 @@ class Planner(LivePreviews, StringsWiring, LossRangeAndReport, w.VBox):
         return float(point.x), float(point.y)
 
     def _set_module_figures(self, *, redraw: bool = True, result=None) -> None:
-        result = result or self.analysis.result
+        result = self.analysis.result if result is None else result
         table = result.table
         key = self.colour_by.value
         values = label = vmin = None
@@ -498,7 +491,7 @@ class Planner(LivePreviews, StringsWiring, LossRangeAndReport, w.VBox):
         self._show_selected()
 
     def _show_selected(self, result=None) -> None:
-        table = (result or self.analysis.result).table
+        table = (self.analysis.result if result is None else result).table
         if self.selected_id is None or self.selected_id not in table.index:
             self.totals_panel.show_selected(None)
             return

@@ -48,6 +48,17 @@ class LivePreviews:
     #: its drop, with the kernel free.
     FIRST_PREVIEW_S = 0.25
 
+    def _init_previews(self) -> None:
+        """Set the preview settings to their defaults and clear the drag state."""
+        self.preview_interval_s = self.PREVIEW_INTERVAL_S
+        self.first_preview_s = self.FIRST_PREVIEW_S
+        self.preview_sample_days = self.PREVIEW_SAMPLE_DAYS
+        self._drag_since = self._preview_done = 0.0
+        self._freshest = None  # least age of this drag's moves [s] (message_age_s)
+        self._previewing = False  # a preview is being drawn (no loss range bands then)
+        self._previewed = False  # the figures shown are a preview's, not the project's
+        self._previews = None  # (the weather it was made from, the preview analysis)
+
     def _obstruction_dragging(self, index: int, x_m: float, y_m: float) -> None:
         if self._behind_the_mouse():
             return  # newer moves are queued: preview where the mouse is, not where it was

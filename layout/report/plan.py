@@ -167,10 +167,9 @@ def plan_drawing(evaluation, *, metric: str = "shade_loss_pct") -> PlanDrawing:
                     for k, m in enumerate(evaluation.modules))
     removed = tuple(np.asarray(m.corners_3d, dtype=float)[:, :2]
                     for m in evaluation.layout.removed_modules)
-    rows = [(label, ob) for label, _, ob, _ in obstruction_rows(project)
-            if hasattr(ob, "footprint_polygon")]
     obstructions = tuple((label, type(ob).__name__ == "Tree", ob.footprint_polygon)
-                         for label, ob in rows)
+                         for label, _, ob, _ in obstruction_rows(project)
+                         if hasattr(ob, "footprint_polygon"))
     from_data = project.outlines_noted(PROVENANCE)
     finite = values[np.isfinite(values)]
     low = float(finite.min()) if len(finite) else float("nan")

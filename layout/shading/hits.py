@@ -203,7 +203,7 @@ def _in_front(pts, facing: Facing, obstruction) -> np.ndarray | None:
     """
     if facing.normals is None:
         return None
-    corners = _hull_corners(obstruction)
+    corners = _solid_corners(obstruction)
     reach = (facing.normals @ corners.T).max(axis=1)  # farthest corner along each normal
     normals = facing.normals[facing.group]
     ahead = np.flatnonzero(reach[facing.group] - np.einsum("ij,ij->i", pts, normals)
@@ -211,11 +211,12 @@ def _in_front(pts, facing: Facing, obstruction) -> np.ndarray | None:
     return None if len(ahead) == len(pts) else ahead
 
 
-def _hull_corners(obstruction) -> np.ndarray:
-    """Points whose convex hull holds the obstruction [m], (K, 3).
+def _solid_corners(obstruction) -> np.ndarray:
+    """Points in space whose convex hull holds the obstruction [m], (K, 3).
 
     A plate's corners (a plate set's hull), a block's footprint at its base and top, else
-    the corners of the bounding box.
+    the corners of the bounding box. (:func:`layout.shading.culling._hull_corners` is the
+    plan hull of a footprint, for the angular cull.)
     """
     if isinstance(obstruction, PlateSet):
         obstruction = obstruction.hull
