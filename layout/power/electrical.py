@@ -331,17 +331,26 @@ def dc_module_level(substring_irradiance, temp_cell, pdc0: float, *,
     for lo in range(0, g.shape[1], block):
         part = slice(lo, lo + block)
         temp_lit = temp[lit, part]
-        substrings = np.ascontiguousarray(np.moveaxis(g[lit, part], 2, 0))  # (S, T, m)
-        highest = np.full(substrings.shape[1:], -np.inf)
-        lowest = np.full(substrings.shape[1:], np.inf)
+        lit_g = g[lit, part]
+        substrings = [np.ascontiguousarray(lit_g[:, :, j]) for j in range(s)]  # S × (T, m)
+        highest = lowest = None
         for brightness in substrings:
-            rank = np.count_nonzero(substrings >= brightness, axis=0)
-            candidate = rank * (brightness / s)
-            np.maximum(highest, candidate, out=highest)
-            np.minimum(lowest, candidate, out=lowest)
+            rank = np.greater_equal(substrings[0], brightness).view(np.uint8)
+            for other in substrings[1:]:
+                rank = rank + np.greater_equal(other, brightness).view(np.uint8)
+            candidate = np.multiply(rank, brightness / s, dtype=np.float64)
+            if highest is None:
+                highest, lowest = candidate, candidate.copy()
+            else:
+                np.maximum(highest, candidate, out=highest)
+                np.minimum(lowest, candidate, out=lowest)
+        # pvwatts_dc(G, T, pdc0, γ) = G · 0.001 · pdc0 · (1 + γ (T − 25)), in pvlib's order
         factor = pvlib.pvsystem.pvwatts_dc(1000.0, temp_lit, 1.0, gamma_pdc)
         best = np.where(factor >= 0, highest, lowest)
-        out[lit, part] = pvlib.pvsystem.pvwatts_dc(best, temp_lit, pdc0, gamma_pdc)
+        best *= 0.001
+        best *= pdc0
+        best *= factor
+        out[lit, part] = best
     return out
 
 

@@ -292,6 +292,9 @@ def orientation_groups(surface_tilt, surface_azimuth) -> tuple[np.ndarray, np.nd
 #: Values per (step, module) temporary when modules are worked a block at a time.
 _BLOCK_VALUES = 1 << 21
 
+#: Plane components a module's shaded irradiance is made of (:func:`plane_components`).
+_SHADED_PARTS = ("beam", "beam_eff", "sky", "sky_eff", "ground", "ground_eff")
+
 
 # --------------------------------------------------------------------------- shade inputs
 def _expand_steps(array: np.ndarray, weather: Weather, field: str) -> np.ndarray:
@@ -662,33 +665,54 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
         for name, values in plane.items():
             parts[name][:, o] = values
     # per module (T, M): gather the module's plane, then shade; a block of modules at a time
-    # (every value is the module's own), so the temporaries stay a few (T, block) arrays
+    # (every value is the module's own), so the temporaries stay a few (T, block) arrays.
+    # Only the rows where some plane has light are worked: at the others every component is
+    # zero, so each module's irradiance is zero (whatever its shade) and its cells sit at the
+    # air temperature (SAPM at zero irradiance), which the arrays are filled with.
     params = pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS["sapm"][mount]
     temp_air = weather.data["temp_air"].to_numpy()[:, None]
     wind = weather.data["wind_speed"].to_numpy()[:, None]
-    poa, eff, temp = (np.empty((n_steps, n_modules)) for _ in range(3))
+    lit_steps = np.logical_or.reduce([parts[name] != 0 for name in _SHADED_PARTS]).any(axis=1)
+    lit_rows = np.flatnonzero(lit_steps)
+    every_row = len(lit_rows) == n_steps
+    rows = slice(None) if every_row else lit_rows
+    here_parts = {name: parts[name] if every_row else parts[name][lit_rows]
+                  for name in _SHADED_PARTS}
+    temp_air_lit, wind_lit = temp_air[rows], wind[rows]
+    poa, eff = np.zeros((n_steps, n_modules)), np.zeros((n_steps, n_modules))
+    temp = np.repeat(temp_air, n_modules, axis=1)
     sub = worst_f  # substrings, in place in the (T, M, S) buffer, which is ours
-    block = max(1, _BLOCK_VALUES // max(1, n_steps))
-    for lo in range(0, n_modules, block):
+    if not every_row:
+        sub[~lit_steps] = 0.0  # no light, however shaded
+    block = max(1, _BLOCK_VALUES // max(1, len(lit_rows)))
+    for lo in range(0, n_modules if len(lit_rows) else 0, block):
         part = slice(lo, lo + block)
         g = group[part]
-        beam_eff = parts["beam_eff"][:, g]
-        sky_eff = parts["sky_eff"][:, g]
-        ground_eff = parts["ground_eff"][:, g]
-        lit = 1.0 - mean_f[:, part]
-        here = parts["beam"][:, g] * lit
-        here += parts["sky"][:, g] * svf[part]
-        here += parts["ground"][:, g]
-        poa[:, part] = here
-        temp[:, part] = pvlib.temperature.sapm_cell(here, temp_air, wind, **params)
+        beam_eff = here_parts["beam_eff"][:, g]
+        sky_eff = here_parts["sky_eff"][:, g]
+        ground_eff = here_parts["ground_eff"][:, g]
+        lit = 1.0 - mean_f[rows, part]
+        here = here_parts["beam"][:, g] * lit
+        here += here_parts["sky"][:, g] * svf[part]
+        here += here_parts["ground"][:, g]
+        poa[rows, part] = here
+        temp[rows, part] = pvlib.temperature.sapm_cell(here, temp_air_lit, wind_lit, **params)
         diffuse_eff = sky_eff * svf[part]
         diffuse_eff += ground_eff
         here = beam_eff * lit
         here += diffuse_eff
-        eff[:, part] = here
-        sub_part = np.subtract(1.0, sub[:, part], out=sub[:, part])
-        sub_part *= beam_eff[:, :, None].astype(np.float32)
-        sub_part += diffuse_eff[:, :, None].astype(np.float32)
+        eff[rows, part] = here
+        # each substring's most shaded cell: (1 - worst) · beam + diffuse, in single
+        # precision, one substring at a time (a broadcast over the short last axis is slow)
+        sub_part = sub[rows, part]
+        np.subtract(np.float32(1.0), sub_part, out=sub_part)
+        beam32, diffuse32 = beam_eff.astype(np.float32), diffuse_eff.astype(np.float32)
+        for s in range(sub_part.shape[2]):
+            one = sub_part[:, :, s]
+            one *= beam32
+            one += diffuse32
+        if not every_row:
+            sub[rows, part] = sub_part
     # unshaded, once per plane
     plane_eff = parts["beam_eff"] + parts["sky_eff"]
     plane_eff += parts["ground_eff"]

@@ -303,3 +303,50 @@ def test_marion_diffuse_with_kept_grids_equals_pvlibs_bit_for_bit(model):
         ours = marion_diffuse(model, tilt)
         theirs = pvlib.iam.marion_diffuse(model, tilt)
         assert ours == {region: float(value) for region, value in theirs.items()}, tilt
+
+
+def test_only_lit_steps_are_worked_and_dark_steps_are_exact(clear):
+    # module_irradiance works only the steps where some plane has light; every other step
+    # must hold what the formulas of the module docstring give there: no irradiance (even with
+    # shade held at a sun-up step whose sky is dark) and the cells at the air temperature
+    # (pvlib's SAPM at zero irradiance). Checked against the formulas over every step, in
+    # the same order of operations, bit for bit.
+    import dataclasses
+
+    from layout.power.irradiance import plane_components
+
+    data = clear.data.copy()
+    up = np.flatnonzero(clear.solar_position["sun_up"].to_numpy())
+    dark_day = up[::97]  # sun up, but no light at all (a dark sky: snow on the sensor, say)
+    data.iloc[dark_day, [data.columns.get_loc(c) for c in ("ghi", "dni", "dhi")]] = 0.0
+    weather = dataclasses.replace(clear, data=data)
+    rng = np.random.default_rng(3)
+    steps = np.sort(np.r_[dark_day, rng.choice(np.setdiff1d(up, dark_day), 400,
+                                                replace=False)])
+    mean = rng.random((2, len(steps)))
+    worst = rng.random((2, 3, len(steps))).astype(np.float32)
+    svf = np.array([0.8, 0.95])
+    result = module_irradiance(weather, [25.0, 25.0], [170.0, 170.0],
+                               shade_rows=(steps, mean, worst), n_substrings=3, sky_view=svf)
+    plane = plane_components(weather, 25.0, 170.0)
+    assert (plane["beam"][dark_day] == 0).all() and (plane["sky"][dark_day] == 0).all()
+    f = np.zeros((len(data), 2))
+    f[steps] = mean.T
+    w = np.zeros((len(data), 2, 3), dtype=np.float32)
+    w[steps] = worst.transpose(2, 0, 1)
+    lit = 1.0 - f
+    poa = plane["beam"][:, None] * lit + plane["sky"][:, None] * svf + plane["ground"][:, None]
+    diffuse = plane["sky_eff"][:, None] * svf + plane["ground_eff"][:, None]
+    effective = plane["beam_eff"][:, None] * lit + diffuse
+    substring = (np.float32(1.0) - w) * plane["beam_eff"][:, None, None].astype(np.float32) \
+        + diffuse[:, :, None].astype(np.float32)
+    params = pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS["sapm"]["close_mount_glass_glass"]
+    temp = pvlib.temperature.sapm_cell(poa, data["temp_air"].to_numpy()[:, None],
+                                       data["wind_speed"].to_numpy()[:, None], **params)
+    np.testing.assert_array_equal(result.poa_global, poa)
+    np.testing.assert_array_equal(result.effective, effective)
+    np.testing.assert_array_equal(result.substring_effective, substring)
+    np.testing.assert_array_equal(result.temp_cell, temp)
+    assert (result.substring_effective[dark_day] == 0).all()
+    np.testing.assert_array_equal(result.temp_cell[dark_day, 0],
+                                  data["temp_air"].to_numpy()[dark_day])
