@@ -71,6 +71,7 @@ import pandas as pd
 import pvlib
 
 from ..errors import InputError, check_range
+from ..runtime import even_block, parallel_map
 from ..scene.modules import ModuleSpec
 from .irradiance import ModuleIrradiance
 
@@ -327,8 +328,9 @@ def dc_module_level(substring_irradiance, temp_cell, pdc0: float, *,
     lit = _lit_steps(g)
     # a block of modules at a time (every step is reduced within its module): the
     # temporaries stay a few (T, block) arrays on a roof of thousands of modules
-    block = max(1, _BLOCK_VALUES // max(1, len(lit)))
-    for lo in range(0, g.shape[1], block):
+    block = even_block(g.shape[1], _BLOCK_VALUES // max(1, len(lit)))
+
+    def block_power(lo: int) -> None:  # modules lo to lo + block, their columns only
         part = slice(lo, lo + block)
         temp_lit = temp[lit, part]
         lit_g = g[lit, part]
@@ -351,6 +353,8 @@ def dc_module_level(substring_irradiance, temp_cell, pdc0: float, *,
         best *= pdc0
         best *= factor
         out[lit, part] = best
+
+    parallel_map(block_power, range(0, g.shape[1], block))
     return out
 
 

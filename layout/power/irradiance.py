@@ -74,6 +74,7 @@ import pandas as pd
 import pvlib
 
 from ..errors import InputError, check_range
+from ..runtime import even_block, parallel_map
 from ..sky.weather import Weather
 from .diffuse_iam import marion_diffuse
 
@@ -684,8 +685,9 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
     sub = worst_f  # substrings, in place in the (T, M, S) buffer, which is ours
     if not every_row:
         sub[~lit_steps] = 0.0  # no light, however shaded
-    block = max(1, _BLOCK_VALUES // max(1, len(lit_rows)))
-    for lo in range(0, n_modules if len(lit_rows) else 0, block):
+    block = even_block(n_modules, _BLOCK_VALUES // max(1, len(lit_rows)))
+
+    def shade_block(lo: int) -> None:  # modules lo to lo + block, their columns only
         part = slice(lo, lo + block)
         g = group[part]
         beam_eff = here_parts["beam_eff"][:, g]
@@ -713,6 +715,8 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
             one += diffuse32
         if not every_row:
             sub[rows, part] = sub_part
+
+    parallel_map(shade_block, range(0, n_modules if len(lit_rows) else 0, block))
     # unshaded, once per plane
     plane_eff = parts["beam_eff"] + parts["sky_eff"]
     plane_eff += parts["ground_eff"]

@@ -12,6 +12,7 @@ from collections import OrderedDict
 import numpy as np
 
 from ..errors import InputError, check_positive
+from ..runtime import parallel_map
 from .combine import _check_month, _combine_shaded, _combine_transmitted, _prepare_hits
 from .groups import _check_labels, _group_shade_rows, _needs_step_order
 from .hits import DEFAULT_MAX_PAIRS, Facing, ShadeHits, _obstruction_hits
@@ -23,6 +24,10 @@ __all__ = ["KEEP_DROPPED", "ShadeCache"]
 
 #: Obstructions whose hits a cache keeps after they leave its list (a moved one's old place).
 KEEP_DROPPED = 8
+
+#: Rays (points × sun steps) from which several new obstructions are ray-tested on threads
+#: (:func:`layout.runtime.parallel_map`); below it the interpreter's lock makes threads slower.
+THREADED_RAYS = 1 << 24
 
 
 class ShadeCache:
@@ -86,7 +91,7 @@ class ShadeCache:
         """Set the obstruction list; return how many obstructions had to be ray-tested."""
         obstructions = tuple(obstructions)
         new: dict = {}
-        computed = 0
+        untested = []
         for ob in obstructions:
             if ob in new:
                 continue
@@ -95,11 +100,12 @@ class ShadeCache:
             elif ob in self._dropped:
                 new[ob] = self._dropped.pop(ob)
             else:
-                new[ob] = _obstruction_hits(self.points, self.sun, ob, self.ray_start,
-                                            self.max_pairs, True, self._order, self.facing,
-                                            self._groups).compact(len(self.sun),
-                                                                  sort=self._sorted)
-                computed += 1
+                new[ob] = None
+                untested.append(ob)
+        threads = None if len(self.points) * len(self.sun) >= THREADED_RAYS else 1
+        tested = parallel_map(self._test, untested, threads=threads)
+        new.update(zip(untested, tested, strict=True))
+        computed = len(untested)
         for ob, hits in self._hits.items():
             if ob not in new:
                 self._dropped[ob] = hits
@@ -109,6 +115,12 @@ class ShadeCache:
         self._prepared = {ob: self._prepared[ob] for ob in new if ob in self._prepared}
         self.obstructions = obstructions
         return computed
+
+    def _test(self, obstruction) -> ShadeHits:
+        """Ray-test one obstruction from every point at every step; its compact hits."""
+        return _obstruction_hits(self.points, self.sun, obstruction, self.ray_start,
+                                 self.max_pairs, True, self._order, self.facing,
+                                 self._groups).compact(len(self.sun), sort=self._sorted)
 
     def hits(self, obstruction) -> ShadeHits:
         """Return the cached hits of one obstruction in the current list (compact form)."""

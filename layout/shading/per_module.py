@@ -21,7 +21,8 @@ from functools import cached_property
 import numpy as np
 
 from ..errors import InputError, check_positive
-from .cache import ShadeCache
+from ..runtime import parallel_map
+from .cache import THREADED_RAYS, ShadeCache
 from .combine import _check_month, _prepare_hits
 from .groups import _group_shade_rows
 from .hits import DEFAULT_MAX_PAIRS, Facing, _obstruction_hits
@@ -361,10 +362,13 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
             pts = samples.points[sel]
             sub_facing = facing.subset(np.arange(len(samples.points))[sel])
             groups = _point_groups(pts)
-            prepared = [_prepare_hits(ob, _obstruction_hits(pts, sun_v, ob, start,
-                                                            int(max_pairs), True, order,
-                                                            sub_facing, groups), m)
-                        for ob in casters]
+
+            def prepared_hits(ob, pts=pts, sub_facing=sub_facing, groups=groups):
+                return _prepare_hits(ob, _obstruction_hits(pts, sun_v, ob, start,
+                                                           int(max_pairs), True, order,
+                                                           sub_facing, groups), m)
+            threads = None if len(pts) * len(sun_v) >= THREADED_RAYS else 1
+            prepared = parallel_map(prepared_hits, casters, threads=threads)
             labels = samples.cell_group[sel] - m0 * n_cells
             _group_shade_rows(len(sun_v), len(pts), prepared, labels, (m1 - m0) * n_cells,
                               rows=steps, reduce=sums.at(m0))

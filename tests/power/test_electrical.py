@@ -25,6 +25,7 @@ from layout.power.electrical import (
     dc_strings,
 )
 from layout.power.irradiance import module_irradiance
+from layout.runtime import THREADS_VARIABLE
 from layout.scene.building import gable_roof
 from layout.scene.modules import generic_60_cell
 from layout.scene.site import Site
@@ -81,13 +82,15 @@ P_IV_STC = _iv_power([_iv_module((), 1000.0)])  # the reference module's own STC
 
 
 # --------------------------------------------------------------------------- tests
+@pytest.mark.parametrize("threads", ["1", "2"])
 @pytest.mark.parametrize("block", [1 << 21, 80])
-def test_module_level_is_the_best_of_the_bypassed_substring_sets(block, monkeypatch):
+def test_module_level_is_the_best_of_the_bypassed_substring_sets(block, threads, monkeypatch):
     # max over k of (k / S) * pvwatts_dc(G_(k), T) with G_(k) the k-th brightest substring,
     # written out with a sort (the module docstring's rule), on random irradiance with ties,
     # dark steps and S = 1 to 4 substrings; worked all at once and two modules at a time
-    # (a step dark on the first block only is not dark)
+    # (a step dark on the first block only is not dark), the blocks on one thread or two
     monkeypatch.setattr(electrical, "_BLOCK_VALUES", block)
+    monkeypatch.setenv(THREADS_VARIABLE, threads)
     rng = np.random.default_rng(5)
     for s in (1, 2, 3, 4):
         g = np.round(rng.uniform(-5, 1000, (40, 6, s)), -2)  # rounding makes ties

@@ -19,6 +19,7 @@ from layout.power.irradiance import (
     plane_of_array,
     substring_shade,
 )
+from layout.runtime import THREADS_VARIABLE
 from layout.scene.site import Site
 from layout.sky.weather import Weather, clear_sky, read_weather_file
 
@@ -225,9 +226,11 @@ def test_shade_held_at_some_steps_equals_the_dense_array(clear):
                           shade_rows=(steps[:-1], by_cell))
 
 
-def test_modules_worked_a_block_at_a_time_give_the_same_figures(clear, monkeypatch):
+@pytest.mark.parametrize("threads", ["1", "2"])
+def test_modules_worked_a_block_at_a_time_give_the_same_figures(clear, threads, monkeypatch):
     # every figure is the module's own: one module a block equals all modules at once, bit
-    # for bit, on planes in any order, with shade and sky-view ratios of their own
+    # for bit, on planes in any order, with shade and sky-view ratios of their own, the
+    # blocks worked on one thread or two
     from layout.power import irradiance
 
     rng = np.random.default_rng(11)
@@ -236,6 +239,7 @@ def test_modules_worked_a_block_at_a_time_give_the_same_figures(clear, monkeypat
     kwargs = {"beam_shaded": shade, "sky_view": rng.uniform(0.7, 1.0, 5)}
     whole = module_irradiance(clear, tilt, azimuth, **kwargs)
     monkeypatch.setattr(irradiance, "_BLOCK_VALUES", len(clear.data))
+    monkeypatch.setenv(THREADS_VARIABLE, threads)
     one_by_one = module_irradiance(clear, tilt, azimuth, **kwargs)
     for field in ("poa_global", "poa_global_unshaded", "effective", "effective_unshaded",
                   "substring_effective", "temp_cell", "temp_cell_unshaded"):
