@@ -86,23 +86,37 @@ def module_samples(modules, spec, *, samples_per_cell: int = 1) -> ModuleSamples
         Points and labels.
     """
     modules = tuple(modules)
-    pts, mod, cell, sub, normal = [], [], [], [], []
     for k, m in enumerate(modules):
         if not hasattr(m, "cell_points"):
             raise InputError(f"modules[{k}]", "is not a placed module", value=type(m).__name__,
                              allowed="layout.fill.placed.PlacedModule")
-        p, c, s = m.cell_points(spec, samples_per_cell)
-        pts.append(p)
-        cell.append(c)
-        sub.append(s)
-        mod.append(np.full(len(p), k))
-        normal.append(np.broadcast_to(np.asarray(m.normal, dtype=float), (len(p), 3)))
     if not modules:
         raise InputError("modules", "is empty", allowed="one or more placed modules")
-    return ModuleSamples(tuple(m.id for m in modules), np.vstack(pts),
-                         np.concatenate(mod).astype(np.intp), np.concatenate(cell).astype(np.intp),
-                         np.concatenate(sub).astype(np.intp), int(spec.cell_count),
-                         int(spec.bypass_diodes), np.vstack(normal))
+    # every module at once, as PlacedModule.cell_points places one (the same sums, in the
+    # same order): corner 0 + a / length · length axis + b / width · width axis
+    corners = np.array([m.corners_3d for m in modules], dtype=float)  # (M, 4, 3)
+    along = corners[:, 1] - corners[:, 0]  # lower edge, left to right
+    up = corners[:, 3] - corners[:, 0]  # left edge, bottom to top
+    portrait = np.array([m.orientation == "portrait" for m in modules])[:, None]
+    length_axis = np.where(portrait, up, along)
+    width_axis = np.where(portrait, along, up)
+    for axis, expected in ((length_axis, spec.length_m), (width_axis, spec.width_m)):
+        wrong = np.flatnonzero(np.abs(np.linalg.norm(axis, axis=1) - expected) > 1e-3)
+        if len(wrong):
+            modules[wrong[0]].cell_points(spec, samples_per_cell)  # raises, naming the field
+    ab, cell = spec.cell_sample_points(samples_per_cell)
+    fa = ab[:, 0] / spec.length_m
+    fb = ab[:, 1] / spec.width_m
+    points = corners[:, None, 0] + fa[None, :, None] * length_axis[:, None, :] \
+        + fb[None, :, None] * width_axis[:, None, :]  # (M, n, 3)
+    n_mod, per = len(modules), len(cell)
+    normals = np.array([m.normal for m in modules], dtype=float)
+    return ModuleSamples(tuple(m.id for m in modules), points.reshape(-1, 3),
+                         np.repeat(np.arange(n_mod, dtype=np.intp), per),
+                         np.tile(cell.astype(np.intp), n_mod),
+                         np.tile(np.asarray(spec.substring_of_cell(cell), dtype=np.intp), n_mod),
+                         int(spec.cell_count), int(spec.bypass_diodes),
+                         np.repeat(normals, per, axis=0))
 
 
 @dataclass(frozen=True, eq=False)
