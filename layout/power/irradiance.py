@@ -334,13 +334,13 @@ def _substring_labels(cell_substring, n_substrings, k: int):
 
 
 def _row_shade(shade_rows, n_steps: int, n_modules: int, cell_substring, n_substrings):
-    """Reduce shaded fractions held at some steps only to module mean and substring worst.
+    """Check shaded fractions held at some steps only, reduced to module mean and substring worst.
 
     ``shade_rows`` is ``(steps, by_cell)``: increasing step indices (R,) and cell-major
     fractions (M, K, R); or ``(steps, mean_rows, worst_rows)``: the same already reduced to
     the module mean (M, R) and each substring's most shaded cell (M, S, R) (as
-    :class:`layout.shading.ModuleShade` holds them). Returns the dense mean (T, M) and worst
-    (T, M, S) float32.
+    :class:`layout.shading.ModuleShade` holds them). Returns ``(steps, mean_rows,
+    worst_rows)``, the latter float32, still held at the given steps only.
     """
     try:
         steps, *held = shade_rows
@@ -375,22 +375,16 @@ def _row_shade(shade_rows, n_steps: int, n_modules: int, cell_substring, n_subst
         if worst_rows.shape[1] != s:
             raise InputError("shade_rows", "holds another number of substrings",
                              value=worst_rows.shape[1], allowed=str(s))
-        mean = np.zeros((n_steps, n_modules))
-        worst = np.zeros((n_steps, n_modules, s), dtype=np.float32)
-        if not len(steps) or not worst_rows.size:
-            return mean, worst
-        if not (np.isfinite(first).all() and first.min() >= 0 and first.max() <= 1
+        if len(steps) and worst_rows.size and not (
+                np.isfinite(first).all() and first.min() >= 0 and first.max() <= 1
                 and worst_rows.min() >= 0 and worst_rows.max() <= 1):
             raise InputError("shade_rows", "must hold fractions from 0 to 1", allowed="0 to 1")
-        mean[steps] = first.T
-        worst[steps] = worst_rows.transpose(2, 0, 1)
-        return mean, worst
+        return steps, first, worst_rows.astype(np.float32, copy=False)
     by_cell = first
     labels, s, _ = _substring_labels(cell_substring, n_substrings, by_cell.shape[1])
-    mean = np.zeros((n_steps, n_modules))
-    worst = np.zeros((n_steps, n_modules, s), dtype=np.float32)
+    worst_rows = np.zeros((n_modules, s, len(steps)), dtype=np.float32)
     if not len(steps) or not by_cell.size:
-        return mean, worst
+        return steps, np.zeros((n_modules, len(steps))), worst_rows
     if by_cell.dtype != np.float32:
         by_cell = by_cell.astype(float)
     # reductions over the cell axis combine whole contiguous (module, step) rows
@@ -400,11 +394,10 @@ def _row_shade(shade_rows, n_steps: int, n_modules: int, cell_substring, n_subst
         highest = by_cell[:, cells[0], :].copy()
         for c in cells[1:]:
             np.maximum(highest, by_cell[:, c, :], out=highest)
-        worst[steps, :, substring] = highest.T
-    if not (np.isfinite(mean_rows).all() and worst.max() <= 1 and by_cell.min() >= 0):
+        worst_rows[:, substring] = highest
+    if not (np.isfinite(mean_rows).all() and worst_rows.max() <= 1 and by_cell.min() >= 0):
         raise InputError("shade_rows", "must hold fractions from 0 to 1", allowed="0 to 1")
-    mean[steps] = mean_rows.T
-    return mean, worst
+    return steps, mean_rows, worst_rows
 
 
 def substring_shade(beam_shaded, *, cell_substring=None, n_substrings: int | None = None,
@@ -625,13 +618,16 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
     if beam_shaded is not None and shade_rows is not None:
         raise InputError("shade_rows", "cannot be given together with beam_shaded",
                          allowed="one of beam_shaded and shade_rows")
+    # the shade as (steps, module mean (M, R), each substring's worst cell (M, S, R)) at the
+    # steps R that have some
     if shade_rows is not None:
-        mean_f, worst_f = _row_shade(shade_rows, n_steps, n_modules, cell_substring,
-                                     n_substrings)
+        steps, mean_rows, worst_rows = _row_shade(shade_rows, n_steps, n_modules,
+                                                  cell_substring, n_substrings)
     elif beam_shaded is None:
         s = 3 if n_substrings is None else int(n_substrings)
-        mean_f = np.zeros((n_steps, n_modules))
-        worst_f = np.zeros((n_steps, n_modules, s), dtype=np.float32)
+        steps = np.zeros(0, dtype=np.intp)
+        mean_rows = np.zeros((n_modules, 0))
+        worst_rows = np.zeros((n_modules, s, 0), dtype=np.float32)
     else:
         f = np.asarray(beam_shaded)
         if f.ndim != 3 or f.shape[1] != n_modules:
@@ -639,8 +635,9 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
                              value=f.shape, allowed=f"(T, {n_modules}, K)")
         mean_f, worst_f = substring_shade(f, cell_substring=cell_substring,
                                           n_substrings=n_substrings)
-        mean_f = _expand_steps(mean_f, weather, "beam_shaded")
-        worst_f = _expand_steps(worst_f, weather, "beam_shaded")
+        steps = np.arange(n_steps)
+        mean_rows = _expand_steps(mean_f, weather, "beam_shaded").T
+        worst_rows = _expand_steps(worst_f, weather, "beam_shaded").transpose(1, 2, 0)
     if sky_view is None:
         svf = np.ones(n_modules)
     else:
@@ -682,18 +679,34 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
     temp_air_lit, wind_lit = temp_air[rows], wind[rows]
     poa, eff = np.zeros((n_steps, n_modules)), np.zeros((n_steps, n_modules))
     temp = np.repeat(temp_air, n_modules, axis=1)
-    sub = worst_f  # substrings, in place in the (T, M, S) buffer, which is ours
-    if not every_row:
-        sub[~lit_steps] = 0.0  # no light, however shaded
+    n_sub = worst_rows.shape[1]
+    sub = np.zeros((n_steps, n_modules, n_sub), dtype=np.float32)  # zero where no light
+    # where each step with shade falls among the lit rows (a step without light drops out:
+    # no light, however shaded)
+    position = np.full(n_steps, -1)
+    position[lit_rows] = np.arange(len(lit_rows))
+    at = position[steps]
+    kept = None if (at >= 0).all() else at >= 0
+    at = at if kept is None else at[kept]
     block = even_block(n_modules, _BLOCK_VALUES // max(1, len(lit_rows)))
 
     def shade_block(lo: int) -> None:  # modules lo to lo + block, their columns only
         part = slice(lo, lo + block)
         g = group[part]
+        width = len(g)
+        # the block's shade on the lit rows, zero where it has none
+        mean_here = np.zeros((len(lit_rows), width))
+        sub_part = np.zeros((len(lit_rows), width, n_sub), dtype=np.float32)
+        if len(at):
+            mean_held, worst_held = mean_rows[part], worst_rows[part]
+            if kept is not None:
+                mean_held, worst_held = mean_held[:, kept], worst_held[:, :, kept]
+            mean_here[at] = mean_held.T
+            sub_part[at] = worst_held.transpose(2, 0, 1)
         beam_eff = here_parts["beam_eff"][:, g]
         sky_eff = here_parts["sky_eff"][:, g]
         ground_eff = here_parts["ground_eff"][:, g]
-        lit = 1.0 - mean_f[rows, part]
+        lit = 1.0 - mean_here
         here = here_parts["beam"][:, g] * lit
         here += here_parts["sky"][:, g] * svf[part]
         here += here_parts["ground"][:, g]
@@ -706,15 +719,13 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
         eff[rows, part] = here
         # each substring's most shaded cell: (1 - worst) · beam + diffuse, in single
         # precision, one substring at a time (a broadcast over the short last axis is slow)
-        sub_part = sub[rows, part]
         np.subtract(np.float32(1.0), sub_part, out=sub_part)
         beam32, diffuse32 = beam_eff.astype(np.float32), diffuse_eff.astype(np.float32)
-        for s in range(sub_part.shape[2]):
+        for s in range(n_sub):
             one = sub_part[:, :, s]
             one *= beam32
             one += diffuse32
-        if not every_row:
-            sub[rows, part] = sub_part
+        sub[rows, part] = sub_part
 
     parallel_map(shade_block, range(0, n_modules if len(lit_rows) else 0, block))
     # unshaded, once per plane
