@@ -142,6 +142,11 @@ def energy_kwh(power_w, step_minutes: float, *, axis: int = 0) -> np.ndarray:
     """
     step = check_range("step_minutes", step_minutes, 0, 1440, low_open=True)
     power = np.asarray(power_w, dtype=float)
+    # a plain sum, the very sum nansum takes where nothing is missing (nansum copies the
+    # array first); nansum only where some step is missing (NaN counts as no power)
+    total = np.sum(power, axis=axis)
+    if not np.isnan(total).any():
+        return total * step / 60.0 / 1000.0
     if power.ndim == 2 and axis in (0, -2) and power.size > _SUM_BLOCK:
         # column by column block (each column's sum is the same), so that nansum's copy
         # without NaN is one block, not the whole (T, M) array

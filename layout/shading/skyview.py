@@ -174,14 +174,17 @@ def sky_view_factor(points, normal, obstructions, *, n_directions: int = DEFAULT
     return (len(open_) - blocked.sum(axis=0)) / len(dirs)
 
 
-def _module_grid_points(module, grid: int) -> np.ndarray:
-    """``grid × grid`` points at the centres of equal parts of a module's quadrilateral."""
-    c = np.asarray(module.corners_3d)
+def _module_grid_points(modules, grid: int) -> np.ndarray:
+    """``grid × grid`` points at the centres of equal parts of each module's quadrilateral.
+
+    Returns an array (len(modules) · grid², 3), module by module.
+    """
+    c = np.array([m.corners_3d for m in modules], dtype=float)[:, None]  # (M, 1, 4, 3)
     f = (np.arange(grid) + 0.5) / grid
     a, b = np.meshgrid(f, f, indexing="ij")
     a, b = a.ravel()[:, None], b.ravel()[:, None]
-    return ((1 - a) * (1 - b) * c[0] + a * (1 - b) * c[1] + a * b * c[2]
-            + (1 - a) * b * c[3])
+    return ((1 - a) * (1 - b) * c[..., 0, :] + a * (1 - b) * c[..., 1, :]
+            + a * b * c[..., 2, :] + (1 - a) * b * c[..., 3, :]).reshape(-1, 3)
 
 
 def module_sky_view(modules, obstructions, *, grid: int = 3, include_modules: bool = True,
@@ -256,7 +259,7 @@ class SkyViewCache:
                             []).append(k)
         self._groups = []
         for index in keys.values():
-            pts = np.vstack([_module_grid_points(modules[k], self.grid) for k in index])
+            pts = _module_grid_points([modules[k] for k in index], self.grid)
             normal = np.asarray(modules[index[0]].normal, dtype=float)
             dirs = hemisphere_directions(normal, n_directions)
             self._groups.append((np.array(index), _check_points(pts), dirs, normal))

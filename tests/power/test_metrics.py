@@ -22,3 +22,19 @@ def test_energy_summed_a_block_of_columns_at_a_time_equals_nansum(order, monkeyp
     np.testing.assert_array_equal(energy_kwh(power, 60), expected)
     np.testing.assert_array_equal(energy_kwh(power[:, :3], 60), expected[:3])
     np.testing.assert_array_equal(energy_kwh(power.T, 60, axis=1), expected)
+
+
+@pytest.mark.parametrize("order", ["C", "F"])
+def test_energy_without_missing_steps_is_numpys_nansum_bit_for_bit(order):
+    # without NaN a plain sum is taken (nansum copies the array first): the same sums as
+    # numpy's nansum, bit for bit, in either memory order and along either axis; one NaN in
+    # one column falls back to nansum for all
+    rng = np.random.default_rng(4)
+    power = np.asarray(rng.uniform(0, 400, (700, 23)), order=order)
+    expected = np.nansum(power, axis=0) * 15 / 60.0 / 1000.0
+    np.testing.assert_array_equal(energy_kwh(power, 15), expected)
+    np.testing.assert_array_equal(energy_kwh(power.T, 15, axis=1), expected)
+    power[5, 7] = np.nan
+    expected = np.nansum(power, axis=0) * 15 / 60.0 / 1000.0
+    assert np.isfinite(expected).all()
+    np.testing.assert_array_equal(energy_kwh(power, 15), expected)
