@@ -62,6 +62,7 @@ import pandas as pd
 
 from ..errors import InputError
 from ..project import FILE_SUFFIX, load_project
+from ..runtime import THREADS_VARIABLE
 
 try:  # the cache below is a Dask worker plugin when Dask is there; serial runs need no Dask
     from distributed import WorkerPlugin as _PluginBase
@@ -499,7 +500,9 @@ def _local_cluster(workers: int | None):
     which switches off glibc's adaptive mmap threshold: every large numpy temporary of the
     shading and irradiance stages is then mapped and unmapped afresh. Measured here it cost
     about 25× the page faults, 3× the system time and 1.5× the time per project, so it is
-    left unset for these workers (and out of the environment while they spawn).
+    left unset for these workers (and out of the environment while they spawn). The workers
+    already fill the cores, one project each, so each computes on one thread
+    (``EAVELINE_THREADS=1``, :func:`layout.runtime.parallel_map`) unless the user set it.
     """
     import dask
     from distributed import LocalCluster
@@ -507,8 +510,11 @@ def _local_cluster(workers: int | None):
     count = workers or os.cpu_count() or 1
     held = os.environ.pop("MALLOC_TRIM_THRESHOLD_", None)
     try:
+        threads = os.environ.get(THREADS_VARIABLE, "1")
         with dask.config.set({"distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_":
-                              None}):
+                              None,
+                              f"distributed.nanny.pre-spawn-environ.{THREADS_VARIABLE}":
+                              threads}):
             return LocalCluster(n_workers=count, threads_per_worker=1, processes=True,
                                 host="127.0.0.1", dashboard_address=None)
     finally:

@@ -310,6 +310,9 @@ def test_local_cluster_of_two_workers_gives_the_serial_result(portfolio, cluster
     addresses = [local.scheduler_address, *client.nthreads()]
     assert len(addresses) == 3
     assert all(a.startswith("tcp://127.0.0.1:") for a in addresses)  # loopback only
+    # one project a worker fills the cores: each computes on one thread (layout.runtime)
+    threads = client.run(lambda: __import__("layout.runtime").runtime.worker_threads())
+    assert set(threads.values()) == {1}
     run = run_portfolio(root / "in", tmp_path / "out", scheduler=client, module_tables=True,
                         chunk_size=2, progress=True)
     assert len(run.computed) == N_PROJECTS and run.failed == ()
