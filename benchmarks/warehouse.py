@@ -8,9 +8,11 @@ design on about a tenth of the area, with 3.
 
 Each case runs in a child process (``--child``) that builds the project, times
 ``Analysis(project)`` (fill, sun, shading of every cell with every module a caster, sky view,
-irradiance, power, tables) and reports its peak resident memory (VmHWM). The parent prints
-both, the 500 → 5,000 cost ratio beside the module ratio, and the targets (5,000 modules:
-<= 30 s, <= 4 GB; cost growing no faster than the module count). The load average is printed
+irradiance, power, tables; large array work on :func:`layout.runtime.worker_threads` threads,
+``EAVELINE_THREADS=1`` for one) and reports its wall and CPU time and its peak resident memory
+(VmHWM). The parent prints both, the 500 → 5,000 cost ratio (CPU time) beside the module
+ratio, and the targets (500 modules: <= 3 s; 5,000 modules: <= 30 s, <= 4 GB; cost growing
+no faster than the module count). The load average is printed
 beside the figures: the machine may be shared.
 
 Run: ``.venv/bin/python benchmarks/warehouse.py [--only 500|5000]``.
@@ -32,7 +34,7 @@ from layout.fill.faces import FillOptions
 from layout.fill.rules import no_setbacks
 from layout.power.electrical import ElectricalOptions
 from layout.power.energy import EnergyOptions
-from layout.runtime import quiet_hugepages
+from layout.runtime import quiet_hugepages, worker_threads
 from layout.scene.building import flat_roof
 
 SITE = Site(40.0, -105.0, "America/Denver", altitude_m=1600.0, name="warehouse site")
@@ -84,6 +86,7 @@ def child(modules: int) -> None:
     print(json.dumps({
         "modules": len(analysis.result.modules), "obstructions": len(project.obstructions),
         "seconds": round(seconds, 2), "cpu_seconds": round(cpu, 2),
+        "threads": worker_threads(),
         "peak_rss_mb": round(peak_rss_mb(), 1),
         "stages": {k: round(v, 2) for k, v in analysis.timings.items()},
         "energy_kwh": round(float(analysis.result.totals["energy_kwh"]), 1),
@@ -106,7 +109,8 @@ def main() -> None:
                              capture_output=True, text=True, check=True)
         found[modules] = data = json.loads(out.stdout.strip().splitlines()[-1])
         print(f"warehouse, {data['modules']} modules, {data['obstructions']} rooftop units: "
-              f"whole evaluation {data['seconds']} s (CPU {data['cpu_seconds']} s), "
+              f"whole evaluation {data['seconds']} s (CPU {data['cpu_seconds']} s on "
+              f"{data['threads']} threads), "
               f"peak RSS {data['peak_rss_mb']:.0f} MB "
               f"(load {load:.1f}); stages {data['stages']}")
     if len(found) == 2:
@@ -114,10 +118,13 @@ def main() -> None:
         cost = big["seconds"] / small["seconds"]
         cpu = big["cpu_seconds"] / small["cpu_seconds"]
         size = big["modules"] / small["modules"]
-        growth = ("no faster than the module count" if cost <= size * 1.05
+        # the cost is the work done, CPU time: wall time also gains from threads, which
+        # the larger roof keeps busier
+        growth = ("no faster than the module count" if cpu <= size * 1.05
                   else "FASTER than the module count: MISSED")
-        print(f"500 -> 5,000: modules x{size:.1f}, time x{cost:.1f}, CPU time x{cpu:.1f} "
-              f"({growth}); "
+        print(f"500 -> 5,000: modules x{size:.1f}, CPU time x{cpu:.1f} ({growth}), "
+              f"wall time x{cost:.1f}; 500-module target: {small['seconds']} s (<= 3 s: "
+              f"{'met' if small['seconds'] <= 3 else 'MISSED'}); "
               f"5,000-module targets: {big['seconds']} s (<= 30 s: "
               f"{'met' if big['seconds'] <= 30 else 'MISSED'}), {big['peak_rss_mb']:.0f} MB "
               f"(<= 4096 MB: {'met' if big['peak_rss_mb'] <= 4096 else 'MISSED'})")
