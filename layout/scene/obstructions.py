@@ -574,6 +574,84 @@ class Plate:
         set_(self, "name", _check_text("name", self.name))
 
     @classmethod
+    def many(cls, corners, *, kind: str = "roof", names) -> tuple[Plate, ...]:
+        """Build many plates of as many corners each at once, each as ``Plate(...)`` would.
+
+        The checks of the constructor run on all plates together (a plate that fails one is
+        built on its own, which raises the constructor's own error); what a plate keeps
+        (its corners and its :attr:`frame`) is computed plate by plate by the constructor's
+        own operations, so every plate equals, and casts exactly as, ``Plate(corners[k],
+        kind=kind, name=names[k])``. About five times quicker for the modules of a large
+        roof.
+
+        Parameters
+        ----------
+        corners : array_like, shape (P, n, 3)
+            Corners of each plate, as for the constructor, not closed.
+        kind : str, keyword-only
+            One of :data:`PLATE_KINDS`, for every plate.
+        names : sequence of str, keyword-only
+            One name per plate.
+        """
+        corners, names = list(corners), list(names)
+        if len(names) != len(corners):
+            raise InputError("names", "needs one name per plate", value=len(names),
+                             allowed=str(len(corners)))
+        try:
+            pts = np.asarray(corners, dtype=float)
+        except (TypeError, ValueError):  # plates of different corner counts
+            pts = np.zeros((0, 0))
+        if pts.ndim != 3 or pts.shape[2] != 3 or pts.shape[1] < 3 \
+                or not np.isfinite(pts).all() or kind not in PLATE_KINDS:
+            return tuple(cls(c, kind=kind, name=n) for c, n in zip(corners, names, strict=True))
+        n = pts.shape[1]
+        rounded = np.round(pts, 9)
+        # plates the constructor would treat otherwise (closed rings) or reject (repeated
+        # corners, no area, off their plane, crossing edges) go through it one by one
+        odd = (np.abs(pts[:, 0] - pts[:, -1]).max(axis=1) <= 1e-9) if n > 3 \
+            else np.zeros(len(pts), dtype=bool)
+        for i in range(n):
+            for j in range(i + 1, n):
+                odd |= (rounded[:, i] == rounded[:, j]).all(axis=1)
+        origin = pts.mean(axis=1)
+        rel = pts - origin[:, None]
+        nxt = np.roll(rel, -1, axis=1)
+        newell = np.stack([((rel[..., a] - nxt[..., a]) * (rel[..., b] + nxt[..., b])).sum(axis=1)
+                           for a, b in ((1, 2), (2, 0), (0, 1))], axis=1)
+        area = 0.5 * np.linalg.norm(newell, axis=1)
+        odd |= area < 1e-6 * (1 + 1e-9)  # the constructor decides the borderline ones
+        with np.errstate(invalid="ignore", divide="ignore"):
+            unit = newell / (2 * area)[:, None]
+        deviation = np.abs(np.einsum("pnk,pk->pn", rel, unit)).max(axis=1)
+        odd |= ~(deviation <= 0.5 * PLANE_TOLERANCE_M * (1 - 1e-9))
+        out: list = [None] * len(pts)
+        kept, made, outlines = [], [], []
+        for k in np.flatnonzero(~odd):
+            plate = object.__new__(cls)
+            one = pts[k]
+            mean = one.mean(axis=0)
+            frame = _plate_frame(one, mean, _newell_normal(one - mean))
+            object.__setattr__(plate, "corners", tuple(map(tuple, one.tolist())))
+            object.__setattr__(plate, "kind", kind)
+            object.__setattr__(plate, "name", _check_text("name", names[k]))
+            plate.__dict__["frame"] = frame
+            kept.append(k)
+            made.append(plate)
+            _, e1, e2, _ = frame  # the outline as plane_polygon makes it
+            outlines.append(np.column_stack([(one - mean) @ e1, (one - mean) @ e2]))
+        polygons = shapely.polygons(np.array(outlines)) if outlines else np.zeros(0, object)
+        valid = shapely.is_valid(polygons)
+        for k, plate, polygon, ok in zip(kept, made, polygons, valid, strict=True):
+            if ok:
+                plate.__dict__["plane_polygon"] = polygon
+                out[k] = plate
+            else:
+                out[k] = cls(corners[k], kind=kind, name=names[k])
+        for k in np.flatnonzero(odd):
+            out[k] = cls(corners[k], kind=kind, name=names[k])
+        return tuple(out)
+
+    @classmethod
     def from_face(cls, face, *, name: str | None = None) -> Plate:
         """Build the plate of a roof face (:class:`layout.scene.roof.RoofFace`), named after it."""
         return cls(np.asarray(face.corners_3d), kind="roof",

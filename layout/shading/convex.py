@@ -31,3 +31,30 @@ def _convex_parts(polygon: shapely.Polygon) -> tuple[np.ndarray, np.ndarray]:
     normal = np.stack([edge[..., 1] * sign, -edge[..., 0] * sign], axis=-1)
     offset = np.sum(normal * ring, axis=-1)
     return normal, offset
+
+
+def _convex_parts_many(polygons) -> tuple[np.ndarray, np.ndarray] | None:
+    """:func:`_convex_parts` of many convex polygons of as many corners each, at once.
+
+    Returns the edge normals (P, K, 2) and offsets (P, K) of the polygons, each its own one
+    part, the same values bit for bit as :func:`_convex_parts` gives one by one (the same
+    operations on rows of the same length); None when some polygon is concave or the corner
+    counts differ (then take them one by one).
+    """
+    polygons = np.asarray(polygons, dtype=object)
+    if not len(polygons) or not (shapely.area(polygons) >= shapely.area(
+            shapely.convex_hull(polygons)) * (1 - 1e-12)).all():
+        return None
+    counts = shapely.get_num_coordinates(shapely.get_exterior_ring(polygons))
+    if (counts != counts[0]).any():
+        return None
+    ring = shapely.get_coordinates(shapely.get_exterior_ring(polygons)).reshape(
+        len(polygons), counts[0], 2)[:, :-1]
+    ring = np.ascontiguousarray(ring)
+    nxt = np.roll(ring, -1, axis=1)
+    edge = nxt - ring
+    area2 = np.sum(ring[..., 0] * nxt[..., 1] - nxt[..., 0] * ring[..., 1], axis=1)
+    sign = np.where(area2 > 0, 1.0, -1.0)[:, None]
+    normal = np.stack([edge[..., 1] * sign, -edge[..., 0] * sign], axis=-1)
+    offset = np.sum(normal * ring, axis=-1)
+    return normal, offset

@@ -26,6 +26,7 @@ import shapely
 
 from ..errors import InputError
 from ..scene.obstructions import PLANE_TOLERANCE_M, Plate
+from .convex import _convex_parts_many
 from .plates import _INSIDE_SLACK, _dot3, _hit_plate, _plate_geometry
 
 __all__ = ["PlateSet", "module_casters"]
@@ -90,20 +91,24 @@ class PlateSet:
 @functools.lru_cache(maxsize=256)
 def _stacked(plate_set: PlateSet):
     """Each plate's kernel terms stacked (P, ...), or None when the plates cannot be a set."""
-    geometry = [_plate_geometry(p) for p in plate_set.plates]
-    shapes = {g[4].shape for g in geometry}
-    if len(shapes) != 1 or next(iter(shapes))[0] != 1:  # one convex part each, one shape
-        return None
-    origin, _, _, normal = plate_set.plates[0].frame
-    corners = np.vstack([np.asarray(p.corners) for p in plate_set.plates])
+    plates = plate_set.plates
+    # the convex parts of all plates at once (the modules of a row: convex, one shape), the
+    # very values _plate_geometry gives plate by plate
+    parts = _convex_parts_many([p.plane_polygon for p in plates])
+    if parts is None:
+        geometry = [_plate_geometry(p) for p in plates]
+        shapes = {g[4].shape for g in geometry}
+        if len(shapes) != 1 or next(iter(shapes))[0] != 1:  # one convex part each, one shape
+            return None
+        parts = (np.array([g[4][0] for g in geometry]), np.array([g[5][0] for g in geometry]))
+    origin, _, _, normal = plates[0].frame
+    corners = np.vstack([np.asarray(p.corners) for p in plates])
     if np.abs((corners - origin) @ normal).max() > _COPLANAR_M:
         return None
-    origins = np.array([g[0] for g in geometry])
-    e1 = np.array([g[1] for g in geometry])
-    e2 = np.array([g[2] for g in geometry])
-    normals = np.array([g[3] for g in geometry])
-    part_normal = np.array([g[4][0] for g in geometry])  # (P, K, 2)
-    limit = np.array([g[5][0] for g in geometry]) + _INSIDE_SLACK  # (P, K)
+    frames = [p.frame for p in plates]  # what _plate_geometry takes (origin, e1, e2, normal)
+    origins, e1, e2, normals = (np.array([f[k] for f in frames]) for k in range(4))
+    part_normal = parts[0]  # (P, K, 2)
+    limit = parts[1] + _INSIDE_SLACK  # (P, K)
     return origins, e1, e2, normals, part_normal, limit
 
 
@@ -312,7 +317,8 @@ def module_casters(modules) -> tuple:
 
 @functools.lru_cache(maxsize=8)
 def _module_casters(modules: tuple) -> tuple:
-    plates = [Plate.from_module(m) for m in modules]
+    plates = Plate.many([m.corners_3d for m in modules], kind="module",
+                        names=[m.id for m in modules])  # each as Plate.from_module(m)
     groups: dict = defaultdict(list)
     for plate in plates:
         origin, _, _, normal = plate.frame
