@@ -334,7 +334,7 @@ def _substring_labels(cell_substring, n_substrings, k: int):
 
 
 def _row_shade(shade_rows, n_steps: int, n_modules: int, cell_substring, n_substrings):
-    """Check shaded fractions held at some steps only, reduced to module mean and substring worst.
+    """Check shade held at some steps only and reduce it to module means and worst cells.
 
     ``shade_rows`` is ``(steps, by_cell)``: increasing step indices (R,) and cell-major
     fractions (M, K, R); or ``(steps, mean_rows, worst_rows)``: the same already reduced to
