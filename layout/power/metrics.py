@@ -272,8 +272,11 @@ def layout_totals(table: pd.DataFrame, *, power_w: float,
     """
     n = len(table)
     kwp = n * power_w / 1000.0
-    energy = float(table["energy_kwh"].sum())
-    unshaded = float(table["energy_unshaded_kwh"].sum())
+    # numpy on the columns, as pandas' own sum and mean reduce them (NaN skipped), without
+    # its per-call overhead: the totals are remade on every edit and drop
+    energy = float(np.nansum(table["energy_kwh"].to_numpy()))
+    unshaded = float(np.nansum(table["energy_unshaded_kwh"].to_numpy()))
+    tsrf = table["tsrf_pct"].to_numpy()
     return {
         "modules": n,
         "power_kwp": kwp,
@@ -281,12 +284,21 @@ def layout_totals(table: pd.DataFrame, *, power_w: float,
         "energy_unshaded_kwh": unshaded,
         "shade_loss_pct": float(100.0 * (1.0 - energy / unshaded)) if unshaded > 0 else 0.0,
         "specific_yield_kwh_per_kwp": energy / kwp if kwp > 0 else 0.0,
-        "solar_access_pct": float(table["solar_access_pct"].mean()) if n else float("nan"),
-        "tsrf_pct": float(table["tsrf_pct"].mean()) if n else float("nan"),
-        "modules_below_tsrf": int((table["tsrf_pct"] < tsrf_threshold_pct).sum()),
+        "solar_access_pct": _mean(table["solar_access_pct"].to_numpy()),
+        "tsrf_pct": _mean(tsrf),
+        "modules_below_tsrf": int(np.count_nonzero(tsrf < tsrf_threshold_pct)),
         "tsrf_threshold_pct": tsrf_threshold_pct,
         "energy_basis": table.attrs.get("energy_basis", "DC"),
     }
+
+
+def _mean(values: np.ndarray) -> float:
+    """Mean of the values that are not NaN, as pandas' ``Series.mean`` takes it; NaN if none."""
+    missing = np.isnan(values)
+    count = len(values) - int(np.count_nonzero(missing))
+    if not count:
+        return float("nan")
+    return float(np.sum(np.where(missing, 0.0, values)) / count)
 
 
 _CALENDAR: list = []  # one entry: (times, month from 0, hour), the last index asked about

@@ -38,3 +38,28 @@ def test_energy_without_missing_steps_is_numpys_nansum_bit_for_bit(order):
     expected = np.nansum(power, axis=0) * 15 / 60.0 / 1000.0
     assert np.isfinite(expected).all()
     np.testing.assert_array_equal(energy_kwh(power, 15), expected)
+
+
+@pytest.mark.parametrize("missing", [0.0, 0.3, 1.0])
+def test_layout_totals_equal_pandas_sums_and_means_bit_for_bit(missing):
+    # the totals sum and average the table's columns with numpy; pandas' own Series.sum and
+    # Series.mean (NaN skipped) are the reference, bit for bit, with some or every access
+    # figure missing (a module whose plane gets no light)
+    import pandas as pd
+
+    from layout.power.metrics import layout_totals
+
+    rng = np.random.default_rng(6)
+    n = 57
+    access = rng.uniform(40, 100, n)
+    access[rng.random(n) < missing] = np.nan
+    table = pd.DataFrame({"energy_kwh": rng.uniform(100, 500, n),
+                          "energy_unshaded_kwh": rng.uniform(500, 600, n),
+                          "solar_access_pct": access, "tsrf_pct": access * 0.9})
+    totals = layout_totals(table, power_w=400.0, tsrf_threshold_pct=75.0)
+    assert totals["energy_kwh"] == float(table["energy_kwh"].sum())
+    assert totals["energy_unshaded_kwh"] == float(table["energy_unshaded_kwh"].sum())
+    for column in ("solar_access_pct", "tsrf_pct"):
+        expected = float(table[column].mean())
+        assert totals[column] == expected or (np.isnan(expected) and np.isnan(totals[column]))
+    assert totals["modules_below_tsrf"] == int((table["tsrf_pct"] < 75.0).sum())
