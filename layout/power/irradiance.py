@@ -694,6 +694,8 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
         part = slice(lo, lo + block)
         g = group[part]
         width = len(g)
+        if (g == g[0]).all():  # one plane: its columns broadcast, no gather
+            g = slice(g[0], g[0] + 1)
         # the block's shade on the lit rows, zero where it has none
         mean_here = np.zeros((len(lit_rows), width))
         sub_part = np.zeros((len(lit_rows), width, n_sub), dtype=np.float32)
