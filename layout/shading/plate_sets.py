@@ -317,8 +317,7 @@ def module_casters(modules) -> tuple:
 
 @functools.lru_cache(maxsize=8)
 def _module_casters(modules: tuple) -> tuple:
-    plates = Plate.many([m.corners_3d for m in modules], kind="module",
-                        names=[m.id for m in modules])  # each as Plate.from_module(m)
+    plates = [Plate.from_module(m) for m in modules]
     groups: dict = defaultdict(list)
     for plate in plates:
         origin, _, _, normal = plate.frame

@@ -253,58 +253,6 @@ def test_plate_rejects_bad_corners(corners, field):
     assert info.value.field == field
 
 
-def test_many_plates_at_once_equal_the_constructors_bit_for_bit():
-    # Plate.many checks all plates together and computes what each keeps by the
-    # constructor's own operations: the same plates, frames and outlines, bit for bit, on
-    # random planar quadrilaterals and triangles in any orientation
-    import shapely
-
-    from layout.scene.obstructions import Plate
-
-    rng = np.random.default_rng(8)
-    for n in (3, 4, 5):
-        count = 300
-        centre = rng.uniform(-50, 50, (count, 1, 3))
-        axes = np.linalg.qr(rng.normal(size=(count, 3, 3)))[0]
-        angle = np.sort(rng.uniform(0, 2 * np.pi, (count, n)), axis=1)
-        radius = rng.uniform(0.5, 3.0, (count, 1))
-        flat = np.stack([radius * np.cos(angle), radius * np.sin(angle)], axis=2)  # convex
-        corners = centre + flat @ axes[:, :2, :]
-        names = [f"m{k}" for k in range(count)]
-        many = Plate.many(corners, kind="module", names=names)
-        for c, name, plate in zip(corners, names, many, strict=True):
-            one = Plate(c, kind="module", name=name)
-            assert plate == one and hash(plate) == hash(one)
-            assert all(np.array_equal(a, b) for a, b in zip(plate.frame, one.frame, strict=True))
-            assert np.array_equal(shapely.get_coordinates(plate.plane_polygon),
-                                  shapely.get_coordinates(one.plane_polygon))
-
-
-def test_many_plates_raise_the_constructors_error_for_a_bad_one():
-    from layout.scene.obstructions import Plate
-
-    square = [(0, 0, 0), (1, 0, 0), (1, 1, 0), (0, 1, 0)]
-    for bad, field in (([(0, 0, 0), (1, 0, 0), (1, 1, 0), (1, 0, 0)], "corners[1]"),
-                       ([(0, 0, 0), (1, 0, 0), (1, 1, 0.01), (0, 1, 0)], "corners[2]"),
-                       ([(0, 0, 0), (1, 1, 0), (1, 0, 0), (0, 1, 0)], "corners"),
-                       ([(0, 0, 0), (1, 0, 0), (2, 0, 0), (3, 0, 0)], "corners"),
-                       ([(0, 0, 0), (1, 0, 0), (1, 1, 0), (0, 1, 0), (0, 0, 0)], None)):
-        if field is None:  # a closed ring is taken as the constructor takes it
-            assert Plate.many([square, bad], names=["a", "b"])[1] == Plate(bad, name="b")
-            continue
-        with pytest.raises(InputError) as info:
-            Plate.many([square, bad, square], names=["a", "b", "c"])
-        assert info.value.field == field
-    with pytest.raises(InputError) as info:
-        Plate.many([square, square], names=["a"])
-    assert info.value.field == "names"
-    with pytest.raises(InputError) as info:
-        Plate.many([square], kind="chimney", names=["a"])
-    assert info.value.field == "kind"
-    mixed = Plate.many([square, square[:3]], names=["four", "three"])  # corner counts differ
-    assert mixed == (Plate(square, name="four"), Plate(square[:3], name="three"))
-
-
 def test_plate_rejects_bad_fields():
     from layout.scene.obstructions import Plate
 
