@@ -106,6 +106,22 @@ def check_range(
     return number
 
 
+def check_whole(field: str, value, low: int = 0, high: int | None = None, *,
+                problem: str = "must be a whole number", allowed: str | None = None) -> int:
+    """Return ``value`` as an int, or raise unless it is a whole number from ``low`` to ``high``.
+
+    A whole number is an ``int`` or a numpy integer, never a bool (``True`` is not 1 row or
+    1 day) and never a float; ``high`` None leaves the range open above. ``problem`` and
+    ``allowed`` word the error (``allowed`` defaults to the range).
+    """
+    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < low \
+            or (high is not None and value > high):
+        if allowed is None:
+            allowed = f"{low} or more" if high is None else f"{low} to {high}"
+        raise InputError(field, problem, value=value, allowed=allowed)
+    return int(value)
+
+
 def check_positive(field: str, value, *, unit: str = "") -> float:
     """Return ``value`` as a float, or raise unless it is finite and greater than zero."""
     number = check_finite(field, value)

@@ -12,7 +12,7 @@ from __future__ import annotations
 from collections import deque
 from dataclasses import dataclass
 
-from .errors import InputError
+from .errors import InputError, check_whole
 from .project import Project
 
 __all__ = ["DEFAULT_STEPS", "ProjectHistory", "Version"]
@@ -55,9 +55,7 @@ class ProjectHistory:
     """
 
     def __init__(self, project: Project, label: str = "opened", steps: int = DEFAULT_STEPS):
-        if isinstance(steps, bool) or not isinstance(steps, int) or steps < 1:
-            raise InputError("steps", "must be a whole number of versions", value=steps,
-                             allowed="1 or more")
+        steps = check_whole("steps", steps, 1, problem="must be a whole number of versions")
         self._back: deque[Version] = deque(maxlen=steps)
         self._ahead: list[Version] = []
         self._current = Version(project, label)

@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import shapely
 
-from ..errors import InputError, check_fields, check_range
+from ..errors import InputError, check_fields, check_range, check_whole
 from ..scene.modules import ModuleSpec
 from ..scene.roof import RoofFace
 from .packing import ANCHORS, ROW_MODES, as_region, number_rows, pack_rectangles, rectangle_bound
@@ -98,11 +98,7 @@ class FillOptions:
         set_(self, "gap_up_slope_m",
              check_range("gap_up_slope_m", self.gap_up_slope_m, 0, 1, unit="m"))
         steps = self.offset_steps
-        if isinstance(steps, bool) or not isinstance(steps, (int, np.integer)) or not (
-            1 <= steps <= 32
-        ):
-            raise InputError("offset_steps", "must be a whole number in range", value=steps,
-                             allowed="1 to 32")
+        check_whole("offset_steps", steps, 1, 32, problem="must be a whole number in range")
         set_(self, "offset_steps", int(steps))
         if self.rack_tilt_deg is not None:
             set_(self, "rack_tilt_deg", check_range("rack_tilt_deg", self.rack_tilt_deg, 0, 90,

@@ -19,7 +19,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 import shapely
 
-from ..errors import InputError, check_fields, check_finite, check_range
+from ..errors import InputError, check_fields, check_finite, check_range, check_whole
 from ..scene.modules import ModuleSpec
 
 __all__ = ["ORIENTATIONS", "Layout", "PlacedModule", "module_footprint", "removal_entry"]
@@ -82,10 +82,8 @@ class PlacedModule:
             raise InputError("orientation", "unknown orientation", value=self.orientation,
                              allowed=", ".join(ORIENTATIONS))
         for key in ("row", "column"):
-            value = getattr(self, key)
-            if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < 0:
-                raise InputError(key, "must be a whole number from 0", value=value)
-            set_(self, key, int(value))
+            set_(self, key, check_whole(key, getattr(self, key), 0,
+                                        problem="must be a whole number from 0"))
         rect = np.asarray(self.uv_rect, dtype=float)
         if rect.shape != (4,) or not np.isfinite(rect).all() or not (
             rect[2] > rect[0] and rect[3] > rect[1]

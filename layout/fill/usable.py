@@ -34,7 +34,7 @@ import numpy as np
 import shapely
 from shapely.geometry import mapping, shape
 
-from ..errors import InputError, check_fields, check_nonnegative, check_range
+from ..errors import InputError, check_fields, check_nonnegative, check_range, check_whole
 from ..scene.roof import EDGE_KINDS
 from .rules import (
     PATHWAY_EDGE_KINDS,
@@ -320,10 +320,8 @@ def _check_pathway_edges(face, pathway_edges) -> list[int]:
     kinds = face.edge_kinds
     out = []
     for i, index in enumerate(pathway_edges):
-        if isinstance(index, bool) or not isinstance(index, (int, np.integer)) \
-                or not 0 <= index < n:
-            raise InputError(f"pathway_edges[{i}]", "is not an edge of the face", value=index,
-                             allowed=f"whole numbers 0 to {n - 1}")
+        check_whole(f"pathway_edges[{i}]", index, 0, n - 1, problem="is not an edge of the face",
+                    allowed=f"whole numbers 0 to {n - 1}")
         if kinds[index] not in PATHWAY_EDGE_KINDS:
             raise InputError(f"pathway_edges[{i}]", f"edge {index} is a {kinds[index]} edge; "
                              "a pathway runs along an edge that climbs from eave to ridge",

@@ -25,7 +25,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import InputError, check_fields, check_range
+from ..errors import InputError, check_fields, check_range, check_whole
 from ..scene.obstructions import Plate
 from ..scene.site import Site
 from ..shading.skyview import SkyViewCache
@@ -116,10 +116,8 @@ class EnergyOptions:
             raise InputError("samples_per_cell", "is not supported", value=self.samples_per_cell,
                              allowed="1, 4 or 9")
         directions = self.sky_directions
-        if isinstance(directions, bool) or not isinstance(directions, int) \
-                or not 64 <= directions <= 16384:
-            raise InputError("sky_directions", "is out of range", value=directions,
-                             allowed="a whole number from 64 to 16384")
+        check_whole("sky_directions", directions, 64, 16384, problem="is out of range",
+                    allowed="a whole number from 64 to 16384")
         set_(self, "tsrf_threshold_pct", check_range("tsrf_threshold_pct",
                                                      self.tsrf_threshold_pct, 0, 100, unit="%"))
 

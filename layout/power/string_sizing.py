@@ -56,7 +56,7 @@ from dataclasses import dataclass
 
 import pvlib
 
-from ..errors import InputError, check_fields, check_range
+from ..errors import InputError, check_fields, check_range, check_whole
 from ..scene.inverter import InverterSpec
 from ..scene.modules import ModuleSpec
 from .irradiance import MOUNTS
@@ -164,9 +164,7 @@ class StringDesign:
                 raise InputError("inputs", "must be a list of input numbers", value=values)
             values = tuple(values)
             for i, value in enumerate(values):
-                if isinstance(value, bool) or not isinstance(value, int) or value < 0:
-                    raise InputError(f"inputs[{i}]", "must be a whole number from 0",
-                                     value=value)
+                check_whole(f"inputs[{i}]", value, 0, problem="must be a whole number from 0")
             set_(self, "inputs", values)
 
     def to_dict(self) -> dict:

@@ -5,7 +5,7 @@ from __future__ import annotations
 import datetime as dt
 from dataclasses import dataclass
 
-from ..errors import InputError
+from ..errors import InputError, check_whole
 
 __all__ = ["PAPERS", "PLAN_METRICS", "ReportOptions", "paper_for"]
 
@@ -66,11 +66,9 @@ class ReportOptions:
         if self.plan_metric not in PLAN_METRICS:
             raise InputError("plan_metric", "is not a figure the plan can show",
                              value=self.plan_metric, allowed=", ".join(PLAN_METRICS))
-        if self.with_range is not None and (
-                isinstance(self.with_range, bool) or not isinstance(self.with_range, int)
-                or not 2 <= self.with_range <= 10000):
-            raise InputError("with_range", "must be a whole number of draws",
-                             value=self.with_range, allowed="2 to 10000")
+        if self.with_range is not None:
+            check_whole("with_range", self.with_range, 2, 10000,
+                        problem="must be a whole number of draws")
         for name in ("preparer", "licence"):
             if not isinstance(getattr(self, name), str):
                 raise InputError(name, "must be text", value=getattr(self, name))

@@ -60,6 +60,7 @@ from ..errors import (
     check_points,
     check_positive,
     check_range,
+    check_whole,
 )
 
 __all__ = [
@@ -138,9 +139,8 @@ def deciduous_transmittance(*, hemisphere: str = "north",
     leaf_off = check_range("leaf_off", leaf_off, 0, 1)
     months = set()
     for i, m in enumerate(leaf_on_months):
-        if isinstance(m, bool) or not isinstance(m, (int, np.integer)) or not 1 <= m <= 12:
-            raise InputError(f"leaf_on_months[{i}]", "is not a month number", value=m,
-                             allowed="whole numbers 1 to 12")
+        check_whole(f"leaf_on_months[{i}]", m, 1, 12, problem="is not a month number",
+                    allowed="whole numbers 1 to 12")
         months.add(int(m) if hemisphere == "north" else (int(m) + 5) % 12 + 1)
     return tuple(leaf_on if m in months else leaf_off for m in range(1, 13))
 

@@ -48,7 +48,7 @@ import math
 
 import numpy as np
 
-from ..errors import InputError, check_points, check_positive
+from ..errors import InputError, check_points, check_positive, check_whole
 from ..scene.obstructions import HorizonProfile
 from .cache import ShadeCache
 from .hits import DEFAULT_MAX_PAIRS, _obstruction_hits
@@ -84,9 +84,8 @@ def sky_directions(n: int = DEFAULT_SKY_DIRECTIONS) -> np.ndarray:
     numpy.ndarray, shape (n, 3)
         Unit vectors with z > 0; each stands for ``1 / n`` of the cosine-weighted hemisphere.
     """
-    if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or not 16 <= n <= 1_000_000:
-        raise InputError("n_directions", "must be a whole number of directions", value=n,
-                         allowed="16 to 1000000")
+    n = check_whole("n_directions", n, 16, 1_000_000,
+                    problem="must be a whole number of directions")
     i = np.arange(int(n))
     r = np.sqrt((i + 0.5) / n)  # Vogel's spiral [2]
     phi = i * _GOLDEN_ANGLE
@@ -243,10 +242,7 @@ class SkyViewCache:
     def __init__(self, modules, *, grid: int = 3, n_directions: int = DEFAULT_SKY_DIRECTIONS,
                  ray_start: float = RAY_START_M, max_pairs: int = DEFAULT_MAX_PAIRS):
         modules = tuple(modules)
-        if isinstance(grid, bool) or not isinstance(grid, (int, np.integer)) \
-                or not 1 <= grid <= 10:
-            raise InputError("grid", "must be a whole number of points per side", value=grid,
-                             allowed="1 to 10")
+        grid = check_whole("grid", grid, 1, 10, problem="must be a whole number of points per side")
         self.modules = modules
         self.grid = int(grid)
         self.n_directions = int(n_directions)

@@ -25,7 +25,7 @@ import numpy as np
 import pandas as pd
 import pvlib
 
-from ..errors import InputError, check_range
+from ..errors import InputError, check_range, check_whole
 from ..scene.site import Site
 
 __all__ = [
@@ -122,9 +122,7 @@ def typical_year_index(site: Site, step_minutes: int = 60, *,
             or not 1 <= step_minutes <= 1440 or 1440 % step_minutes:
         raise InputError("step_minutes", "must be whole minutes that divide a day",
                          value=step_minutes, allowed="1 to 1440, a divisor of 1440 (60, 30, 15)")
-    if isinstance(year, bool) or not isinstance(year, (int, np.integer)) \
-            or not 1901 <= year <= 2099:
-        raise InputError("year", "is out of range", value=year, allowed="1901 to 2099")
+    year = check_whole("year", year, 1901, 2099, problem="is out of range")
     tz = site.tzinfo
     start = pd.Timestamp(int(year), 1, 1).tz_localize(tz)
     end = pd.Timestamp(int(year) + 1, 1, 1).tz_localize(tz)

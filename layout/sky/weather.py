@@ -52,7 +52,7 @@ import numpy as np
 import pandas as pd
 import pvlib
 
-from ..errors import InputError, check_range
+from ..errors import InputError, check_range, check_whole
 from ..scene.site import Site
 from .sun import TYPICAL_YEAR, solar_position, typical_year_index
 
@@ -175,10 +175,8 @@ class Weather:
         every_days : int
             1 to 24 (one day in 24 still spreads 15 days over the year).
         """
-        if isinstance(every_days, bool) or not isinstance(every_days, (int, np.integer)) \
-                or not 1 <= every_days <= 24:
-            raise InputError("every_days", "must be a whole number of days", value=every_days,
-                             allowed="1 to 24")
+        every_days = check_whole("every_days", every_days, 1, 24,
+                                 problem="must be a whole number of days")
         if every_days == 1:
             return self
         keep = (self.data.index.dayofyear.to_numpy() - 1) % int(every_days) == 0
@@ -355,9 +353,7 @@ def read_weather_file(path, *, kind: str | None = None, site: Site | None = None
                          allowed=", ".join(FILE_KINDS))
     if not os.path.isfile(text):
         raise InputError("weather", "file not found", value=text)
-    if isinstance(year, bool) or not isinstance(year, (int, np.integer)) \
-            or not 1901 <= year <= 2099:
-        raise InputError("year", "is out of range", value=year, allowed="1901 to 2099")
+    year = check_whole("year", year, 1901, 2099, problem="is out of range")
     if albedo is not None:
         albedo = check_range("albedo", albedo, 0, 1)
     try:

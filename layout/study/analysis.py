@@ -35,7 +35,7 @@ from functools import cached_property
 import numpy as np
 import pandas as pd
 
-from ..errors import InputError, check_positive
+from ..errors import InputError, check_positive, check_whole
 from ..fill.placed import Layout, PlacedModule
 from ..fill.usable import roof_mounted
 from ..power.electrical import DcPower, dc_power
@@ -204,18 +204,13 @@ class Analysis:
                  weather: Weather | None = None):
         self.base_dir = base_dir
         self.progress = progress
-        if isinstance(sample_days, bool) or not isinstance(sample_days, int) \
-                or not 1 <= sample_days <= 24:
-            raise InputError("sample_days", "must be a whole number of days",
-                             value=sample_days, allowed="1 to 24")
-        self.sample_days = sample_days
+        self.sample_days = check_whole("sample_days", sample_days, 1, 24,
+                                       problem="must be a whole number of days")
         # (weather key, weather) read by someone else, for this project's first evaluation
         self._given_weather = None if weather is None else (
             self._weather_key_of(project), weather)
-        if isinstance(recent, bool) or not isinstance(recent, int) or recent < 0:
-            raise InputError("recent", "must be a whole number of projects", value=recent,
-                             allowed="0 or more")
-        self.recent = recent
+        self.recent = check_whole("recent", recent, 0,
+                                  problem="must be a whole number of projects")
         self.recent_bytes = check_positive("recent_mb", recent_mb, unit="MB") * 1e6
         # id(project) -> (project, its state, its size [bytes]); the project is held so that
         # its id is not reused while the entry stands

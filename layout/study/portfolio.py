@@ -60,7 +60,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from ..errors import InputError
+from ..errors import InputError, check_whole
 from ..project import FILE_SUFFIX, load_project
 from ..runtime import THREADS_VARIABLE
 
@@ -562,12 +562,9 @@ def run_portfolio(source, out_dir, *, format: str = "parquet", module_tables: bo
     if format not in FORMATS:
         raise InputError("format", "unknown table format", value=format,
                          allowed=", ".join(FORMATS))
-    if workers is not None and (isinstance(workers, bool) or not isinstance(workers, int)
-                                or workers < 1):
-        raise InputError("workers", "must be a whole number of at least 1", value=workers)
-    if chunk_size is not None and (isinstance(chunk_size, bool)
-                                   or not isinstance(chunk_size, int) or chunk_size < 1):
-        raise InputError("chunk_size", "must be a whole number of at least 1", value=chunk_size)
+    for name, count in (("workers", workers), ("chunk_size", chunk_size)):
+        if count is not None:
+            check_whole(name, count, 1, problem="must be a whole number of at least 1")
     started = time.perf_counter()
     entries = find_projects(source)
     out = Path(out_dir)

@@ -12,7 +12,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import InputError, check_whole
 from ..project import FILE_SUFFIX
 
 __all__ = ["synthetic_portfolio", "write_synthetic_portfolio"]
@@ -56,8 +56,7 @@ def synthetic_portfolio(n_projects: int, *, seed: int = 0, n_sites: int | None =
     from ..scene.obstructions import Block, Tree
     from ..scene.site import Site
 
-    if isinstance(n_projects, bool) or not isinstance(n_projects, int) or n_projects < 1:
-        raise InputError("n_projects", "must be a whole number of at least 1", value=n_projects)
+    check_whole("n_projects", n_projects, 1, problem="must be a whole number of at least 1")
     low, high = (float(v) for v in size_m)
     if not 4.0 <= low <= high <= 60.0:
         raise InputError("size_m", "is not a valid range", value=size_m,

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ...errors import InputError
+from ...errors import check_whole
 from .entry import SurveyEntry, _check_entries
 from .geometry import build_obstruction
 from .growth import grown_tree
@@ -19,10 +19,7 @@ __all__ = ["obstructions_at_year", "sample_obstructions"]
 
 
 def _check_year(year) -> int:
-    if isinstance(year, bool) or not isinstance(year, (int, np.integer)) or not 0 <= year <= 100:
-        raise InputError("year", "must be a whole number of years", value=year,
-                         allowed="0 to 100")
-    return int(year)
+    return check_whole("year", year, 0, 100, problem="must be a whole number of years")
 
 
 def sample_obstructions(entries, n: int, seed=None, *, distribution: str = "normal",

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ...errors import InputError
+from ...errors import InputError, check_whole
 from .geometry import _obstruction_from_geometry, _sighted_geometry
 from .readings import _READINGS
 
@@ -22,9 +22,8 @@ __all__ = ["sample_entry", "sample_readings"]
 
 
 def _check_count(field: str, n) -> int:
-    if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or n < 1:
-        raise InputError(field, "must be a whole number of at least 1", value=n, allowed=">= 1")
-    return int(n)
+    return check_whole(field, n, 1, problem="must be a whole number of at least 1",
+                       allowed=">= 1")
 
 
 def _truncated_standard_normal(rng: np.random.Generator, n: int, bound: float) -> np.ndarray:

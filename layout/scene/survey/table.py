@@ -18,7 +18,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from ...errors import InputError, check_fields, check_finite
+from ...errors import InputError, check_fields, check_finite, check_whole
 from ...units import FOOT_M, INCH_M, parse_length
 from .entry import SurveyEntry, _check_entries
 from .geometry import entry_geometry, height_range
@@ -144,8 +144,7 @@ class SurveyProblem:
         known = ("row", "column", "message", "value", "allowed")
         check_fields(data, known, required=("row", "column", "message"), what="survey problem")
         row = data["row"]
-        if isinstance(row, bool) or not isinstance(row, int) or row < 1:
-            raise InputError("row", "must be a row number", value=row, allowed=">= 1")
+        check_whole("row", row, 1, problem="must be a row number", allowed=">= 1")
         for key in known[1:]:
             if not isinstance(data.get(key, ""), str):
                 raise InputError(key, "must be text", value=data[key])

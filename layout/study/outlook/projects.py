@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ...errors import InputError
+from ...errors import InputError, check_whole
 from ...scene.obstructions import Tree
 from ...scene.survey import (
     grown_tree,
@@ -57,10 +57,7 @@ def _grow_all(obstructions, year: float, widen_crown: bool) -> tuple:
 
 def check_year(field: str, year) -> int:
     """Check an operating year, a whole number 0 to 100; errors name ``field``."""
-    if isinstance(year, bool) or not isinstance(year, (int, np.integer)) or not 0 <= year <= 100:
-        raise InputError(field, "must be a whole number of years", value=year,
-                         allowed="0 to 100")
-    return int(year)
+    return check_whole(field, year, 0, 100, problem="must be a whole number of years")
 
 
 def project_at_year(project, year: int, *, widen_crown: bool = True, surveyed=None):

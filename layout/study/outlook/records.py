@@ -11,7 +11,7 @@ import math
 import numpy as np
 import pandas as pd
 
-from ...errors import InputError, check_fields
+from ...errors import InputError, check_fields, check_whole
 
 
 def plain_number(value):
@@ -77,9 +77,7 @@ def float_or_none(field: str, value):
 
 def whole_number(field: str, value, low: int) -> int:
     """Check a whole number of at least ``low``; errors name ``field``."""
-    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < low:
-        raise InputError(field, "must be a whole number", value=value, allowed=f">= {low}")
-    return int(value)
+    return check_whole(field, value, low, allowed=f">= {low}")
 
 
 def layout_figures(result) -> dict:
