@@ -721,6 +721,54 @@ def test_module_shade_without_cells_keeps_the_same_reductions(per_cell, steps_a_
         assert lean.worst_rows.max() > 0
 
 
+@pytest.mark.parametrize("steps_a_block", [None, 3, 7])
+@pytest.mark.parametrize("keep_cells", [False, True])
+def test_module_tiles_equal_the_dense_blocks(steps_a_block, keep_cells, monkeypatch):
+    # one point a cell: only the (module, step) tiles with a hit are built; every figure
+    # (module means, substring means and worst cells, the cells) equals the one reduced
+    # from the dense blocks, bit for bit: with a crown's transmittance, a second crown
+    # over it, a far horizon (every module's tile of 1), in one block, 12 (masks) or 27
+    # (sorted) blocks; substrings across the module (cells 0 0 1 1 2 2 ...) and along it
+    # (2 substrings of 30 cells), as a pattern or (with the cells kept) picked by labels
+    from layout.shading import groups
+    from layout.shading.combine import _prepare_hits
+    from layout.shading.per_module import _exact_sums, _reduce_shade, _Reductions
+
+    spec, mods, sun, month, tree, scene = _small_rack_scene(8, 80, 3)
+    scene = [*scene, replace(tree, center=(1.0, -5.0), height=9.0),
+             HorizonProfile((0.0, 180.0), (3.0, 8.0))]
+    if steps_a_block is not None:
+        monkeypatch.setattr(groups, "_DENSE_BLOCK", 6 * spec.cell_count * steps_a_block)
+    for module_spec in (spec, replace(spec, substring_axis="width", bypass_diodes=2)):
+        samples = module_samples(mods, module_spec)
+        cell_substring = np.asarray(module_spec.substring_of_cell(
+            np.arange(module_spec.cell_count)), dtype=np.intp)
+        cache = ShadeCache(samples.points, sun, [*scene, *module_casters(mods)], month=month,
+                           normals=samples.normals)
+        prepared = cache.prepared_hits()
+        assert _exact_sums(prepared, module_spec.cell_count)
+        n_groups = len(samples.points)
+        tiled = _Reductions(len(mods), cell_substring, keep_cells)
+        rows = _reduce_shade(len(sun), prepared, samples.cell_group, n_groups, tiled, 0)
+        dense = _Reductions(len(mods), cell_substring, keep_cells)
+        dense_rows, _ = groups._group_shade_rows(len(sun), n_groups, prepared,
+                                                 samples.cell_group, n_groups,
+                                                 reduce=dense.at(0))
+        assert np.array_equal(rows, dense_rows)
+        for name in ("mean", "worst", "substring", "by_cell"):
+            got, want = getattr(tiled, name), getattr(dense, name)
+            assert (got is None) == (want is None)
+            assert got is None or (got.dtype == want.dtype and np.array_equal(got, want))
+        assert 0 < (dense.mean > 0).mean() < 1 and (dense.mean == 1).any()
+        assert (dense.worst % 1 > 0).any()  # shade through a crown
+        # a crown that lets through all but a hair of the beam: the sums might round,
+        # so the dense blocks are used
+        clear = [(entry[0], entry[1], np.full(len(entry[0]), np.float32(1 - 2.0 ** -24)))
+                 for entry in prepared if entry is not None and len(entry) == 3]
+        assert not _exact_sums(clear, module_spec.cell_count)
+        assert _prepare_hits(tree, cache.hits(tree), month)[2] is not None
+
+
 @pytest.mark.parametrize("labels, run", [
     ([0, 0, 1, 1, 2, 2] * 10, 2),  # the generic 60-cell module: pairs of columns
     ([0] * 20 + [1] * 20 + [2] * 20, 20),  # contiguous substrings
