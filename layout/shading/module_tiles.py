@@ -75,52 +75,80 @@ def _tile_shade_rows(n_steps, n_points, prepared_hits, n_cells, reduce, *, rows=
     Steps below the far horizon give tiles of 1 for every module.
     """
     horizon, entries = _split_entries(n_steps, prepared_hits)
+    n_mod = n_points // n_cells
+    as_shade = all(factor is None for _, _, factor in entries)
+    per = max(1, groups._DENSE_BLOCK // max(1, n_points))  # rows a block, as the dense ones
+    if rows is None and n_steps <= per and n_mod:
+        # every step in one block: the rows are the steps of the tiles, found with them
+        tiles = _block_tiles(entries, 0, n_steps, n_mod, n_cells, np.flatnonzero(horizon),
+                             as_shade)
+        if tiles is None:
+            return np.zeros(0, dtype=np.intp)
+        tile_step, tile_module, values = tiles
+        first = np.r_[True, tile_step[1:] != tile_step[:-1]]
+        rows = tile_step[first]
+        reduce(rows, 0, len(rows), np.cumsum(first) - 1, tile_module, values)
+        return rows
     if rows is None:
         rows = _rows_with_shade(horizon, entries)
-    n_rows, n_mod = len(rows), n_points // n_cells
-    if n_rows == 0 or n_mod == 0:
+    if not len(rows) or not n_mod:
         return rows
     row_of = _row_numbers(n_steps, rows)
-    blocked = row_of[np.flatnonzero(horizon)]  # rows below the far horizon
-    as_shade = all(factor is None for _, _, factor in entries)
-    per = max(1, groups._DENSE_BLOCK // n_points)  # the dense blocks' rows, as there
     for r0, r1, parts in _row_blocks(n_steps, rows, per, entries):
-        width = r1 - r0
-        used = np.zeros(width * n_mod, dtype=bool)  # (row, module) tiles, row-major
-        keyed = []
-        for step, point, factor in parts:
-            module = point // n_cells  # in the points' own dtype (a fast division)
-            key = np.take(row_of, step)  # take: several times faster than row_of[step]
-            if r0:                       # for an index of another dtype than intp
-                key -= r0
-            key *= n_mod
-            key += module
-            used[key] = True
-            module *= n_cells
-            keyed.append((key, np.subtract(point, module, out=module), factor))  # the cell
-        inside = blocked[(blocked >= r0) & (blocked < r1)] - r0
-        used.reshape(width, n_mod)[inside] = True
-        tiles = np.flatnonzero(used)
-        if not len(tiles):  # no shade in this block
-            continue
-        tile_of = np.empty(len(used), dtype=np.intp)  # read at used tiles only
-        tile_of[tiles] = np.arange(len(tiles))
-        n_tiles = len(tiles)
-        # cell-major: each cell's values over the tiles contiguous, so that the reductions
-        # over a module's cells run over whole rows
-        values = np.full((n_cells, n_tiles), 0.0 if as_shade else 1.0, dtype=np.float32)
-        flat_values = values.reshape(-1)
-        for key, cell, factor in keyed:
-            flat = np.take(tile_of, key)
-            flat += cell * n_tiles
-            if factor is None:
-                flat_values[flat] = 1.0 if as_shade else 0.0
-            else:
-                flat_values[flat] *= factor  # each (step, point) once per obstruction
-        if not as_shade:
-            np.subtract(np.float32(1.0), values, out=values)
-        if len(inside):
-            values[:, tile_of[(inside[:, None] * n_mod + np.arange(n_mod)).reshape(-1)]] = 1.0
-        tile_row, tile_module = np.divmod(tiles, n_mod)
-        reduce(rows, r0, r1, tile_row, tile_module, values)
+        lo, held = rows[r0], rows[r0:r1]
+        tiles = _block_tiles(parts, lo, rows[r1 - 1] - lo + 1, n_mod, n_cells,
+                             held[horizon[held]] - lo, as_shade)
+        if tiles is not None:
+            tile_step, tile_module, values = tiles
+            reduce(rows, r0, r1, row_of[tile_step] - r0, tile_module, values)
     return rows
+
+
+def _block_tiles(parts, lo: int, span: int, n_mod: int, n_cells: int, below, as_shade: bool):
+    """Build the tiles of the hits at steps ``lo`` to ``lo + span - 1``.
+
+    ``below`` are the steps (less ``lo``) below the far horizon: each gets a tile of 1 for
+    every module. Returns ``(step, module, values)`` per tile, tiles by step then module,
+    ``values`` (n_cells, K) float32, or None when no tile has a hit.
+    """
+    used = np.zeros(span * n_mod, dtype=bool)  # (step, module) tiles, step-major
+    keyed = []
+    for step, point, factor in parts:
+        module = point // n_cells  # in the points' own dtype (a fast division)
+        key = step.astype(np.intp)
+        if lo:
+            key -= lo
+        key *= n_mod
+        key += module
+        used[key] = True
+        module *= n_cells
+        keyed.append((key, np.subtract(point, module, out=module), factor))  # the cell
+    used.reshape(span, n_mod)[below] = True
+    tiles = np.flatnonzero(used)
+    n_tiles = len(tiles)
+    if not n_tiles:
+        return None
+    tile_of = np.empty(len(used), dtype=np.intp)  # read at used tiles only
+    tile_of[tiles] = np.arange(n_tiles)
+    # cell-major: each cell's values over the tiles contiguous, so that the reductions over
+    # a module's cells run over whole rows
+    values = np.full((n_cells, n_tiles), 0.0 if as_shade else 1.0, dtype=np.float32)
+    flat_values = values.reshape(-1)
+    for key, cell, factor in keyed:
+        # in place, no new arrays (a fresh one costs its page faults); take is faster than
+        # tile_of[key], and writes over the keys read (every key is in range)
+        flat = np.take(tile_of, key, out=key, mode="clip")
+        cell *= n_tiles  # below n_cells · n_tiles, at most a dense block: fits int32
+        flat += cell
+        if factor is None:
+            flat_values[flat] = 1.0 if as_shade else 0.0
+        else:
+            flat_values[flat] *= factor  # each (step, point) once per obstruction
+    if not as_shade:
+        np.subtract(np.float32(1.0), values, out=values)
+    if len(below):
+        values[:, tile_of[(below[:, None] * n_mod + np.arange(n_mod)).reshape(-1)]] = 1.0
+    tile_step, tile_module = np.divmod(tiles, n_mod)
+    if lo:
+        tile_step += lo
+    return tile_step, tile_module, values
