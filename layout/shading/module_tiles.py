@@ -17,6 +17,9 @@ import numpy as np
 from . import groups
 from .groups import _row_blocks, _row_numbers, _rows_with_shade, _split_entries
 
+#: Rows of a block of tiles, in rows of a dense block (:data:`groups._DENSE_BLOCK` values):
+#: tiles hold the modules a step shades, a quarter of them or fewer on a rack roof.
+_TILE_ROWS = 4
 #: Largest beam fraction a crown may let through for a tile's sums to be exact in any order
 #: (see :func:`_exact_sums`): shade values are then 0 or at least 2**-20.
 _CLEAREST = 1.0 - 2.0 ** -20
@@ -77,7 +80,7 @@ def _tile_shade_rows(n_steps, n_points, prepared_hits, n_cells, reduce, *, rows=
     horizon, entries = _split_entries(n_steps, prepared_hits)
     n_mod = n_points // n_cells
     as_shade = all(factor is None for _, _, factor in entries)
-    per = max(1, groups._DENSE_BLOCK // max(1, n_points))  # rows a block, as the dense ones
+    per = max(1, _TILE_ROWS * groups._DENSE_BLOCK // max(1, n_points))  # rows a block
     if rows is None and n_steps <= per and n_mod:
         # every step in one block: the rows are the steps of the tiles, found with them
         tiles = _block_tiles(entries, 0, n_steps, n_mod, n_cells, np.flatnonzero(horizon),

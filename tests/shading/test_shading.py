@@ -730,7 +730,7 @@ def test_module_tiles_equal_the_dense_blocks(steps_a_block, keep_cells, monkeypa
     # over it, a far horizon (every module's tile of 1), in one block, 12 (masks) or 27
     # (sorted) blocks; substrings across the module (cells 0 0 1 1 2 2 ...) and along it
     # (2 substrings of 30 cells), as a pattern or (with the cells kept) picked by labels
-    from layout.shading import groups
+    from layout.shading import groups, module_tiles
     from layout.shading.combine import _prepare_hits
     from layout.shading.per_module import _exact_sums, _reduce_shade, _Reductions
 
@@ -739,6 +739,7 @@ def test_module_tiles_equal_the_dense_blocks(steps_a_block, keep_cells, monkeypa
              HorizonProfile((0.0, 180.0), (3.0, 8.0))]
     if steps_a_block is not None:
         monkeypatch.setattr(groups, "_DENSE_BLOCK", 6 * spec.cell_count * steps_a_block)
+        monkeypatch.setattr(module_tiles, "_TILE_ROWS", 1)  # the tiles' blocks as small
     for module_spec in (spec, replace(spec, substring_axis="width", bypass_diodes=2)):
         samples = module_samples(mods, module_spec)
         cell_substring = np.asarray(module_spec.substring_of_cell(
