@@ -26,6 +26,7 @@ import shapely
 
 from ..errors import InputError
 from ..scene.obstructions import PLANE_TOLERANCE_M, Plate
+from ..scene.obstructions_batch import plates_from_corners
 from .plates import _INSIDE_SLACK, _dot3, _hit_plate, _plate_geometry
 
 __all__ = ["PlateSet", "module_casters"]
@@ -312,7 +313,11 @@ def module_casters(modules) -> tuple:
 
 @functools.lru_cache(maxsize=8)
 def _module_casters(modules: tuple) -> tuple:
-    plates = [Plate.from_module(m) for m in modules]
+    corners = [m.corners_3d for m in modules]
+    if len({len(c) for c in corners}) == 1:  # one corner count: validated in a batch
+        plates = plates_from_corners(corners, kind="module", names=[m.id for m in modules])
+    else:
+        plates = [Plate.from_module(m) for m in modules]
     groups: dict = defaultdict(list)
     for plate in plates:
         origin, _, _, normal = plate.frame

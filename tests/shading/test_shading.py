@@ -1122,3 +1122,59 @@ def test_far_groups_of_a_plate_set_keep_its_plane_rule():
     want = _obstruction_hits(pts, sun, plate_set, RAY_START_M, 1 << 19, True, order)
     assert len(want) > 0 and hit_set(got) == hit_set(want) and len(got) == len(want)
     assert not np.isin(got.point, np.flatnonzero(pts[:, 2] == 3.0)).any()
+
+
+def test_plates_built_in_a_batch_equal_the_one_by_one_plates():
+    # module casters are validated in a batch (layout/scene/obstructions_batch.py): every
+    # plate equals Plate(...) field for field, its frame bit for bit (the plate-set kernels
+    # and culling read it), on rack modules and random planar polygons of 3-8 corners in
+    # random planes; a bad plate (a repeated corner, a corner off the plane, edges that
+    # cross, not a number) raises the same error as the one-by-one constructor
+    from layout.scene.modules import generic_60_cell
+    from layout.scene.obstructions_batch import plates_from_corners
+
+    def same(a, b):
+        return a == b and a.corners == b.corners and all(
+            x.dtype == y.dtype and np.array_equal(x, y)
+            for x, y in zip(a.frame, b.frame, strict=True))
+
+    mods = _rack_modules(generic_60_cell(330.0), "portrait", 20.0, 2.4, n_rows=4, n_cols=10)
+    batch = plates_from_corners([m.corners_3d for m in mods], kind="module",
+                                names=[m.id for m in mods])
+    assert all(same(Plate.from_module(m), p) for m, p in zip(mods, batch, strict=True))
+    rng = np.random.default_rng(12)
+    checked = 0
+    for k in (3, 4, 5, 8):
+        ang = np.sort(rng.uniform(0, 2 * np.pi, (60, k)), axis=1)
+        uv = rng.uniform(0.3, 5, (60, k, 1)) * np.stack([np.cos(ang), np.sin(ang)], axis=2)
+        normal = rng.normal(size=(60, 3))
+        normal /= np.linalg.norm(normal, axis=1)[:, None]
+        e1 = np.cross(normal, rng.normal(size=(60, 3)))
+        e1 /= np.linalg.norm(e1, axis=1)[:, None]
+        e2 = np.cross(normal, e1)
+        pts = rng.uniform(-50, 50, (60, 1, 3)) + uv[..., :1] * e1[:, None] \
+            + uv[..., 1:] * e2[:, None]
+        names = [f"p{i}" for i in range(60)]
+        kept, plates = [], []
+        for i in range(60):
+            try:
+                plates.append(Plate(pts[i], kind="roof", name=names[i]))
+                kept.append(i)
+            except InputError:
+                pass
+        got = plates_from_corners(pts[kept], kind="roof", names=[names[i] for i in kept])
+        assert all(same(a, b) for a, b in zip(plates, got, strict=True))
+        checked += len(kept)
+    assert checked > 200
+    square = np.array([[0, 0, 3], [2, 0, 3], [2, 1, 3], [0, 1, 3]], dtype=float)
+    bad = [square.copy() for _ in range(4)]
+    bad[0][2] = bad[0][1]  # a repeated corner
+    bad[1][3, 2] += 0.01  # off the plane
+    bad[2][[1, 2]] = bad[2][[2, 1]]  # edges that cross
+    bad[3][1, 0] = np.nan  # not a number
+    for corners in bad:
+        with pytest.raises(InputError) as one:
+            Plate(corners, kind="module", name="m")
+        with pytest.raises(InputError) as batched:
+            plates_from_corners([square, corners], kind="module", names=["ok", "m"])
+        assert str(batched.value) == str(one.value)
