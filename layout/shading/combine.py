@@ -79,7 +79,8 @@ def _prepare_hits(obstruction, hits: ShadeHits, month, dtype=np.float32):
                              allowed="one month number (1-12) per sun step")
         per_step = obstruction.monthly_transmittance.astype(dtype)[month - 1]
         factor = np.take(per_step, hits.step)  # faster than per_step[step] for uint16 steps
-        factor[~hits.crown_only] = 0.0
+        if not hits.crown_only.all():  # a trunk's hits: opaque
+            factor[~hits.crown_only] = 0.0
         if not factor.any():
             factor = None
     return (hits.step, hits.point, factor)
