@@ -85,12 +85,16 @@ def _plates(pts: np.ndarray, kind: str, names: list) -> list[Plate]:
     e2 = np.column_stack([normal[:, 1] * e1[:, 2] - normal[:, 2] * e1[:, 1],
                           normal[:, 2] * e1[:, 0] - normal[:, 0] * e1[:, 2],
                           normal[:, 0] * e1[:, 1] - normal[:, 1] * e1[:, 0]])
-    # simple outlines: the in-plane corners (rounded differently from plane_polygon's, far
-    # below any size that makes an outline cross itself)
-    plane = np.stack([np.einsum("mkj,mj->mk", rel, e1), np.einsum("mkj,mj->mk", rel, e2)],
-                     axis=2)
+    # simple outlines: the in-plane corners as Plate.plane_polygon makes them (the same
+    # products, one plate at a time), the polygons made at once
     check = np.flatnonzero(sure)  # the others (not a number, say) are built one by one
-    sure[check] = shapely.is_valid(shapely.polygons(plane[check]))
+    plane = np.empty((len(check), n_corners, 2))
+    for i, m in enumerate(check):
+        plane[i, :, 0] = rel[m] @ e1[m]
+        plane[i, :, 1] = rel[m] @ e2[m]
+    polygons = np.full(n_plates, None, dtype=object)
+    polygons[check] = shapely.polygons(plane)
+    sure[check] = shapely.is_valid(polygons[check])
     out = []
     for m, name in enumerate(names):
         if not sure[m]:
@@ -101,6 +105,7 @@ def _plates(pts: np.ndarray, kind: str, names: list) -> list[Plate]:
         object.__setattr__(plate, "kind", kind)
         object.__setattr__(plate, "name", _check_text("name", name))
         plate.__dict__["frame"] = (origin[m], e1[m], e2[m], normal[m])
+        plate.__dict__["plane_polygon"] = polygons[m]
         out.append(plate)
     return out
 

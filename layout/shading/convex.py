@@ -31,3 +31,29 @@ def _convex_parts(polygon: shapely.Polygon) -> tuple[np.ndarray, np.ndarray]:
     normal = np.stack([edge[..., 1] * sign, -edge[..., 0] * sign], axis=-1)
     offset = np.sum(normal * ring, axis=-1)
     return normal, offset
+
+
+def _convex_outlines(polygons) -> tuple[np.ndarray, np.ndarray] | None:
+    """Edge normals (M, K, 2) and offsets (M, K) of many convex polygons of K corners each.
+
+    For each polygon the same values as its one part from :func:`_convex_parts`, computed at
+    once (the same sums over the same axes); None unless every polygon is convex and all
+    have the same number of corners.
+    """
+    polygons = np.asarray(polygons, dtype=object)
+    if not (shapely.area(polygons) >= shapely.area(shapely.convex_hull(polygons))
+            * (1 - 1e-12)).all():
+        return None
+    exteriors = shapely.get_exterior_ring(polygons)
+    sizes = shapely.get_num_coordinates(exteriors)
+    if len(set(sizes.tolist())) != 1:
+        return None
+    ring = shapely.get_coordinates(exteriors).reshape(len(polygons), int(sizes[0]), 2)[:, :-1]
+    ring = np.ascontiguousarray(ring)
+    nxt = np.roll(ring, -1, axis=1)
+    edge = nxt - ring
+    area2 = np.sum(ring[..., 0] * nxt[..., 1] - nxt[..., 0] * ring[..., 1], axis=1)
+    sign = np.where(area2 > 0, 1.0, -1.0)[:, None]
+    normal = np.stack([edge[..., 1] * sign, -edge[..., 0] * sign], axis=-1)
+    offset = np.sum(normal * ring, axis=-1)
+    return normal, offset

@@ -27,6 +27,7 @@ import shapely
 from ..errors import InputError
 from ..scene.obstructions import PLANE_TOLERANCE_M, Plate
 from ..scene.obstructions_batch import plates_from_corners
+from .convex import _convex_outlines
 from .plates import _INSIDE_SLACK, _dot3, _hit_plate, _plate_geometry
 
 __all__ = ["PlateSet", "module_casters"]
@@ -91,21 +92,19 @@ class PlateSet:
 @functools.lru_cache(maxsize=256)
 def _stacked(plate_set: PlateSet):
     """Each plate's kernel terms stacked (P, ...), or None when the plates cannot be a set."""
-    geometry = [_plate_geometry(p) for p in plate_set.plates]
-    shapes = {g[4].shape for g in geometry}
-    if len(shapes) != 1 or next(iter(shapes))[0] != 1:  # one convex part each, one shape
+    # one convex part each, one shape: the edges of all the outlines at once (the values of
+    # _plate_geometry, plate by plate)
+    parts = _convex_outlines([p.plane_polygon for p in plate_set.plates])
+    if parts is None:
         return None
     origin, _, _, normal = plate_set.plates[0].frame
     corners = np.vstack([np.asarray(p.corners) for p in plate_set.plates])
     if np.abs((corners - origin) @ normal).max() > _COPLANAR_M:
         return None
-    origins = np.array([g[0] for g in geometry])
-    e1 = np.array([g[1] for g in geometry])
-    e2 = np.array([g[2] for g in geometry])
-    normals = np.array([g[3] for g in geometry])
-    part_normal = np.array([g[4][0] for g in geometry])  # (P, K, 2)
-    limit = np.array([g[5][0] for g in geometry]) + _INSIDE_SLACK  # (P, K)
-    return origins, e1, e2, normals, part_normal, limit
+    frames = [p.frame for p in plate_set.plates]
+    origins, e1, e2, normals = (np.array([f[k] for f in frames]) for k in range(4))
+    part_normal, offset = parts  # (P, K, 2), (P, K)
+    return origins, e1, e2, normals, part_normal, offset + _INSIDE_SLACK
 
 
 @functools.lru_cache(maxsize=256)

@@ -1136,12 +1136,26 @@ def test_plates_built_in_a_batch_equal_the_one_by_one_plates():
     def same(a, b):
         return a == b and a.corners == b.corners and all(
             x.dtype == y.dtype and np.array_equal(x, y)
-            for x, y in zip(a.frame, b.frame, strict=True))
+            for x, y in zip(a.frame, b.frame, strict=True)) \
+            and a.plane_polygon.equals_exact(b.plane_polygon, tolerance=0.0)
 
     mods = _rack_modules(generic_60_cell(330.0), "portrait", 20.0, 2.4, n_rows=4, n_cols=10)
     batch = plates_from_corners([m.corners_3d for m in mods], kind="module",
                                 names=[m.id for m in mods])
     assert all(same(Plate.from_module(m), p) for m, p in zip(mods, batch, strict=True))
+    # a plate set's stacked terms (its outlines' edges found at once) are each plate's own
+    from layout.shading.plate_sets import PlateSet, _stacked
+    from layout.shading.plates import _INSIDE_SLACK, _plate_geometry
+
+    sets = [c for c in module_casters(mods) if isinstance(c, PlateSet)]
+    assert sets
+    for plate_set in sets:
+        geometry = [_plate_geometry(p) for p in plate_set.plates]
+        want = [np.array([g[k] for g in geometry]) for k in range(4)] + [
+            np.array([g[4][0] for g in geometry]), np.array([g[5][0] for g in geometry])]
+        got = _stacked(plate_set)
+        assert all(np.array_equal(a, b) for a, b in zip(got[:5], want[:5], strict=True))
+        assert np.array_equal(got[5], want[5] + _INSIDE_SLACK)
     rng = np.random.default_rng(12)
     checked = 0
     for k in (3, 4, 5, 8):
