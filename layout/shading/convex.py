@@ -22,7 +22,11 @@ def _convex_parts(polygon: shapely.Polygon) -> tuple[np.ndarray, np.ndarray]:
     else:
         parts = shapely.get_parts(shapely.constrained_delaunay_triangles(polygon))
         rings = [shapely.get_coordinates(p)[:-1] for p in parts]
-    ring = np.stack(rings)  # (P, K, 2)
+    return _edge_planes(np.stack(rings))
+
+
+def _edge_planes(ring: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Outward edge normals (P, K, 2) and offsets (P, K) of convex rings (P, K, 2)."""
     nxt = np.roll(ring, -1, axis=1)
     edge = nxt - ring
     # shoelace: positive for counter-clockwise parts
@@ -49,11 +53,4 @@ def _convex_outlines(polygons) -> tuple[np.ndarray, np.ndarray] | None:
     if len(set(sizes.tolist())) != 1:
         return None
     ring = shapely.get_coordinates(exteriors).reshape(len(polygons), int(sizes[0]), 2)[:, :-1]
-    ring = np.ascontiguousarray(ring)
-    nxt = np.roll(ring, -1, axis=1)
-    edge = nxt - ring
-    area2 = np.sum(ring[..., 0] * nxt[..., 1] - nxt[..., 0] * ring[..., 1], axis=1)
-    sign = np.where(area2 > 0, 1.0, -1.0)[:, None]
-    normal = np.stack([edge[..., 1] * sign, -edge[..., 0] * sign], axis=-1)
-    offset = np.sum(normal * ring, axis=-1)
-    return normal, offset
+    return _edge_planes(np.ascontiguousarray(ring))
