@@ -179,10 +179,17 @@ class ShadeCache:
             ``reduce``).
         """
         lab, g = _check_labels(labels, len(self.points), n_groups)
+        return _group_shade_rows(len(self.sun), len(self.points), self.prepared_hits(), lab, g,
+                                 reduce=reduce)
+
+    def prepared_hits(self) -> list:
+        """Return each obstruction's hits with their beam factors (:func:`_prepare_hits`).
+
+        The factors are attached once per obstruction and kept with its hits.
+        """
         prepared = []
-        for ob in self.obstructions:  # factors attached once per obstruction, kept with hits
+        for ob in self.obstructions:
             if ob not in self._prepared:
                 self._prepared[ob] = _prepare_hits(ob, self._hits[ob], self.month)
             prepared.append(self._prepared[ob])
-        return _group_shade_rows(len(self.sun), len(self.points), prepared, lab, g,
-                                 reduce=reduce)
+        return prepared

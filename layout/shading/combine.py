@@ -78,8 +78,9 @@ def _prepare_hits(obstruction, hits: ShadeHits, month, dtype=np.float32):
             raise InputError("month", "is needed for a tree with a crown transmittance",
                              allowed="one month number (1-12) per sun step")
         per_step = obstruction.monthly_transmittance.astype(dtype)[month - 1]
-        factor = per_step[hits.step]
-        factor[~hits.crown_only] = 0.0
+        factor = np.take(per_step, hits.step)  # faster than per_step[step] for uint16 steps
+        if not hits.crown_only.all():  # a trunk's hits: opaque
+            factor[~hits.crown_only] = 0.0
         if not factor.any():
             factor = None
     return (hits.step, hits.point, factor)

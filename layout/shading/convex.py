@@ -22,10 +22,10 @@ def _convex_parts(polygon: shapely.Polygon) -> tuple[np.ndarray, np.ndarray]:
     else:
         parts = shapely.get_parts(shapely.constrained_delaunay_triangles(polygon))
         rings = [shapely.get_coordinates(p)[:-1] for p in parts]
-    return _half_planes(np.stack(rings))  # (P, K, 2)
+    return _edge_planes(np.stack(rings))
 
 
-def _half_planes(ring: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def _edge_planes(ring: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Outward edge normals (P, K, 2) and offsets (P, K) of convex rings (P, K, 2)."""
     nxt = np.roll(ring, -1, axis=1)
     edge = nxt - ring
@@ -37,21 +37,20 @@ def _half_planes(ring: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return normal, offset
 
 
-def _convex_parts_many(polygons) -> tuple[np.ndarray, np.ndarray] | None:
-    """:func:`_convex_parts` of many convex polygons of as many corners each, at once.
+def _convex_outlines(polygons) -> tuple[np.ndarray, np.ndarray] | None:
+    """Edge normals (M, K, 2) and offsets (M, K) of many convex polygons of K corners each.
 
-    Returns the edge normals (P, K, 2) and offsets (P, K) of the polygons, each its own one
-    part, the same values bit for bit as :func:`_convex_parts` gives one by one (the same
-    operations on rows of the same length); None when some polygon is concave or the corner
-    counts differ (then take them one by one).
+    For each polygon the same values as its one part from :func:`_convex_parts`, computed at
+    once (the same sums over the same axes); None unless every polygon is convex and all
+    have the same number of corners.
     """
     polygons = np.asarray(polygons, dtype=object)
-    if not len(polygons) or not (shapely.area(polygons) >= shapely.area(
-            shapely.convex_hull(polygons)) * (1 - 1e-12)).all():
+    if not (shapely.area(polygons) >= shapely.area(shapely.convex_hull(polygons))
+            * (1 - 1e-12)).all():
         return None
-    counts = shapely.get_num_coordinates(shapely.get_exterior_ring(polygons))
-    if (counts != counts[0]).any():
+    exteriors = shapely.get_exterior_ring(polygons)
+    sizes = shapely.get_num_coordinates(exteriors)
+    if len(set(sizes.tolist())) != 1:
         return None
-    ring = shapely.get_coordinates(shapely.get_exterior_ring(polygons)).reshape(
-        len(polygons), counts[0], 2)[:, :-1]
-    return _half_planes(np.ascontiguousarray(ring))
+    ring = shapely.get_coordinates(exteriors).reshape(len(polygons), int(sizes[0]), 2)[:, :-1]
+    return _edge_planes(np.ascontiguousarray(ring))

@@ -316,16 +316,17 @@ def _crown_ranges(points, sun_order: _SunOrder, tree: Tree):
 
     el_min = np.where(inside, -0.5 * math.pi, true_elevation(ec - ang)) - _CROWN_MARGIN
     el_max = np.where(inside, 0.5 * math.pi, true_elevation(ec + ang)) + _CROWN_MARGIN
+    # the per-point terms of each run, once a point (the same values as per run)
+    sin_ec, cos_ec, cos_ang = np.sin(ec), np.cos(ec), np.cos(ang)
 
     def tighten(local, sector, run_lo, run_hi):
         d0, d1, d_min = _sector_offsets(center[local], sector)
         reach = half_cap[local]
         d_max = np.minimum(np.maximum(np.abs(d0), np.abs(d1)), reach)
         d_min = np.minimum(d_min, reach)
-        e = ec[local]
-        a_, cos_e = np.sin(e), np.cos(e)
+        a_, cos_e = sin_ec[local], cos_ec[local]
         b_near, b_far = cos_e * np.cos(d_min), cos_e * np.cos(d_max)
-        width_near = np.arccos(np.clip(np.cos(ang[local]) / np.hypot(a_, b_near), -1.0, 1.0))
+        width_near = np.arccos(np.clip(cos_ang[local] / np.hypot(a_, b_near), -1.0, 1.0))
         psi_near, psi_far = np.arctan2(a_, b_near), np.arctan2(a_, b_far)
         up = a_ >= 0
         lo = np.where(up, psi_near, psi_far) - width_near
@@ -386,5 +387,6 @@ def _expand_runs(point, start, count):
     total = int(count.sum())
     first = np.cumsum(count) - count
     pt = np.repeat(point, count)
-    pos = np.repeat(start - first, count) + np.arange(total)
+    pos = np.repeat(start - first, count)
+    pos += np.arange(total)  # in place: a third large array costs more than the sum
     return pt, pos

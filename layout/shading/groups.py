@@ -44,6 +44,75 @@ def _sorted_by_step(entry, n_steps: int):
     return step[order], point[order], None if factor is None else factor[order]
 
 
+def _split_entries(n_steps: int, prepared_hits):
+    """Split prepared hits (:func:`_prepare_hits`) into the far horizon's steps and the rest.
+
+    Returns ``(horizon, entries)``: the steps below a far horizon (bool, (T,)) and the
+    ``(step, point, factor)`` entries of the other obstructions that have hits.
+    """
+    horizon = np.zeros(n_steps, dtype=bool)
+    entries = []
+    for entry in prepared_hits:
+        if entry is None:
+            continue
+        if isinstance(entry[0], str):  # ("horizon", blocked_steps)
+            horizon |= entry[1]
+            continue
+        entries.append(entry)
+    return horizon, entries
+
+
+def _rows_with_shade(horizon: np.ndarray, entries) -> np.ndarray:
+    """Return the increasing steps with a hit of some entry or below the far horizon."""
+    with_shade = horizon.copy()
+    for step, _, _ in entries:
+        with_shade[step.astype(np.intp, copy=False)] = True  # an intp index sets faster
+    return np.flatnonzero(with_shade)
+
+
+def _row_numbers(n_steps: int, rows: np.ndarray) -> np.ndarray:
+    """Return each step's position in ``rows`` (0 for a step not in them), intp (T,)."""
+    row_of = np.zeros(n_steps, dtype=np.intp)
+    row_of[rows] = np.arange(len(rows))
+    return row_of
+
+
+def _row_blocks(n_steps: int, rows: np.ndarray, per: int, entries):
+    """Yield ``(r0, r1, parts)`` for blocks of ``per`` rows: each entry's hits at ``rows[r0:r1]``.
+
+    ``rows`` holds every step with a hit. With one block the entries are given whole; with a
+    few blocks (at most :data:`_MASK_BLOCKS`) each block picks its hits by a mask over their
+    steps; with more, hits are sorted by step once (hits in step order are left as they are)
+    and each block is a slice of them.
+    """
+    n_rows = len(rows)
+    if n_rows <= per:
+        yield 0, n_rows, entries
+        return
+    cuts = None
+    if _blocks(n_rows, per) > _MASK_BLOCKS:
+        entries = [_sorted_by_step(entry, n_steps) for entry in entries]
+        # where each block's hits begin in each entry, found once (in the steps' own dtype,
+        # so that no search converts the steps); a block ends where the next begins, as the
+        # rows hold every step with a hit
+        first = rows[::per]
+        cuts = [np.r_[np.searchsorted(step, first.astype(step.dtype)), len(step)]
+                for step, _, _ in entries]
+    for b, r0 in enumerate(range(0, n_rows, per)):
+        r1 = min(n_rows, r0 + per)
+        parts = []
+        for k, (step, point, factor) in enumerate(entries):
+            if cuts is not None:
+                part = slice(cuts[k][b], cuts[k][b + 1])
+            else:  # a few blocks: each picks its hits by their steps, no sort
+                kind = step.dtype.type  # bounds in the steps' dtype: no conversion of them
+                part = step >= kind(rows[r0]) if r0 else np.ones(len(step), dtype=bool)
+                if r1 < n_rows:
+                    part &= step < kind(rows[r1])
+            parts.append((step[part], point[part], None if factor is None else factor[part]))
+        yield r0, r1, parts
+
+
 def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, rows=None,
                       out=None, reduce=None):
     """Shaded beam fraction per group of points at the steps where some ray is blocked.
@@ -87,20 +156,9 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
     more, hits are sorted by step (hits already in step order are left as they are). With
     ``reduce`` only one block of values is held.
     """
-    horizon = np.zeros(n_steps, dtype=bool)
-    prepared = []
-    for entry in prepared_hits:
-        if entry is None:
-            continue
-        if isinstance(entry[0], str):  # ("horizon", blocked_steps)
-            horizon |= entry[1]
-            continue
-        prepared.append(entry)
+    horizon, prepared = _split_entries(n_steps, prepared_hits)
     if rows is None:
-        with_shade = horizon.copy()
-        for step, _, _ in prepared:
-            with_shade[step] = True
-        rows = np.flatnonzero(with_shade)
+        rows = _rows_with_shade(horizon, prepared)
     n_rows = len(rows)
     if reduce is not None:
         values = None
@@ -118,50 +176,30 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
     regular = (len(present) == n_groups and size * n_groups == n_points
                and np.array_equal(starts, np.arange(n_groups) * size))
     direct = regular and size == 1  # one point a group: the beam block is the values block
-    row_of = np.zeros(n_steps, dtype=np.intp)  # step -> its column in the values
-    row_of[rows] = np.arange(n_rows)
+    row_of = _row_numbers(n_steps, rows)
     per = max(1, _DENSE_BLOCK // max(1, n_points))
     if direct and values is not None and values.flags.c_contiguous:
         per = n_rows  # the values block is the beam: no block beside it, however large
-    cuts = None
-    masked = n_rows > per and _blocks(n_rows, per) <= _MASK_BLOCKS
-    if n_rows > per and not masked:
-        prepared = [_sorted_by_step(entry, n_steps) for entry in prepared]
-        # where each block's hits begin in each entry, found once (in the steps' own dtype,
-        # so that no search converts the steps); a block ends where the next begins, as the
-        # rows hold every step with a hit
-        first = rows[::per]
-        cuts = [np.r_[np.searchsorted(step, first.astype(step.dtype)), len(step)]
-                for step, _, _ in prepared]
     blocked = row_of[np.flatnonzero(horizon)]  # columns below the far horizon
     # one point a group and only opaque hits: the block holds the shade itself (0 or 1,
     # exactly 1 - beam), with no pass to turn beam into shade
     as_shade = direct and all(factor is None for _, _, factor in prepared)
-    for r0 in range(0, n_rows, per):
-        r1 = min(n_rows, r0 + per)
+    for r0, r1, parts in _row_blocks(n_steps, rows, per, prepared):
         width = r1 - r0
         whole = direct and width == n_rows and values is not None \
             and values.flags.c_contiguous
         beam = values if whole else np.empty((n_points, width), dtype=np.float32)
         beam.fill(0.0 if as_shade else 1.0)
         flat_beam = beam.reshape(-1)
-        for k, (step, point, factor) in enumerate(prepared):
-            part = slice(None)
-            if cuts is not None:
-                part = slice(cuts[k][r0 // per], cuts[k][r0 // per + 1])
-            elif masked:  # a few blocks: each picks its hits by their steps, no sort
-                kind = step.dtype.type  # bounds in the steps' dtype: no conversion of them
-                part = step >= kind(rows[r0]) if r0 else np.ones(len(step), dtype=bool)
-                if r1 < n_rows:
-                    part &= step < kind(rows[r1])
-            flat = point[part].astype(np.intp) * width
-            flat += row_of[step[part]]
+        for step, point, factor in parts:
+            flat = point.astype(np.intp) * width
+            flat += np.take(row_of, step)  # faster than row_of[step] for uint16 steps
             if r0:
                 flat -= r0
             if factor is None:
                 flat_beam[flat] = 1.0 if as_shade else 0.0
             else:
-                flat_beam[flat] *= factor[part]  # each (step, point) once per obstruction
+                flat_beam[flat] *= factor  # each (step, point) once per obstruction
         block = beam if direct and reduce is not None else \
             np.empty((n_groups, width), dtype=np.float32) if reduce is not None \
             else values[:, r0:r1]

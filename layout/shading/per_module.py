@@ -26,6 +26,7 @@ from .cache import THREADED_RAYS, ShadeCache
 from .combine import _check_month, _prepare_hits
 from .groups import _group_shade_rows
 from .hits import DEFAULT_MAX_PAIRS, Facing, _obstruction_hits
+from .module_tiles import _exact_sums, _tile_shade_rows
 from .plate_sets import module_casters
 from .point_groups import _point_groups
 from .rays import RAY_START_M, _check_sun
@@ -223,11 +224,12 @@ class _Reductions:
         if self.mean is not None:
             return
         n_mod, n_sub = self.n_mod, len(self.cells)
-        self.mean = np.empty((n_mod, n_rows))
-        self.worst = np.empty((n_mod, n_sub, n_rows), dtype=np.float32)
+        # zeros: module tiles (:meth:`at_tiles`) fill only where some cell has shade
+        self.mean = np.zeros((n_mod, n_rows))
+        self.worst = np.zeros((n_mod, n_sub, n_rows), dtype=np.float32)
         if self.keep_cells:
-            self.substring = np.empty((n_mod, n_sub, n_rows), dtype=np.float32)
-            self.by_cell = np.empty((n_mod, self.n_cells, n_rows), dtype=np.float32)
+            self.substring = np.zeros((n_mod, n_sub, n_rows), dtype=np.float32)
+            self.by_cell = np.zeros((n_mod, self.n_cells, n_rows), dtype=np.float32)
 
     def at(self, m0: int):
         """Return the ``reduce`` callback for a block of modules starting at module ``m0``."""
@@ -257,6 +259,33 @@ class _Reductions:
                         / len(index)
             if self.by_cell is not None:
                 self.by_cell[m0:m1, :, r0:r1] = cells
+        return reduce
+
+    def at_tiles(self, m0: int):
+        """Return the ``reduce`` callback of :func:`_tile_shade_rows` for modules from ``m0``.
+
+        The same figures as :meth:`at` from the tiles alone (the rest stay 0): a module's
+        mean and a substring's mean are float64 sums of float32 shade values, exact in any
+        order where :func:`_exact_sums` holds, so equal to the dense block's.
+        """
+        def reduce(rows, r0, r1, tile_row, tile_module, values):
+            self.allocate(len(rows))
+            module, column = tile_module + m0, tile_row + r0
+            self.mean[module, column] = values.sum(axis=0, dtype=np.float64) / self.n_cells
+            if self.pattern is not None and self.substring is None:
+                # cells as (repeat, substring, run): the worst over repeats, then over runs
+                n_sub, run = len(self.cells), self.pattern
+                worst = values.reshape(-1, n_sub * run, len(module)).max(axis=0)
+                self.worst[module, :, column] = worst.reshape(n_sub, run, -1).max(axis=1).T
+                return
+            for s, index in enumerate(self.cells):
+                part = values[index]
+                self.worst[module, s, column] = part.max(axis=0)
+                if self.substring is not None:
+                    self.substring[module, s, column] = part.sum(axis=0, dtype=np.float64) \
+                        / len(index)
+            if self.by_cell is not None:
+                self.by_cell[module, :, column] = values.T
         return reduce
 
 
@@ -361,8 +390,8 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
                              allowed="ShadeCache(samples.points, sun, normals=samples.normals)")
         cache.update(casters)
         sums = _Reductions(n_mod, cell_substring, keep_cells)
-        steps, _ = cache.group_shade_rows(samples.cell_group, n_groups=n_mod * n_cells,
-                                          reduce=sums.at(0))
+        steps = _reduce_shade(len(sun_v), cache.prepared_hits(), samples.cell_group,
+                              n_mod * n_cells, sums, 0)
     else:
         order = _sun_order(sun_v)
         facing = Facing.from_normals(sun_v, samples.normals)
@@ -383,9 +412,26 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
                                                            sub_facing, groups), m)
             threads = None if len(pts) * len(sun_v) >= THREADED_RAYS else 1
             prepared = parallel_map(prepared_hits, casters, threads=threads)
-            labels = samples.cell_group[sel] - m0 * n_cells
-            _group_shade_rows(len(sun_v), len(pts), prepared, labels, (m1 - m0) * n_cells,
-                              rows=steps, reduce=sums.at(m0))
+            _reduce_shade(len(sun_v), prepared, samples.cell_group[sel] - m0 * n_cells,
+                          (m1 - m0) * n_cells, sums, m0, rows=steps)
     sums.allocate(len(steps))  # no row at all: empty arrays
     return ModuleShade(samples.module_ids, steps, len(sun_v), cell_substring, sums.mean,
                        sums.worst, sums.by_cell, sums.substring)
+
+
+def _reduce_shade(n_steps, prepared, labels, n_groups, sums: _Reductions, m0: int, *,
+                  rows=None) -> np.ndarray:
+    """Reduce the shade of a run of modules' cells into ``sums``; return the rows held.
+
+    With one sample point a cell (``labels`` 0, 1, 2, ...) and sums that are exact in any
+    order (:func:`_exact_sums`), only the tiles of (module, step) with a hit are built
+    (:func:`_tile_shade_rows`); otherwise the dense blocks of :func:`_group_shade_rows`.
+    """
+    n_points, n_cells = len(labels), sums.n_cells
+    if n_groups == n_points and np.array_equal(labels, np.arange(n_points)) \
+            and _exact_sums(prepared, n_cells):
+        return _tile_shade_rows(n_steps, n_points, prepared, n_cells, sums.at_tiles(m0),
+                                rows=rows)
+    rows, _ = _group_shade_rows(n_steps, n_points, prepared, labels, n_groups, rows=rows,
+                                reduce=sums.at(m0))
+    return rows

@@ -26,7 +26,8 @@ import shapely
 
 from ..errors import InputError
 from ..scene.obstructions import PLANE_TOLERANCE_M, Plate
-from .convex import _convex_parts_many
+from ..scene.obstructions_batch import plates_from_corners
+from .convex import _convex_outlines
 from .plates import _INSIDE_SLACK, _dot3, _hit_plate, _plate_geometry
 
 __all__ = ["PlateSet", "module_casters"]
@@ -91,25 +92,19 @@ class PlateSet:
 @functools.lru_cache(maxsize=256)
 def _stacked(plate_set: PlateSet):
     """Each plate's kernel terms stacked (P, ...), or None when the plates cannot be a set."""
-    plates = plate_set.plates
-    # the convex parts of all plates at once (the modules of a row: convex, one shape), the
-    # very values _plate_geometry gives plate by plate
-    parts = _convex_parts_many([p.plane_polygon for p in plates])
+    # one convex part each, one shape: the edges of all the outlines at once (the values of
+    # _plate_geometry, plate by plate)
+    parts = _convex_outlines([p.plane_polygon for p in plate_set.plates])
     if parts is None:
-        geometry = [_plate_geometry(p) for p in plates]
-        shapes = {g[4].shape for g in geometry}
-        if len(shapes) != 1 or next(iter(shapes))[0] != 1:  # one convex part each, one shape
-            return None
-        parts = (np.array([g[4][0] for g in geometry]), np.array([g[5][0] for g in geometry]))
-    origin, _, _, normal = plates[0].frame
-    corners = np.vstack([np.asarray(p.corners) for p in plates])
+        return None
+    origin, _, _, normal = plate_set.plates[0].frame
+    corners = np.vstack([np.asarray(p.corners) for p in plate_set.plates])
     if np.abs((corners - origin) @ normal).max() > _COPLANAR_M:
         return None
-    frames = [p.frame for p in plates]  # what _plate_geometry takes (origin, e1, e2, normal)
+    frames = [p.frame for p in plate_set.plates]
     origins, e1, e2, normals = (np.array([f[k] for f in frames]) for k in range(4))
-    part_normal = parts[0]  # (P, K, 2)
-    limit = parts[1] + _INSIDE_SLACK  # (P, K)
-    return origins, e1, e2, normals, part_normal, limit
+    part_normal, offset = parts  # (P, K, 2), (P, K)
+    return origins, e1, e2, normals, part_normal, offset + _INSIDE_SLACK
 
 
 @functools.lru_cache(maxsize=256)
@@ -317,7 +312,11 @@ def module_casters(modules) -> tuple:
 
 @functools.lru_cache(maxsize=8)
 def _module_casters(modules: tuple) -> tuple:
-    plates = [Plate.from_module(m) for m in modules]
+    corners = [m.corners_3d for m in modules]
+    if len({len(c) for c in corners}) == 1:  # one corner count: validated in a batch
+        plates = plates_from_corners(corners, kind="module", names=[m.id for m in modules])
+    else:
+        plates = [Plate.from_module(m) for m in modules]
     groups: dict = defaultdict(list)
     for plate in plates:
         origin, _, _, normal = plate.frame

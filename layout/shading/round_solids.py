@@ -111,11 +111,12 @@ def _tree_kernels(tree: Tree, pts: np.ndarray, sun_v: np.ndarray, start: float):
     outside = bool((fc >= 4.0 * float(ga.max()) * start * start).all()) if len(fc) else True
 
     def crown(p, st):
-        a = ga[st]
-        b = fx[p] * gx[st]
-        b += fy[p] * gy[st]
-        b += fz[p] * gz[st]
-        c = fc[p]
+        take = np.take  # faster than fancy indexing, the same values
+        a = take(ga, st)
+        b = take(fx, p) * take(gx, st)
+        b += take(fy, p) * take(gy, st)
+        b += take(fz, p) * take(gz, st)
+        c = take(fc, p)
         if outside:
             hit = b * b >= a * c
             hit &= b < 0

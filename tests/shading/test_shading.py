@@ -721,6 +721,55 @@ def test_module_shade_without_cells_keeps_the_same_reductions(per_cell, steps_a_
         assert lean.worst_rows.max() > 0
 
 
+@pytest.mark.parametrize("steps_a_block", [None, 3, 7])
+@pytest.mark.parametrize("keep_cells", [False, True])
+def test_module_tiles_equal_the_dense_blocks(steps_a_block, keep_cells, monkeypatch):
+    # one point a cell: only the (module, step) tiles with a hit are built; every figure
+    # (module means, substring means and worst cells, the cells) equals the one reduced
+    # from the dense blocks, bit for bit: with a crown's transmittance, a second crown
+    # over it, a far horizon (every module's tile of 1), in one block, 12 (masks) or 27
+    # (sorted) blocks; substrings across the module (cells 0 0 1 1 2 2 ...) and along it
+    # (2 substrings of 30 cells), as a pattern or (with the cells kept) picked by labels
+    from layout.shading import groups, module_tiles
+    from layout.shading.combine import _prepare_hits
+    from layout.shading.per_module import _exact_sums, _reduce_shade, _Reductions
+
+    spec, mods, sun, month, tree, scene = _small_rack_scene(8, 80, 3)
+    scene = [*scene, replace(tree, center=(1.0, -5.0), height=9.0),
+             HorizonProfile((0.0, 180.0), (3.0, 8.0))]
+    if steps_a_block is not None:
+        monkeypatch.setattr(groups, "_DENSE_BLOCK", 6 * spec.cell_count * steps_a_block)
+        monkeypatch.setattr(module_tiles, "_TILE_ROWS", 1)  # the tiles' blocks as small
+    for module_spec in (spec, replace(spec, substring_axis="width", bypass_diodes=2)):
+        samples = module_samples(mods, module_spec)
+        cell_substring = np.asarray(module_spec.substring_of_cell(
+            np.arange(module_spec.cell_count)), dtype=np.intp)
+        cache = ShadeCache(samples.points, sun, [*scene, *module_casters(mods)], month=month,
+                           normals=samples.normals)
+        prepared = cache.prepared_hits()
+        assert _exact_sums(prepared, module_spec.cell_count)
+        n_groups = len(samples.points)
+        tiled = _Reductions(len(mods), cell_substring, keep_cells)
+        rows = _reduce_shade(len(sun), prepared, samples.cell_group, n_groups, tiled, 0)
+        dense = _Reductions(len(mods), cell_substring, keep_cells)
+        dense_rows, _ = groups._group_shade_rows(len(sun), n_groups, prepared,
+                                                 samples.cell_group, n_groups,
+                                                 reduce=dense.at(0))
+        assert np.array_equal(rows, dense_rows)
+        for name in ("mean", "worst", "substring", "by_cell"):
+            got, want = getattr(tiled, name), getattr(dense, name)
+            assert (got is None) == (want is None)
+            assert got is None or (got.dtype == want.dtype and np.array_equal(got, want))
+        assert 0 < (dense.mean > 0).mean() < 1 and (dense.mean == 1).any()
+        assert (dense.worst % 1 > 0).any()  # shade through a crown
+        # a crown that lets through all but a hair of the beam: the sums might round,
+        # so the dense blocks are used
+        clear = [(entry[0], entry[1], np.full(len(entry[0]), np.float32(1 - 2.0 ** -24)))
+                 for entry in prepared if entry is not None and len(entry) == 3]
+        assert not _exact_sums(clear, module_spec.cell_count)
+        assert _prepare_hits(tree, cache.hits(tree), month)[2] is not None
+
+
 @pytest.mark.parametrize("labels, run", [
     ([0, 0, 1, 1, 2, 2] * 10, 2),  # the generic 60-cell module: pairs of columns
     ([0] * 20 + [1] * 20 + [2] * 20, 20),  # contiguous substrings
@@ -1073,3 +1122,73 @@ def test_far_groups_of_a_plate_set_keep_its_plane_rule():
     want = _obstruction_hits(pts, sun, plate_set, RAY_START_M, 1 << 19, True, order)
     assert len(want) > 0 and hit_set(got) == hit_set(want) and len(got) == len(want)
     assert not np.isin(got.point, np.flatnonzero(pts[:, 2] == 3.0)).any()
+
+
+def test_plates_built_in_a_batch_equal_the_one_by_one_plates():
+    # module casters are validated in a batch (layout/scene/obstructions_batch.py): every
+    # plate equals Plate(...) field for field, its frame bit for bit (the plate-set kernels
+    # and culling read it), on rack modules and random planar polygons of 3-8 corners in
+    # random planes; a bad plate (a repeated corner, a corner off the plane, edges that
+    # cross, not a number) raises the same error as the one-by-one constructor
+    from layout.scene.modules import generic_60_cell
+    from layout.scene.obstructions_batch import plates_from_corners
+
+    def same(a, b):
+        return a == b and a.corners == b.corners and all(
+            x.dtype == y.dtype and np.array_equal(x, y)
+            for x, y in zip(a.frame, b.frame, strict=True)) \
+            and a.plane_polygon.equals_exact(b.plane_polygon, tolerance=0.0)
+
+    mods = _rack_modules(generic_60_cell(330.0), "portrait", 20.0, 2.4, n_rows=4, n_cols=10)
+    batch = plates_from_corners([m.corners_3d for m in mods], kind="module",
+                                names=[m.id for m in mods])
+    assert all(same(Plate.from_module(m), p) for m, p in zip(mods, batch, strict=True))
+    # a plate set's stacked terms (its outlines' edges found at once) are each plate's own
+    from layout.shading.plate_sets import PlateSet, _stacked
+    from layout.shading.plates import _INSIDE_SLACK, _plate_geometry
+
+    sets = [c for c in module_casters(mods) if isinstance(c, PlateSet)]
+    assert sets
+    for plate_set in sets:
+        geometry = [_plate_geometry(p) for p in plate_set.plates]
+        want = [np.array([g[k] for g in geometry]) for k in range(4)] + [
+            np.array([g[4][0] for g in geometry]), np.array([g[5][0] for g in geometry])]
+        got = _stacked(plate_set)
+        assert all(np.array_equal(a, b) for a, b in zip(got[:5], want[:5], strict=True))
+        assert np.array_equal(got[5], want[5] + _INSIDE_SLACK)
+    rng = np.random.default_rng(12)
+    checked = 0
+    for k in (3, 4, 5, 8):
+        ang = np.sort(rng.uniform(0, 2 * np.pi, (60, k)), axis=1)
+        uv = rng.uniform(0.3, 5, (60, k, 1)) * np.stack([np.cos(ang), np.sin(ang)], axis=2)
+        normal = rng.normal(size=(60, 3))
+        normal /= np.linalg.norm(normal, axis=1)[:, None]
+        e1 = np.cross(normal, rng.normal(size=(60, 3)))
+        e1 /= np.linalg.norm(e1, axis=1)[:, None]
+        e2 = np.cross(normal, e1)
+        pts = rng.uniform(-50, 50, (60, 1, 3)) + uv[..., :1] * e1[:, None] \
+            + uv[..., 1:] * e2[:, None]
+        names = [f"p{i}" for i in range(60)]
+        kept, plates = [], []
+        for i in range(60):
+            try:
+                plates.append(Plate(pts[i], kind="roof", name=names[i]))
+                kept.append(i)
+            except InputError:
+                pass
+        got = plates_from_corners(pts[kept], kind="roof", names=[names[i] for i in kept])
+        assert all(same(a, b) for a, b in zip(plates, got, strict=True))
+        checked += len(kept)
+    assert checked > 200
+    square = np.array([[0, 0, 3], [2, 0, 3], [2, 1, 3], [0, 1, 3]], dtype=float)
+    bad = [square.copy() for _ in range(4)]
+    bad[0][2] = bad[0][1]  # a repeated corner
+    bad[1][3, 2] += 0.01  # off the plane
+    bad[2][[1, 2]] = bad[2][[2, 1]]  # edges that cross
+    bad[3][1, 0] = np.nan  # not a number
+    for corners in bad:
+        with pytest.raises(InputError) as one:
+            Plate(corners, kind="module", name="m")
+        with pytest.raises(InputError) as batched:
+            plates_from_corners([square, corners], kind="module", names=["ok", "m"])
+        assert str(batched.value) == str(one.value)
