@@ -12,14 +12,20 @@ value.
 
 from __future__ import annotations
 
+import itertools
+
 import numpy as np
 
+from ..runtime import parallel_map, worker_threads
 from . import groups
 from .groups import _row_blocks, _row_numbers, _rows_with_shade, _split_entries
 
 #: Rows of a block of tiles, in rows of a dense block (:data:`groups._DENSE_BLOCK` values):
 #: tiles hold the modules a step shades, a quarter of them or fewer on a rack roof.
 _TILE_ROWS = 4
+#: (point, step) values from which blocks of tiles are built on threads
+#: (:func:`layout.runtime.parallel_map`); below it the interpreter's lock makes threads slower.
+THREADED_VALUES = 1 << 24
 #: Largest beam fraction a crown may let through for a tile's sums to be exact in any order
 #: (see :func:`_exact_sums`): shade values are then 0 or at least 2**-20.
 _CLEAREST = 1.0 - 2.0 ** -20
@@ -97,13 +103,22 @@ def _tile_shade_rows(n_steps, n_points, prepared_hits, n_cells, reduce, *, rows=
     if not len(rows) or not n_mod:
         return rows
     row_of = _row_numbers(n_steps, rows)
-    for r0, r1, parts in _row_blocks(n_steps, rows, per, entries):
+
+    def one_block(block) -> None:  # its own rows r0..r1 of the reductions
+        r0, r1, parts = block
         lo, held = rows[r0], rows[r0:r1]
         tiles = _block_tiles(parts, lo, rows[r1 - 1] - lo + 1, n_mod, n_cells,
                              held[horizon[held]] - lo, as_shade)
         if tiles is not None:
             tile_step, tile_module, values = tiles
             reduce(rows, r0, r1, row_of[tile_step] - r0, tile_module, values)
+
+    # blocks on threads, as many at a time as there are threads (each holds its hits and
+    # tiles); a roof of a few modules is one block on one thread
+    threads = worker_threads() if n_points * len(rows) >= THREADED_VALUES else 1
+    blocks = _row_blocks(n_steps, rows, per, entries)
+    while batch := list(itertools.islice(blocks, threads)):
+        parallel_map(one_block, batch, threads=threads)
     return rows
 
 

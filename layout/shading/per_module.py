@@ -15,6 +15,7 @@ one obstruction recomputes only its hits.
 
 from __future__ import annotations
 
+import threading
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -218,11 +219,15 @@ class _Reductions:
                       for s in range(int(cell_substring.max()) + 1)]
         self.pattern = _substring_pattern(cell_substring, len(self.cells))
         self.mean = self.substring = self.worst = self.by_cell = None
+        self._allocating = threading.Lock()
 
     def allocate(self, n_rows: int) -> None:
-        """Make the arrays for ``n_rows`` steps, once."""
-        if self.mean is not None:
-            return
+        """Make the arrays for ``n_rows`` steps, once (blocks on threads ask at once)."""
+        with self._allocating:
+            if self.mean is None:
+                self._allocate(n_rows)
+
+    def _allocate(self, n_rows: int) -> None:
         n_mod, n_sub = self.n_mod, len(self.cells)
         # zeros: module tiles (:meth:`at_tiles`) fill only where some cell has shade
         self.mean = np.zeros((n_mod, n_rows))

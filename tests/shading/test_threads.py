@@ -58,3 +58,34 @@ def test_a_failing_ray_test_on_a_thread_leaves_the_cache_as_it_was(threaded, mon
         cache.update([tree.translated(2.0, 0.0), tree.translated(4.0, 0.0)])
     assert cache.obstructions == before
     assert cache.update(scene) == 0  # the hits kept are still there
+
+
+@pytest.mark.parametrize("steps_a_block", [3, 7])  # 27 blocks (sorted hits), 12 (masks)
+def test_tile_blocks_on_threads_equal_one_thread(steps_a_block, monkeypatch):
+    # the blocks of module tiles reduced on two threads at a time: every figure the same as
+    # on one thread, bit for bit (each block writes only its own rows)
+    from layout.shading import groups, module_tiles
+    from layout.shading.per_module import _reduce_shade, _Reductions
+    from layout.shading.plate_sets import module_casters
+
+    spec, mods, sun, month, _, scene = _small_rack_scene(8, 80, 3)
+    monkeypatch.setattr(groups, "_DENSE_BLOCK", 6 * spec.cell_count * steps_a_block)
+    monkeypatch.setattr(module_tiles, "_TILE_ROWS", 1)
+    monkeypatch.setattr(module_tiles, "THREADED_VALUES", 0)
+    samples = module_samples(mods, spec)
+    cell_substring = np.asarray(spec.substring_of_cell(np.arange(spec.cell_count)),
+                                dtype=np.intp)
+    cache = ShadeCache(samples.points, sun, [*scene, *module_casters(mods)], month=month,
+                       normals=samples.normals)
+    found = {}
+    for threads in ("1", "2"):
+        monkeypatch.setenv(THREADS_VARIABLE, threads)
+        sums = _Reductions(len(mods), cell_substring, True)
+        rows = _reduce_shade(len(sun), cache.prepared_hits(), samples.cell_group,
+                             len(samples.points), sums, 0)
+        found[threads] = (rows, sums)
+    (rows_1, one), (rows_2, two) = found["1"], found["2"]
+    assert np.array_equal(rows_1, rows_2) and len(rows_1) > 3 * steps_a_block
+    for name in ("mean", "worst", "substring", "by_cell"):
+        assert np.array_equal(getattr(one, name), getattr(two, name))
+    assert one.mean.any()
