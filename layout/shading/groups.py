@@ -82,16 +82,18 @@ def _row_blocks(n_steps: int, rows: np.ndarray, per: int, entries):
 
     ``rows`` holds every step with a hit. With one block the entries are given whole; with a
     few blocks (at most :data:`_MASK_BLOCKS`) each block picks its hits by a mask over their
-    steps; with more, hits are sorted by step once (hits in step order are left as they are)
-    and each block is a slice of them.
+    steps, unless they are in step order already; with more, hits are sorted by step once
+    (hits in step order are left as they are); hits in step order are sliced per block.
     """
     n_rows = len(rows)
     if n_rows <= per:
         yield 0, n_rows, entries
         return
     cuts = None
-    if _blocks(n_rows, per) > _MASK_BLOCKS:
-        entries = [_sorted_by_step(entry, n_steps) for entry in entries]
+    in_order = all(len(step) < 2 or (step[1:] >= step[:-1]).all() for step, _, _ in entries)
+    if in_order or _blocks(n_rows, per) > _MASK_BLOCKS:  # hits in step order: slices
+        if not in_order:
+            entries = [_sorted_by_step(entry, n_steps) for entry in entries]
         # where each block's hits begin in each entry, found once (in the steps' own dtype,
         # so that no search converts the steps); a block ends where the next begins, as the
         # rows hold every step with a hit
