@@ -678,7 +678,8 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
                   for name in _SHADED_PARTS}
     temp_air_lit, wind_lit = temp_air[rows], wind[rows]
     poa, eff = np.zeros((n_steps, n_modules)), np.zeros((n_steps, n_modules))
-    temp = np.repeat(temp_air, n_modules, axis=1)
+    temp = np.empty((n_steps, n_modules))  # every block fills its columns, dark rows too
+    dark_rows = np.flatnonzero(~lit_steps)
     n_sub = worst_rows.shape[1]
     sub = np.zeros((n_steps, n_modules, n_sub), dtype=np.float32)  # zero where no light
     # where each step with shade falls among the lit rows (a step without light drops out:
@@ -714,6 +715,8 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
         here += here_parts["ground"][:, g]
         poa[rows, part] = here
         temp[rows, part] = pvlib.temperature.sapm_cell(here, temp_air_lit, wind_lit, **params)
+        if len(dark_rows):
+            temp[dark_rows, part] = temp_air[dark_rows]  # SAPM at zero irradiance
         diffuse_eff = sky_eff * svf[part]
         diffuse_eff += ground_eff
         here = beam_eff * lit
@@ -729,7 +732,7 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
             one += diffuse32
         sub[rows, part] = sub_part
 
-    parallel_map(shade_block, range(0, n_modules if len(lit_rows) else 0, block))
+    parallel_map(shade_block, range(0, n_modules, block))
     # unshaded, once per plane
     plane_eff = parts["beam_eff"] + parts["sky_eff"]
     plane_eff += parts["ground_eff"]

@@ -374,3 +374,21 @@ def test_sized_string_with_a_half_shaded_module_against_bishop88(half):
     ours *= 1000 / (3 * P_IV_STC)  # kWh of one hour back to W, as a share of STC
     # measured: 0.778 against 0.767 across, 0.667 against 0.651 along the substrings
     assert ours == pytest.approx(iv, abs=0.03)  # tolerance: see test_string_against_bishop88
+
+
+@pytest.mark.parametrize("threads", ["1", "2"])
+def test_columns_gathered_on_threads_equal_numpys_gather(threads, monkeypatch):
+    # the unshaded power per module is the plane's, gathered a block of columns at a time:
+    # the same values in the same layout as numpy's values[:, columns], so that the yearly
+    # sums over the steps are the same bit for bit
+    from layout.power.electrical import _gather_columns
+
+    monkeypatch.setattr(electrical, "_BLOCK_VALUES", 500 * 7)  # seven columns a block
+    monkeypatch.setenv(THREADS_VARIABLE, threads)
+    rng = np.random.default_rng(9)
+    for planes in (1, 4):
+        values = rng.uniform(0, 300, (500, planes))
+        columns = rng.integers(0, planes, 60)
+        got, want = _gather_columns(values, columns), values[:, columns]
+        assert np.array_equal(got, want) and got.strides == want.strides
+        assert np.array_equal(got.sum(axis=0), want.sum(axis=0))
