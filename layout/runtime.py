@@ -89,7 +89,7 @@ THREADS_VARIABLE = "EAVELINE_THREADS"
 #: interpreter's lock is held between numpy calls).
 MAX_DEFAULT_THREADS = 4
 
-_POOL: list = [None, 0]  # the executor and its number of threads, made when first needed
+_POOLS: dict = {}  # number of threads -> its executor, made when first needed
 _POOL_LOCK = threading.Lock()
 _IN_WORKER = threading.local()  # set inside a pool thread: nested maps run in place
 
@@ -130,14 +130,15 @@ def parallel_map(function: Callable, items: Iterable, *, threads: int | None = N
     """Return ``[function(item) for item in items]``, computed on a few threads.
 
     For large numpy work only: each call should take milliseconds or more and spend them in
-    numpy. The results are in the order of ``items``; the first exception raised is raised
-    here. One item, one thread, or a call from inside one of the pool's own threads runs in
-    place.
+    numpy. The results are in the order of ``items``; an error raised for an item is raised
+    here (the first in the items' order), and the items not yet started are dropped. One
+    item, one thread, or a call from inside one of the pool's own threads runs in place.
 
     Parameters
     ----------
     function : callable
-        Called once per item, from any thread: it must not change shared state.
+        Called once per item, from any thread: it may write only its own part of a shared
+        output (its block of columns, say), never state another item reads.
     items : iterable
     threads : int, keyword-only, optional
         Threads to use; default :func:`worker_threads`.
@@ -146,14 +147,11 @@ def parallel_map(function: Callable, items: Iterable, *, threads: int | None = N
     count = worker_threads() if threads is None else int(threads)
     if count <= 1 or len(items) <= 1 or getattr(_IN_WORKER, "active", False):
         return [function(item) for item in items]
-    with _POOL_LOCK:
-        if _POOL[0] is None or _POOL[1] != count:
-            if _POOL[0] is not None:
-                _POOL[0].shutdown(wait=False)
-            _POOL[0] = ThreadPoolExecutor(count, thread_name_prefix="eaveline",
-                                          initializer=_mark_worker)
-            _POOL[1] = count
-        pool = _POOL[0]
+    with _POOL_LOCK:  # one pool per number of threads, kept: a map may run in each at once
+        pool = _POOLS.get(count)
+        if pool is None:
+            pool = _POOLS[count] = ThreadPoolExecutor(count, thread_name_prefix="eaveline",
+                                                      initializer=_mark_worker)
     return list(pool.map(function, items))
 
 
