@@ -285,6 +285,9 @@ def dc_irradiance_only(effective, temp_cell, pdc0: float, *,
 
 #: Values per (step, module) temporary when a model works a block of modules at a time.
 _BLOCK_VALUES = 1 << 21
+#: Substring values (steps × modules × substrings) from which the string model works its
+#: blocks on threads (:func:`layout.runtime.parallel_map`).
+_THREADED_STRING_VALUES = 1 << 22
 
 
 def dc_module_level(substring_irradiance, temp_cell, pdc0: float, *,
@@ -436,23 +439,33 @@ def dc_strings(substring_irradiance, temp_cell, pdc0: float, strings, *,
     string_power = np.zeros((n_steps, len(strings)))
     lengths = np.array([len(x) for x in strings])
     lit = _lit_steps(g_all)  # steps with any light: nights cost nothing
-    for length in np.unique(lengths):
+
+    def string_block(work) -> None:  # strings of one length at a block of steps: their cells
+        length, lo = work
         which = np.flatnonzero(lengths == length)
         members = np.stack([strings[i] for i in which])  # (B, L)
-        for lo in range(0, len(lit), chunk_steps):
-            steps = lit[lo:lo + chunk_steps]
-            g = g_all[steps][:, members, :]  # (t, B, L, S)
-            # w: substring power at 1000 W/m² and the module's temperature (PVWatts)
-            w = pvlib.pvsystem.pvwatts_dc(1000.0, temp_all[steps][:, members], pdc0 / s,
-                                          gamma_pdc)
-            w = np.broadcast_to(np.asarray(w)[..., None], g.shape)
-            t, b = g.shape[:2]
-            power, level = _series_best(g.reshape(t, b, length * s),
-                                        w.reshape(t, b, length * s))
-            string_power[np.ix_(steps, which)] = power
-            carries = g >= level[:, :, None, None]
-            share = (carries * w).sum(axis=3) * level[:, :, None] * 0.001  # (t, B, L)
-            module_power[np.ix_(steps, members.reshape(-1))] = share.reshape(t, b * length)
+        steps = lit[lo:lo + chunk_steps]
+        g = g_all[steps][:, members, :]  # (t, B, L, S)
+        # w: substring power at 1000 W/m² and the module's temperature (PVWatts)
+        w_module = np.asarray(pvlib.pvsystem.pvwatts_dc(1000.0, temp_all[steps][:, members],
+                                                        pdc0 / s, gamma_pdc))
+        w = np.broadcast_to(w_module[..., None], g.shape)
+        t, b = g.shape[:2]
+        power, level = _series_best(g.reshape(t, b, length * s), w.reshape(t, b, length * s))
+        string_power[np.ix_(steps, which)] = power
+        carries = g >= level[:, :, None, None]
+        if s <= 3:
+            # a module's substrings share one w, so the sum of the k that carry is k · w,
+            # rounded once, as numpy's sum of k copies of w is for k <= 3
+            carried = np.count_nonzero(carries, axis=3) * w_module
+        else:
+            carried = (carries * w).sum(axis=3)
+        share = carried * level[:, :, None] * 0.001  # (t, B, L)
+        module_power[np.ix_(steps, members.reshape(-1))] = share.reshape(t, b * length)
+
+    # the blocks write their own steps of their own strings: on threads for a large roof
+    work = [(length, lo) for length in np.unique(lengths) for lo in range(0, len(lit), chunk_steps)]
+    parallel_map(string_block, work, threads=None if g_all.size >= _THREADED_STRING_VALUES else 1)
     return module_power, string_power
 
 

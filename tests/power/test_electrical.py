@@ -392,3 +392,37 @@ def test_columns_gathered_on_threads_equal_numpys_gather(threads, monkeypatch):
         got, want = _gather_columns(values, columns), values[:, columns]
         assert np.array_equal(got, want) and got.strides == want.strides
         assert np.array_equal(got.sum(axis=0), want.sum(axis=0))
+
+
+@pytest.mark.parametrize("threads", ["1", "2"])
+def test_string_shares_equal_the_carrying_substrings_written_out(threads, monkeypatch):
+    # each module's share is its carrying substrings' power at the string's level: written
+    # out here as numpy's sum of w over the substrings that carry (the module docstring), for
+    # 1 to 5 substrings a module, strings of two lengths, worked in blocks of 7 steps on one
+    # thread or two: the same shares and string powers bit for bit
+    monkeypatch.setattr(electrical, "_THREADED_STRING_VALUES", 0)
+    monkeypatch.setenv(THREADS_VARIABLE, threads)
+    rng = np.random.default_rng(12)
+    for s in (1, 2, 3, 4, 5):
+        g = np.round(rng.uniform(0, 1000, (40, 7, s)), -2)  # ties
+        g[:4] = 0.0
+        t = rng.uniform(-10, 70, (40, 7))
+        strings = [np.array([0, 2, 4]), np.array([1, 3, 5]), np.array([6])]
+        modules, string = dc_strings(g, t, 300.0, strings, chunk_steps=7)
+        for members, column in zip(strings, range(3), strict=True):
+            w = np.asarray(pvlib.pvsystem.pvwatts_dc(1000.0, t[:, members], 300.0 / s,
+                                                     DEFAULT_GAMMA_PDC))
+            flat_g = g[:, members, :].reshape(40, -1)
+            flat_w = np.repeat(w, s, axis=1)
+            order = np.argsort(-flat_g, axis=1)
+            g_sorted = np.take_along_axis(flat_g, order, axis=1)
+            candidates = g_sorted * np.cumsum(np.take_along_axis(flat_w, order, axis=1),
+                                              axis=1) * 0.001
+            best = np.argmax(candidates, axis=1)
+            level = g_sorted[np.arange(40), best]
+            lit = g.reshape(40, -1).max(axis=1) > 0
+            carries = g[:, members, :] >= level[:, None, None]
+            share = (carries * w[:, :, None]).sum(axis=2) * level[:, None] * 0.001
+            assert np.array_equal(modules[lit][:, members], share[lit])
+            assert np.array_equal(string[lit, column], candidates[lit, best[lit]])
+            assert not modules[~lit].any()
