@@ -440,7 +440,7 @@ def dc_strings(substring_irradiance, temp_cell, pdc0: float, strings, *,
     lengths = np.array([len(x) for x in strings])
     lit = _lit_steps(g_all)  # steps with any light: nights cost nothing
 
-    def string_block(work) -> None:  # strings of one length at a block of steps: their cells
+    def string_block(work) -> None:  # the strings of one length, at one block of steps
         length, lo = work
         which = np.flatnonzero(lengths == length)
         members = np.stack([strings[i] for i in which])  # (B, L)
