@@ -440,10 +440,14 @@ def dc_strings(substring_irradiance, temp_cell, pdc0: float, strings, *,
     lengths = np.array([len(x) for x in strings])
     lit = _lit_steps(g_all)  # steps with any light: nights cost nothing
 
+    by_length = {}  # length -> the strings of that length and their modules (B, L)
+    for length in np.unique(lengths):
+        which = np.flatnonzero(lengths == length)
+        by_length[length] = which, np.stack([strings[i] for i in which])
+
     def string_block(work) -> None:  # the strings of one length, at one block of steps
         length, lo = work
-        which = np.flatnonzero(lengths == length)
-        members = np.stack([strings[i] for i in which])  # (B, L)
+        which, members = by_length[length]
         steps = lit[lo:lo + chunk_steps]
         g = g_all[steps][:, members, :]  # (t, B, L, S)
         # w: substring power at 1000 W/m² and the module's temperature (PVWatts)
@@ -464,7 +468,7 @@ def dc_strings(substring_irradiance, temp_cell, pdc0: float, strings, *,
         module_power[np.ix_(steps, members.reshape(-1))] = share.reshape(t, b * length)
 
     # the blocks write their own steps of their own strings: on threads for a large roof
-    work = [(length, lo) for length in np.unique(lengths) for lo in range(0, len(lit), chunk_steps)]
+    work = [(length, lo) for length in by_length for lo in range(0, len(lit), chunk_steps)]
     parallel_map(string_block, work, threads=None if g_all.size >= _THREADED_STRING_VALUES else 1)
     return module_power, string_power
 

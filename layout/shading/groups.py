@@ -80,10 +80,10 @@ def _row_numbers(n_steps: int, rows: np.ndarray) -> np.ndarray:
 def _row_blocks(n_steps: int, rows: np.ndarray, per: int, entries):
     """Yield ``(r0, r1, parts)`` for blocks of ``per`` rows: each entry's hits at ``rows[r0:r1]``.
 
-    ``rows`` holds every step with a hit. With one block the entries are given whole; with a
-    few blocks (at most :data:`_MASK_BLOCKS`) each block picks its hits by a mask over their
-    steps, unless they are in step order already; with more, hits are sorted by step once
-    (hits in step order are left as they are); hits in step order are sliced per block.
+    ``rows`` holds every step with a hit. With one block the entries are given whole. Hits
+    in step order (a cache keeps them so) are sliced per block; otherwise, with more than
+    :data:`_MASK_BLOCKS` blocks they are sorted by step once and sliced, and with fewer each
+    block picks its hits by a mask over their steps.
     """
     n_rows = len(rows)
     if n_rows <= per:
