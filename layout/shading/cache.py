@@ -14,7 +14,7 @@ import numpy as np
 from ..errors import InputError, check_positive
 from ..runtime import parallel_map
 from .combine import _check_month, _combine_shaded, _combine_transmitted, _prepare_hits
-from .groups import _check_labels, _group_shade_rows, _needs_step_order
+from .groups import _check_labels, _group_shade_rows, _needs_step_order, _step_window
 from .hits import DEFAULT_MAX_PAIRS, Facing, ShadeHits, _obstruction_hits
 from .point_groups import _point_groups
 from .rays import RAY_START_M, _check_points, _check_sun
@@ -40,8 +40,8 @@ class ShadeCache:
     result is the same as a full recompute. Each obstruction's hits are kept compact
     (:meth:`ShadeHits.compact`: uint16 steps, no crown flags for a solid), which on a roof of
     thousands of modules and a hundred million hits saves a third of their memory, and, where
-    shade is summed in many blocks of steps (:func:`_needs_step_order`), in step order, so
-    that no evaluation sorts them again.
+    shade is summed in many blocks of steps (:func:`_needs_step_order`), in order of their
+    windows of a few steps (:func:`_step_window`), so that no evaluation orders them again.
 
     Parameters
     ----------
@@ -79,6 +79,7 @@ class ShadeCache:
         self._order = _sun_order(self.sun)
         self._groups = _point_groups(self.points)
         self._sorted = _needs_step_order(len(self.sun), len(self.points))
+        self._window = _step_window(len(self.points))
         self._hits: dict = {}
         self._prepared: dict = {}
         # hits of obstructions lately dropped from the list, newest last: an undo that puts a
@@ -120,7 +121,8 @@ class ShadeCache:
         """Ray-test one obstruction from every point at every step; its compact hits."""
         return _obstruction_hits(self.points, self.sun, obstruction, self.ray_start,
                                  self.max_pairs, True, self._order, self.facing,
-                                 self._groups).compact(len(self.sun), sort=self._sorted)
+                                 self._groups).compact(len(self.sun), sort=self._sorted,
+                                                     window=self._window)
 
     def hits(self, obstruction) -> ShadeHits:
         """Return the cached hits of one obstruction in the current list (compact form)."""

@@ -11,6 +11,7 @@ import numpy as np
 
 from ..errors import InputError
 from .combine import _prepare_hits
+from .hits import _step_window_order, _step_windows
 
 __all__ = ["group_mean"]
 
@@ -27,20 +28,36 @@ def _blocks(n_rows: int, per: int) -> int:
 
 
 def _needs_step_order(n_steps: int, n_points: int) -> bool:
-    """Tell whether hits of ``n_points`` points over ``n_steps`` steps are best kept sorted.
+    """Tell whether hits of ``n_points`` points over ``n_steps`` steps are best kept in order.
 
-    True when summing them per group may take more than :data:`_MASK_BLOCKS` blocks of steps.
+    True when summing them per group may take more than :data:`_MASK_BLOCKS` blocks of steps;
+    a cache then keeps each obstruction's hits in order of their step window
+    (:func:`_step_window`).
     """
     return _blocks(n_steps, max(1, _DENSE_BLOCK // max(1, n_points))) > _MASK_BLOCKS
 
 
-def _sorted_by_step(entry, n_steps: int):
-    """Sort prepared hits by step (a radix sort for up to 65,536 steps); sorted ones as given."""
+#: Most steps a window (:func:`_step_window`): a few hundred windows for a year of hours.
+_MAX_WINDOW = 64
+
+
+def _step_window(n_points: int) -> int:
+    """Return the steps a window holds when hits of ``n_points`` points are kept in order.
+
+    A power of two, at most the steps of a dense block (:data:`_DENSE_BLOCK` values), so
+    that blocks of steps can begin and end where windows do, and at most
+    :data:`_MAX_WINDOW`.
+    """
+    per = max(1, _DENSE_BLOCK // max(1, n_points))
+    return min(_MAX_WINDOW, 1 << (per.bit_length() - 1))
+
+
+def _in_window_order(entry, n_steps: int, window: int):
+    """Put prepared hits in order of their step window (a counting sort); as given if so."""
     step, point, factor = entry
-    if len(step) < 2 or (step[1:] >= step[:-1]).all():
+    order = _step_window_order(step, n_steps, window) if len(step) > 1 else None
+    if order is None:
         return entry
-    key = step.astype(np.uint16) if n_steps <= 65536 else step
-    order = np.argsort(key, kind="stable")
     return step[order], point[order], None if factor is None else factor[order]
 
 
@@ -77,40 +94,56 @@ def _row_numbers(n_steps: int, rows: np.ndarray) -> np.ndarray:
     return row_of
 
 
-def _row_blocks(n_steps: int, rows: np.ndarray, per: int, entries):
-    """Yield ``(r0, r1, parts)`` for blocks of ``per`` rows: each entry's hits at ``rows[r0:r1]``.
+def _row_blocks(n_steps: int, rows: np.ndarray, per: int, entries, window: int = 1):
+    """Yield ``(r0, r1, parts)``: blocks of up to ``per`` rows, each entry's hits at them.
 
-    ``rows`` holds every step with a hit. With one block the entries are given whole. Hits
-    in step order (a cache keeps them so) are sliced per block; otherwise, with more than
-    :data:`_MASK_BLOCKS` blocks they are sorted by step once and sliced, and with fewer each
-    block picks its hits by a mask over their steps.
+    ``rows`` holds every step with a hit. With one block the entries are given whole. With
+    more than :data:`_MASK_BLOCKS` blocks, or hits in order of their windows of ``window``
+    steps already (a cache keeps them so), blocks begin and end where windows do, and each
+    block's hits are a slice of each entry, found by a search of the entry's windows
+    (entries not in that order are put in it first, :func:`_in_window_order`); with fewer,
+    each block picks its hits by a mask over their steps. A ``window`` above ``per`` is
+    taken down to it (:func:`_step_window` gives one that is not).
     """
     n_rows = len(rows)
     if n_rows <= per:
         yield 0, n_rows, entries
         return
-    cuts = None
-    in_order = all(len(step) < 2 or (step[1:] >= step[:-1]).all() for step, _, _ in entries)
-    if in_order or _blocks(n_rows, per) > _MASK_BLOCKS:  # hits in step order: slices
+    window = min(window, 1 << (per.bit_length() - 1))
+    keys = [_step_windows(step, window) for step, _, _ in entries]
+    in_order = all(len(key) < 2 or (key[1:] >= key[:-1]).all() for key in keys)
+    if in_order or _blocks(n_rows, per) > _MASK_BLOCKS:  # slices
         if not in_order:
-            entries = [_sorted_by_step(entry, n_steps) for entry in entries]
-        # where each block's hits begin in each entry, found once (in the steps' own dtype,
-        # so that no search converts the steps); a block ends where the next begins, as the
-        # rows hold every step with a hit
-        first = rows[::per]
-        cuts = [np.r_[np.searchsorted(step, first.astype(step.dtype)), len(step)]
-                for step, _, _ in entries]
-    for b, r0 in enumerate(range(0, n_rows, per)):
+            entries = [_in_window_order(entry, n_steps, window) for entry in entries]
+            keys = [_step_windows(step, window) for step, _, _ in entries]
+        # blocks of at most per rows, each ending where a window ends: a window holds at
+        # most per rows, so every block holds at least one
+        row_window = _step_windows(rows, window)
+        starts = [0]
+        while starts[-1] + per < n_rows:
+            cut = starts[-1] + per  # the first row beyond a full block: back to its window
+            starts.append(int(np.searchsorted(row_window, row_window[cut], side="left")))
+        first = row_window[starts]
+        # where each block's hits begin in each entry, found once (in the windows' own
+        # dtype); a block ends where the next begins, as the rows hold every step with a hit
+        cuts = [np.r_[np.searchsorted(key, first.astype(key.dtype)), len(key)] for key in keys]
+        starts.append(n_rows)
+        for b in range(len(starts) - 1):
+            yield starts[b], starts[b + 1], [
+                (step[cuts[k][b]:cuts[k][b + 1]], point[cuts[k][b]:cuts[k][b + 1]],
+                 None if factor is None else factor[cuts[k][b]:cuts[k][b + 1]])
+                for k, (step, point, factor) in enumerate(entries)]
+        return
+    del keys
+    for r0 in range(0, n_rows, per):
         r1 = min(n_rows, r0 + per)
         parts = []
-        for k, (step, point, factor) in enumerate(entries):
-            if cuts is not None:
-                part = slice(cuts[k][b], cuts[k][b + 1])
-            else:  # a few blocks: each picks its hits by their steps, no sort
-                kind = step.dtype.type  # bounds in the steps' dtype: no conversion of them
-                part = step >= kind(rows[r0]) if r0 else np.ones(len(step), dtype=bool)
-                if r1 < n_rows:
-                    part &= step < kind(rows[r1])
+        for step, point, factor in entries:
+            # a few blocks: each picks its hits by their steps, no sort
+            kind = step.dtype.type  # bounds in the steps' dtype: no conversion of them
+            part = step >= kind(rows[r0]) if r0 else np.ones(len(step), dtype=bool)
+            if r1 < n_rows:
+                part &= step < kind(rows[r1])
             parts.append((step[part], point[part], None if factor is None else factor[part]))
         yield r0, r1, parts
 
@@ -186,7 +219,8 @@ def _group_shade_rows(n_steps, n_points, prepared_hits, labels, n_groups, *, row
     # one point a group and only opaque hits: the block holds the shade itself (0 or 1,
     # exactly 1 - beam), with no pass to turn beam into shade
     as_shade = direct and all(factor is None for _, _, factor in prepared)
-    for r0, r1, parts in _row_blocks(n_steps, rows, per, prepared):
+    for r0, r1, parts in _row_blocks(n_steps, rows, per, prepared,
+                                     _step_window(n_points)):
         width = r1 - r0
         whole = direct and width == n_rows and values is not None \
             and values.flags.c_contiguous

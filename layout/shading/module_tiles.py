@@ -18,7 +18,7 @@ import numpy as np
 
 from ..runtime import parallel_map, worker_threads
 from . import groups
-from .groups import _row_blocks, _row_numbers, _rows_with_shade, _split_entries
+from .groups import _row_blocks, _row_numbers, _rows_with_shade, _split_entries, _step_window
 
 #: Rows of a block of tiles, in rows of a dense block (:data:`groups._DENSE_BLOCK` values):
 #: tiles hold the modules a step shades, a quarter of them or fewer on a rack roof.
@@ -116,7 +116,7 @@ def _tile_shade_rows(n_steps, n_points, prepared_hits, n_cells, reduce, *, rows=
     # blocks on threads, as many at a time as there are threads (each holds its hits and
     # tiles); a roof of a few modules is one block on one thread
     threads = worker_threads() if n_points * len(rows) >= THREADED_VALUES else 1
-    blocks = _row_blocks(n_steps, rows, per, entries)
+    blocks = _row_blocks(n_steps, rows, per, entries, _step_window(n_points))
     while batch := list(itertools.islice(blocks, threads)):
         parallel_map(one_block, batch, threads=threads)
     return rows

@@ -25,6 +25,7 @@ from layout.shading import (
     shaded,
     transmitted,
 )
+from layout.shading.hits import ShadeHits
 from layout.shading.round_solids import _hit_cone, _hit_spheroid, _hit_vertical_cylinder
 from layout.sky.sun import solar_position, sun_vectors
 
@@ -1052,19 +1053,58 @@ def test_run_ends_from_the_sector_table_equal_the_binary_search():
         assert whole.any() and not whole.all()
 
 
-@pytest.mark.parametrize("n_steps, n_points", [(4430, 30_000), (8760, 3_000_000), (70_000, 9)])
-def test_packed_sort_of_hits_equals_a_lexicographic_sort(n_steps, n_points):
-    # the cache sorts opaque hits as (step, point) packed in one integer, 32 bits or 64
-    # (the middle case needs 14 + 22 bits); the order is numpy's lexsort of the pairs
-    from layout.shading.hits import _sorted_pairs
-
-    rng = np.random.default_rng(n_points)
+@pytest.mark.parametrize("n_steps, window", [(4430, 32), (8760, 16), (70_000, 64), (4430, 1)])
+def test_hits_in_window_order_keep_each_window_in_the_order_found(n_steps, window):
+    # a cache keeps hits in order of their window of steps (a counting sort on a small key);
+    # within a window they stay in the order found: numpy's stable argsort of step // window
+    rng = np.random.default_rng(n_steps + window)
     step = rng.integers(0, n_steps, 50_000).astype(np.int32)
-    point = rng.integers(0, n_points, 50_000).astype(np.int32)
-    order = np.lexsort((point, step))
-    got_step, got_point = _sorted_pairs(step, point, n_steps)
-    assert got_step.dtype == step.dtype and got_point.dtype == point.dtype
-    assert np.array_equal(got_step, step[order]) and np.array_equal(got_point, point[order])
+    point = rng.integers(0, 3_000, 50_000).astype(np.int32)
+    crown = rng.random(50_000) < 0.3
+    kept = ShadeHits(step, point, crown).compact(n_steps, window=window)
+    order = np.argsort(step // window, kind="stable")
+    assert np.array_equal(kept.step.astype(np.int64), step[order])
+    assert np.array_equal(kept.point, point[order]) and np.array_equal(kept.crown_only,
+                                                                       crown[order])
+    assert (np.diff(kept.step.astype(np.int64) // window) >= 0).all()
+    again = kept.compact(n_steps, window=window)  # in order already: the arrays themselves
+    assert again.point is kept.point
+
+
+@pytest.mark.parametrize("per, window", [(40, 32), (7, 4), (64, 64), (5, 64)])
+def test_blocks_of_rows_end_where_windows_do_and_hold_every_hit_once(per, window):
+    # blocks of at most `per` rows, cut where a window of steps begins, each entry's hits at
+    # exactly the block's rows, whether the hits came in window order or not
+    from layout.shading.groups import _row_blocks
+
+    rng = np.random.default_rng(per * window)
+    n_steps = 1_000
+    step = rng.integers(0, n_steps, 20_000).astype(np.uint16)
+    point = rng.integers(0, 500, 20_000).astype(np.int32)
+    rows = np.unique(step).astype(np.intp)
+    entries = [(step, point, None), (step[::3].copy(), point[::3].copy(),
+                                     rng.random(len(step[::3])).astype(np.float32))]
+    kept = [ShadeHits(s, p, np.zeros(len(s), bool)).compact(n_steps, window=window)
+            for s, p, _ in entries]
+    in_windows = [(k.step, k.point, f) for k, (_, _, f) in zip(kept, entries, strict=True)]
+    for hits in (entries, in_windows):
+        seen = [set() for _ in entries]
+        last = 0
+        blocks = list(_row_blocks(n_steps, rows, per, hits, window))
+        # slices where windows begin: hits in window order, or too many blocks for masks
+        sliced = hits is in_windows or -(-len(rows) // per) > 16
+        for r0, r1, parts in blocks:
+            assert r0 == last and 0 < r1 - r0 <= per
+            last = r1
+            held = set(rows[r0:r1].tolist())
+            for k, (s, p, f) in enumerate(parts):
+                assert set(s.tolist()) <= held and (f is None or len(f) == len(s))
+                seen[k] |= set(zip(s.tolist(), p.tolist(), strict=True))
+            if sliced and r1 < len(rows):  # a cut where a window begins (taken to per)
+                w = min(window, 1 << (per.bit_length() - 1))
+                assert rows[r1] // w != rows[r1 - 1] // w
+        assert last == len(rows)
+        assert seen == [set(zip(s.tolist(), p.tolist(), strict=True)) for s, p, _ in entries]
 
 
 @pytest.mark.parametrize("steps_a_block", [None, 7, 1])
