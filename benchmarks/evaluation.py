@@ -34,7 +34,7 @@ from layout.power.electrical import ElectricalOptions
 from layout.power.energy import EnergyOptions, load_weather, sun_steps
 from layout.power.metrics import best_orientation
 from layout.project import load_demo_project
-from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
+from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, process_settings
 from layout.scene.building import shed_roof
 from layout.study.analysis import Analysis
 
@@ -150,7 +150,7 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--skip-big", action="store_true", help="skip the 500-module roof")
     args = parser.parse_args()
-    quiet_hugepages()  # as python -m layout and python -m widgets run (layout/runtime.py)
+    process_settings()  # as python -m layout and python -m widgets run (layout/runtime.py)
     print(f"numpy huge-page advice: {'on' if hugepage_advice() else 'off'} "
           f"({HUGEPAGE_VARIABLE}={os.environ.get(HUGEPAGE_VARIABLE)})")
 

@@ -385,9 +385,9 @@ def main(argv=None) -> int:
     parser.add_argument("--drags", type=int, default=7, help="timed drags per measurement")
     parser.add_argument("--python-only", action="store_true", help="skip the browser")
     args = parser.parse_args(argv)
-    from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
+    from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, process_settings
 
-    quiet_hugepages()  # as python -m layout and python -m widgets run (layout/runtime.py)
+    process_settings()  # as python -m layout and python -m widgets run (layout/runtime.py)
     print(f"numpy huge-page advice: {'on' if hugepage_advice() else 'off'} "
           f"({HUGEPAGE_VARIABLE}={os.environ.get(HUGEPAGE_VARIABLE)})")
     py = python_side(max(args.drags, 3))

@@ -20,7 +20,7 @@ import tempfile
 import time
 from pathlib import Path
 
-from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
+from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, process_settings
 from layout.study.portfolio import run_portfolio
 from layout.study.synthetic_portfolio import write_synthetic_portfolio
 
@@ -64,7 +64,7 @@ def main() -> None:
     parser.add_argument("--workers", type=int, default=None,
                         help="worker processes (default one per core)")
     args = parser.parse_args()
-    quiet_hugepages()  # as python -m layout batch runs, workers included (layout/runtime.py)
+    process_settings()  # as python -m layout batch runs, workers included (layout/runtime.py)
     print(f"numpy huge-page advice: {'on' if hugepage_advice() else 'off'} "
           f"({HUGEPAGE_VARIABLE}={os.environ.get(HUGEPAGE_VARIABLE)})")
     cores = os.cpu_count()

@@ -26,7 +26,7 @@ from evaluation import big_project  # the 500-module roof, shared with that benc
 
 from layout.project import load_demo_project
 from layout.report import build_report, render_html, render_pdf
-from layout.runtime import quiet_hugepages
+from layout.runtime import process_settings
 from layout.study.analysis import Analysis
 
 TARGETS_S = {"demo": 5.0, "500-module roof": 30.0}
@@ -61,7 +61,7 @@ def main() -> None:
     parser.add_argument("--skip-big", action="store_true", help="only the demo project")
     parser.add_argument("--repeat", type=int, default=3, help="reports per case (median)")
     args = parser.parse_args()
-    quiet_hugepages()
+    process_settings()
     run_case("demo", load_demo_project(), args.repeat)
     if not args.skip_big:
         run_case("500-module roof", big_project(), max(1, args.repeat - 2))

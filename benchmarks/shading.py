@@ -37,7 +37,7 @@ import numpy as np
 import shapely
 
 from layout.fill.placed import PlacedModule
-from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages, worker_threads
+from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, process_settings, worker_threads
 from layout.scene.modules import generic_60_cell
 from layout.scene.obstructions import Block, Cylinder, Plate, Tree
 from layout.scene.roof import RoofFace
@@ -356,7 +356,7 @@ if __name__ == "__main__":
     parser.add_argument("--big-child", choices=["points", "racks"], help=argparse.SUPPRESS)
     args = parser.parse_args()
     if args.big_child is None:
-        quiet_hugepages()  # as python -m layout and python -m widgets run (layout/runtime.py)
+        process_settings()  # as python -m layout and python -m widgets run (layout/runtime.py)
         print(f"numpy huge-page advice: {'on' if hugepage_advice() else 'off'} "
               f"({HUGEPAGE_VARIABLE}={os.environ.get(HUGEPAGE_VARIABLE)})")
     if args.big_child == "points":

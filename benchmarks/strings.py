@@ -29,7 +29,7 @@ from evaluation import big_project
 from layout.power.string_sizing import StringDesign
 from layout.power.stringing import string_by_rows, string_by_shade
 from layout.project import load_demo_project
-from layout.runtime import quiet_hugepages
+from layout.runtime import process_settings
 from layout.scene.inverter import generic_inverter_50kw
 from layout.study.analysis import Analysis
 from layout.study.string_options import compare_stringing, project_sizing
@@ -78,7 +78,7 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--skip-big", action="store_true", help="the demo only")
     args = parser.parse_args()
-    quiet_hugepages()
+    process_settings()
     run_case("demo project", load_demo_project(), target_s=0.3, repeat=5)
     if not args.skip_big:
         big = big_project().with_changes(

@@ -34,7 +34,7 @@ from layout.fill.faces import FillOptions
 from layout.fill.rules import no_setbacks
 from layout.power.electrical import ElectricalOptions
 from layout.power.energy import EnergyOptions
-from layout.runtime import quiet_hugepages, worker_threads
+from layout.runtime import process_settings, worker_threads
 from layout.scene.building import flat_roof
 
 SITE = Site(40.0, -105.0, "America/Denver", altitude_m=1600.0, name="warehouse site")
@@ -77,7 +77,7 @@ def child(modules: int) -> None:
     """Evaluate one case from scratch and print its figures as one JSON line."""
     from layout.study.analysis import Analysis
 
-    quiet_hugepages()
+    process_settings()
     project = warehouse_project(modules)
     started, cpu = time.perf_counter(), time.process_time()
     analysis = Analysis(project)

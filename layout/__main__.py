@@ -1,8 +1,9 @@
 """``python -m layout`` and the installed ``eaveline`` command: :func:`layout.cli.main`.
 
 Both come through :func:`main` here, so both make the process settings of :mod:`layout.runtime`
-first (numpy's huge-page advice off, for this process and its Dask workers) before running the
-command line; calling :func:`layout.cli.main` from Python changes no process setting.
+first (numpy's huge-page advice off and freed arrays kept for reuse, for this process and its
+Dask workers) before running the command line; calling :func:`layout.cli.main` from Python
+changes no process setting.
 """
 
 from __future__ import annotations
@@ -11,7 +12,7 @@ import sys
 from collections.abc import Sequence
 
 from .cli import main as run_command_line
-from .runtime import quiet_hugepages
+from .runtime import process_settings
 
 
 def main(argv: Sequence[str] | None = None) -> int:
@@ -27,7 +28,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     int
         The exit status of :func:`layout.cli.main`.
     """
-    quiet_hugepages()  # this command and its Dask workers (see layout.runtime)
+    process_settings()  # this command and its Dask workers (see layout.runtime)
     return run_command_line(argv)
 
 

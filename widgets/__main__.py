@@ -224,15 +224,19 @@ def voila_command(notebook: Path, *, port: int, open_browser: bool = False) -> l
 def voila_environment(environ=None) -> dict:
     """Return the environment the Voila server and its kernels run with.
 
-    The caller's environment, with numpy's huge-page advice off unless the user chose
-    (``NUMPY_MADVISE_HUGEPAGE``; see :mod:`layout.runtime` for why and what it measured), and
+    The caller's environment, with numpy's huge-page advice off and ``malloc`` keeping freed
+    arrays for reuse unless the user chose (``NUMPY_MADVISE_HUGEPAGE``, ``MALLOC_*_``; see
+    :mod:`layout.runtime` for why and what it measured), and
     ``EAVELINE_WORKDIR`` set to the folder the command was started in (unless set already):
     Voila starts the kernel in the notebook's own folder, inside the installed package, and
     the planner notebook moves to this folder first, so that a relative path typed in the
     planner (a project to save, a survey CSV, an export) means what the user expects.
     """
+    from layout.runtime import keep_freed_memory
+
     env = dict(os.environ if environ is None else environ)
     env.setdefault("NUMPY_MADVISE_HUGEPAGE", "0")
+    keep_freed_memory(env)
     env.setdefault(WORKDIR_VARIABLE, os.getcwd())
     return env
 

@@ -326,7 +326,7 @@ def test_commands_turn_numpy_hugepage_advice_off_unless_the_user_chose():
     # the advice off in their own process; a choice already in the environment is kept
     import numpy as np
 
-    from layout.runtime import HUGEPAGE_VARIABLE, hugepage_advice, quiet_hugepages
+    from layout.runtime import HUGEPAGE_VARIABLE, MALLOC_SETTINGS, hugepage_advice, quiet_hugepages
     from widgets.__main__ import WORKDIR_VARIABLE, voila_environment
 
     before = hugepage_advice()
@@ -341,4 +341,35 @@ def test_commands_turn_numpy_hugepage_advice_off_unless_the_user_chose():
         np._core.multiarray._set_madvise_hugepage(before)
     assert voila_environment({})[HUGEPAGE_VARIABLE] == "0"
     assert voila_environment({HUGEPAGE_VARIABLE: "1", "A": "b"}) == {
-        HUGEPAGE_VARIABLE: "1", "A": "b", WORKDIR_VARIABLE: os.getcwd()}
+        HUGEPAGE_VARIABLE: "1", "A": "b", WORKDIR_VARIABLE: os.getcwd(), **MALLOC_SETTINGS}
+
+
+def test_commands_keep_freed_arrays_for_reuse_unless_the_user_chose(monkeypatch):
+    # layout.runtime: the commands raise glibc malloc's mmap and trim thresholds (here through
+    # mallopt, for children through MALLOC_*_ in their environment); a choice the user made
+    # (any MALLOC_*_ variable, GLIBC_TUNABLES) is kept, and nothing else is added then
+    from layout.runtime import MALLOC_SETTINGS, keep_freed_memory
+    from widgets.__main__ import voila_environment
+
+    environ = {"PATH": "/bin"}
+    assert keep_freed_memory(environ) and environ == {"PATH": "/bin", **MALLOC_SETTINGS}
+    assert int(MALLOC_SETTINGS["MALLOC_MMAP_THRESHOLD_"]) == 32 << 20
+    for chosen in ({"MALLOC_ARENA_MAX_": "2"}, {"GLIBC_TUNABLES": "glibc.malloc.trim_threshold=0"}):
+        kept = dict(chosen)
+        assert not keep_freed_memory(kept) and kept == chosen
+        assert not set(MALLOC_SETTINGS) & set(voila_environment(chosen))
+
+
+def test_the_planner_kernel_starts_with_the_malloc_settings():
+    # the settings reach a child process through its environment: glibc reads them at start
+    # (a child started with voila_environment, as Voila starts the planner's kernel)
+    from layout.runtime import MALLOC_SETTINGS
+    from widgets.__main__ import voila_environment
+
+    code = ("import os; print(os.environ.get('MALLOC_MMAP_THRESHOLD_'), "
+            "os.environ.get('MALLOC_TRIM_THRESHOLD_'))")
+    env = {k: v for k, v in os.environ.items() if not k.startswith("MALLOC_")}
+    done = subprocess.run([sys.executable, "-c", code], env=voila_environment(env),
+                          capture_output=True, text=True, timeout=60, check=True)
+    assert done.stdout.split() == [MALLOC_SETTINGS["MALLOC_MMAP_THRESHOLD_"],
+                                   MALLOC_SETTINGS["MALLOC_TRIM_THRESHOLD_"]]
