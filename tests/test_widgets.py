@@ -606,11 +606,12 @@ def drag_message(planner, index, x_display, y_display, event="drag"):
 
 
 def test_dragging_shows_a_live_preview_and_the_drop_keeps_it(planner, demo):
-    planner.preview_interval_s = 0.0  # every move previews (the app waits 0.25 s first)
+    planner.preview_interval_s = 0.0  # every move previews (the app waits 0.15 s first)
     planner.first_preview_s = 0.0
     try:
         crowns_before = list(planner.plan.tree_marks.x)
         markers_before = list(planner.plan.obstruction_markers.x)
+        notes_before = list(planner.plan.module_targets.names)
         spot = (-1.0, -6.0)
         drag_message(planner, TREE, spot[0] / FOOT_M, spot[1] / FOOT_M)
         x, y = (snap_length(v, "imperial") for v in spot)
@@ -629,9 +630,11 @@ def test_dragging_shows_a_live_preview_and_the_drop_keeps_it(planner, demo):
         assert planner.project is demo and planner.analysis.project is demo
         assert "Preview" in planner.status_line.message.value
         assert f"one day in {days}" in planner.status_line.message.value
-        # the crown follows the marker; the markers, which the mouse holds, are not redrawn
+        # the crown follows the marker; the markers, which the mouse holds, are not redrawn,
+        # nor the modules' hover notes (no pointer hovers a module during a drag)
         assert list(planner.plan.tree_marks.x) != crowns_before
         assert list(planner.plan.obstruction_markers.x) == markers_before
+        assert list(planner.plan.module_targets.names) == notes_before
         # a drag that ends where it began puts the project's own figures back
         drag_message(planner, TREE, markers_before[TREE], planner.plan.obstruction_markers
                      .y[TREE], event="drag_end")
@@ -648,6 +651,10 @@ def test_dragging_shows_a_live_preview_and_the_drop_keeps_it(planner, demo):
         assert planner.project == dropped and planner.analysis.project is planner.project
         assert shown_loss(planner) == pytest.approx(
             evaluate(dropped).totals["shade_loss_pct"], abs=0.005)
+        # the drop's hover notes are those of its exact figures
+        notes = list(planner.plan.module_targets.names)
+        assert notes != notes_before and all(
+            planner.plan.module_notes[mid] in notes for mid in planner.plan.module_ids)
     finally:
         planner.preview_interval_s = planner.PREVIEW_INTERVAL_S
         planner.first_preview_s = planner.FIRST_PREVIEW_S

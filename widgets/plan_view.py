@@ -533,8 +533,10 @@ class PlanView(Quiet, w.VBox):
             last draw: faces, zones and modules are left as drawn and the view is not refitted,
             which keeps a drag quick and the plan still under the mouse.
         preview : bool, keyword-only
-            True while a marker is being dragged: the footprints and the module figures follow
-            the scene, the markers (which the mouse holds) and what a drop compares with stay.
+            True while a marker is being dragged: the footprints and the module colours follow
+            the scene; the markers (which the mouse holds), the modules' hover notes (no
+            pointer hovers during a drag: the drop brings them) and what a drop compares with
+            stay.
         """
         if preview and self._scene is not None and units == self.units:
             self._draw_obstructions(scene, markers=False)
@@ -663,7 +665,7 @@ class PlanView(Quiet, w.VBox):
                 self.obstruction_markers.y = self._anchors[:, 1].tolist()
                 self.obstruction_markers.names = _marker_names(scene)
                 self._draw_surveyed(scene)
-            self._paint_modules(scene)
+            self._paint_modules(scene, notes=markers)
         if markers and not self._surveyed_in_view(scene):
             self.fit()  # a surveyed obstruction outside the view: show the whole site
 
@@ -732,12 +734,14 @@ class PlanView(Quiet, w.VBox):
             self.shadow_marks.fill_colors = [style.SHADOW_FILL] * n
             self.shadow_marks.fill_opacities = [style.SHADOW_OPACITY] * n
 
-    def _paint_modules(self, scene: PlanScene) -> None:
+    def _paint_modules(self, scene: PlanScene, *, notes: bool = True) -> None:
         values = self.module_values
         k = self._k
         active = [(mid, ring) for mid, ring, on in scene.modules if on]
         active_ids = [mid for mid, _ in active]
-        self.module_targets.names = [self.module_notes.get(mid, mid) for mid in self._module_ids]
+        if notes:  # the hover notes; a preview leaves them (one message less a move)
+            self.module_targets.names = [self.module_notes.get(mid, mid)
+                                         for mid in self._module_ids]
         self.flag_marks.x, self.flag_marks.y = padded_rings(
             [ring for mid, ring in active if mid in self.flagged], k)
         centre = self._centres.get(self.selected_id) if self.selected_id else None

@@ -45,8 +45,8 @@ class LivePreviews:
     #: previews exactly on the main analysis.
     SAMPLED_PREVIEW_MODULES = 200
     #: A drag previews only once it has lasted this long [s]: a quick drag goes straight to
-    #: its drop, with the kernel free.
-    FIRST_PREVIEW_S = 0.25
+    #: its drop, with the kernel free (a preview on the demo takes about 10 ms of the kernel).
+    FIRST_PREVIEW_S = 0.15
 
     def _init_previews(self) -> None:
         """Set the preview settings to their defaults and clear the drag state."""

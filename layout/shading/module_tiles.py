@@ -152,7 +152,13 @@ def _block_tiles(parts, lo: int, span: int, n_mod: int, n_cells: int, below, as_
     # a module's cells run over whole rows
     values = np.full((n_cells, n_tiles), 0.0 if as_shade else 1.0, dtype=np.float32)
     flat_values = values.reshape(-1)
-    for key, cell, factor in keyed:
+    # the first crown's factors are set, not multiplied into the ones (1 · f is f), before
+    # every other entry: an opaque hit sets 0 whenever it comes (0 · f is 0 too), and the
+    # crowns after it multiply in their order, so every value is the same bit for bit
+    first = next((k for k, (_, _, factor) in enumerate(keyed) if factor is not None), None)
+    if first:
+        keyed.insert(0, keyed.pop(first))
+    for number, (key, cell, factor) in enumerate(keyed):
         # in place, no new arrays (a fresh one costs its page faults); take is faster than
         # tile_of[key], and writes over the keys read (every key is in range)
         flat = np.take(tile_of, key, out=key, mode="clip")
@@ -160,6 +166,8 @@ def _block_tiles(parts, lo: int, span: int, n_mod: int, n_cells: int, below, as_
         flat += cell
         if factor is None:
             flat_values[flat] = 1.0 if as_shade else 0.0
+        elif number == 0:
+            flat_values[flat] = factor
         else:
             flat_values[flat] *= factor  # each (step, point) once per obstruction
     if not as_shade:
