@@ -9,11 +9,12 @@ design on about a tenth of the area, with 3.
 Each case runs in a child process (``--child``) that builds the project, times
 ``Analysis(project)`` (fill, sun, shading of every cell with every module a caster, sky view,
 irradiance, power, tables; large array work on :func:`layout.runtime.worker_threads` threads,
-``EAVELINE_THREADS=1`` for one) and reports its wall and CPU time and its peak resident memory
-(VmHWM). The parent prints both, the 500 → 5,000 cost ratio (CPU time) beside the module
-ratio, and the targets (500 modules: <= 3 s; 5,000 modules: <= 30 s, <= 4 GB; cost growing
-no faster than the module count). The load average is printed
-beside the figures: the machine may be shared.
+``EAVELINE_THREADS=1`` for one) and reports its wall and CPU time, its peak resident memory
+(VmHWM) and the page faults it took (fresh memory costs a few microseconds a page on a
+virtual machine). The parent prints both, the 500 → 5,000 cost ratio (CPU time) beside the
+module ratio, and the targets (500 modules: <= 3 s; 5,000 modules: <= 30 s, <= 4 GB; cost
+growing no faster than the module count). The load average is printed beside the figures:
+the machine may be shared.
 
 Run: ``.venv/bin/python benchmarks/warehouse.py [--only 500|5000]``.
 """
@@ -23,6 +24,7 @@ from __future__ import annotations
 import argparse
 import json
 import os
+import resource
 import subprocess
 import sys
 import time
@@ -79,14 +81,16 @@ def child(modules: int) -> None:
 
     process_settings()
     project = warehouse_project(modules)
+    faults = resource.getrusage(resource.RUSAGE_SELF).ru_minflt
     started, cpu = time.perf_counter(), time.process_time()
     analysis = Analysis(project)
     seconds = time.perf_counter() - started
     cpu = time.process_time() - cpu
+    faults = resource.getrusage(resource.RUSAGE_SELF).ru_minflt - faults
     print(json.dumps({
         "modules": len(analysis.result.modules), "obstructions": len(project.obstructions),
         "seconds": round(seconds, 2), "cpu_seconds": round(cpu, 2),
-        "threads": worker_threads(),
+        "threads": worker_threads(), "page_faults": faults,
         "peak_rss_mb": round(peak_rss_mb(), 1),
         "stages": {k: round(v, 2) for k, v in analysis.timings.items()},
         "energy_kwh": round(float(analysis.result.totals["energy_kwh"]), 1),
@@ -111,7 +115,7 @@ def main() -> None:
         print(f"warehouse, {data['modules']} modules, {data['obstructions']} rooftop units: "
               f"whole evaluation {data['seconds']} s (CPU {data['cpu_seconds']} s on "
               f"{data['threads']} threads), "
-              f"peak RSS {data['peak_rss_mb']:.0f} MB "
+              f"peak RSS {data['peak_rss_mb']:.0f} MB, {data['page_faults']:,} page faults "
               f"(load {load:.1f}); stages {data['stages']}")
     if len(found) == 2:
         small, big = found[500], found[5000]
