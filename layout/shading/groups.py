@@ -100,8 +100,8 @@ def _row_blocks(n_steps: int, rows: np.ndarray, per: int, entries, window: int =
     ``rows`` holds every step with a hit. With one block the entries are given whole. With
     more than :data:`_MASK_BLOCKS` blocks, or hits in order of their windows of ``window``
     steps already (a cache keeps them so), blocks begin and end where windows do, and each
-    block's hits are a slice of each entry, found by a search of the entry's windows
-    (entries not in that order are put in it first, :func:`_in_window_order`); with fewer,
+    block's hits are a slice of each entry, found by a binary search of its steps (entries
+    not in that order are put in it first, :func:`_in_window_order`); with fewer,
     each block picks its hits by a mask over their steps. A ``window`` above ``per`` is
     taken down to it (:func:`_step_window` gives one that is not).
     """
@@ -110,12 +110,10 @@ def _row_blocks(n_steps: int, rows: np.ndarray, per: int, entries, window: int =
         yield 0, n_rows, entries
         return
     window = min(window, 1 << (per.bit_length() - 1))
-    keys = [_step_windows(step, window) for step, _, _ in entries]
-    in_order = all(len(key) < 2 or (key[1:] >= key[:-1]).all() for key in keys)
-    if in_order or _blocks(n_rows, per) > _MASK_BLOCKS:  # slices
-        if not in_order:
-            entries = [_in_window_order(entry, n_steps, window) for entry in entries]
-            keys = [_step_windows(step, window) for step, _, _ in entries]
+    if _blocks(n_rows, per) > _MASK_BLOCKS or all(
+            len(step) < 2 or _step_window_order(step, n_steps, window) is None
+            for step, _, _ in entries):  # slices
+        entries = [_in_window_order(entry, n_steps, window) for entry in entries]
         # blocks of at most per rows, each ending where a window ends: a window holds at
         # most per rows, so every block holds at least one
         row_window = _step_windows(rows, window)
@@ -123,10 +121,14 @@ def _row_blocks(n_steps: int, rows: np.ndarray, per: int, entries, window: int =
         while starts[-1] + per < n_rows:
             cut = starts[-1] + per  # the first row beyond a full block: back to its window
             starts.append(int(np.searchsorted(row_window, row_window[cut], side="left")))
-        first = row_window[starts]
-        # where each block's hits begin in each entry, found once (in the windows' own
-        # dtype); a block ends where the next begins, as the rows hold every step with a hit
-        cuts = [np.r_[np.searchsorted(key, first.astype(key.dtype)), len(key)] for key in keys]
+        # where each block's hits begin in each entry, found once: a binary search for the
+        # first step of the block's first window is exact on hits in window order (every
+        # hit before it is in an earlier window, so its step is smaller), and searches in
+        # the steps' own dtype convert none of them; a block ends where the next begins, as
+        # the rows hold every step with a hit
+        first = row_window[starts] * window
+        cuts = [np.r_[np.searchsorted(step, first.astype(step.dtype)), len(step)]
+                for step, _, _ in entries]
         starts.append(n_rows)
         for b in range(len(starts) - 1):
             yield starts[b], starts[b + 1], [
@@ -134,7 +136,6 @@ def _row_blocks(n_steps: int, rows: np.ndarray, per: int, entries, window: int =
                  None if factor is None else factor[cuts[k][b]:cuts[k][b + 1]])
                 for k, (step, point, factor) in enumerate(entries)]
         return
-    del keys
     for r0 in range(0, n_rows, per):
         r1 = min(n_rows, r0 + per)
         parts = []
