@@ -63,8 +63,10 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 import pandas as pd
@@ -486,8 +488,14 @@ class DcPower:
         M module ids, in column order.
     options : ElectricalOptions
         The settings used.
-    dc_w, dc_unshaded_w : numpy.ndarray, shape (T, M)
-        DC power with and without shade [W] (for strings: each module's share).
+    dc_w : numpy.ndarray, shape (T, M)
+        DC power with shade [W] (for strings: each module's share).
+    unshaded_w : numpy.ndarray, shape (T, P) or (T, M)
+        DC power without shade [W]: of each plane, module ``m`` lying in plane ``group[m]``;
+        or, with ``group`` None, of each module (strings: their unshaded power still depends
+        on their modules). :attr:`dc_unshaded_w` gives it per module.
+    group : numpy.ndarray of int, shape (M,), or None
+        Plane of each module (a column of ``unshaded_w``), or None.
     strings : tuple of tuple of str or None
         The strings used (``"string"`` model only).
     string_dc_w : numpy.ndarray, shape (T, n_strings) or None
@@ -501,11 +509,25 @@ class DcPower:
     module_ids: tuple[str, ...]
     options: ElectricalOptions
     dc_w: np.ndarray
-    dc_unshaded_w: np.ndarray
+    unshaded_w: np.ndarray
+    group: np.ndarray | None = None
     strings: tuple[tuple[str, ...], ...] | None = None
     string_dc_w: np.ndarray | None = None
     ac_w: np.ndarray | None = None
     ac_unshaded_w: np.ndarray | None = None
+
+    @cached_property
+    def dc_unshaded_w(self) -> np.ndarray:
+        """DC power of each module without shade [W], (T, M), gathered on first reading.
+
+        Laid out column by column, so that sums over the steps give each module the same
+        figure as the sums of its plane's column (:func:`layout.power.metrics.module_table`
+        sums the planes, and a roof of thousands of modules never holds this array unless a
+        monthly or hourly table asks for it).
+        """
+        if self.group is None:
+            return self.unshaded_w
+        return _gather_columns(self.unshaded_w, self.group)
 
 
 def _ac_share(dc: np.ndarray, groups, pdc0_each: float, efficiency: float) -> np.ndarray:
@@ -565,10 +587,10 @@ def dc_power(irradiance: ModuleIrradiance, spec: ModuleSpec,
         raise InputError("spec.bypass_diodes", "does not match the substrings of the irradiance",
                          value=spec.bypass_diodes, allowed=f"{sub.shape[2]}")
     pdc0, gamma = spec.power_w, options.gamma_pdc
-    # unshaded power depends on the plane only: once per plane, then gathered per module
-    unshaded = _gather_columns(dc_irradiance_only(irradiance.plane_effective,
-                                                  irradiance.plane_temp_cell, pdc0,
-                                                  gamma_pdc=gamma), irradiance.group)
+    # unshaded power depends on the plane only: once per plane, gathered per module on reading
+    unshaded = dc_irradiance_only(irradiance.plane_effective, irradiance.plane_temp_cell, pdc0,
+                                  gamma_pdc=gamma)
+    group = irradiance.group
     strings = string_dc = None
     groups = [np.array([i]) for i in range(n_modules)]
     if options.shade_model == "irradiance":
@@ -590,10 +612,12 @@ def dc_power(irradiance: ModuleIrradiance, spec: ModuleSpec,
         unshaded, _ = dc_strings(irradiance.effective_unshaded[:, :, None],
                                  irradiance.temp_cell_unshaded, pdc0 * 1.0, groups,
                                  gamma_pdc=gamma)
-    ac = ac_un = None
-    if options.inverter_efficiency is not None:
-        ac = _ac_share(dc, groups, pdc0, options.inverter_efficiency)
-        ac_un = _ac_share(unshaded, groups, pdc0, options.inverter_efficiency)
-    return DcPower(times=irradiance.times, module_ids=module_ids, options=options, dc_w=dc,
-                   dc_unshaded_w=unshaded, strings=strings, string_dc_w=string_dc, ac_w=ac,
-                   ac_unshaded_w=ac_un)
+        group = None  # per module already
+    power = DcPower(times=irradiance.times, module_ids=module_ids, options=options, dc_w=dc,
+                    unshaded_w=unshaded, group=group, strings=strings,
+                    string_dc_w=string_dc)
+    if options.inverter_efficiency is None:
+        return power
+    ac = _ac_share(dc, groups, pdc0, options.inverter_efficiency)
+    ac_un = _ac_share(power.dc_unshaded_w, groups, pdc0, options.inverter_efficiency)
+    return dataclasses.replace(power, ac_w=ac, ac_unshaded_w=ac_un)

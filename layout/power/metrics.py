@@ -203,12 +203,17 @@ def module_table(power, irradiance, modules, *, step_minutes: float,
         ``tof_pct``, ``tsrf_pct``. ``attrs["energy_basis"]`` is "AC" or "DC".
     """
     modules = tuple(modules)
-    shaded_w, unshaded_w, basis = _energy_arrays(power)
+    shaded_w, basis = (power.dc_w, "DC") if power.ac_w is None else (power.ac_w, "AC")
     if shaded_w.shape[1] != len(modules):
         raise InputError("modules", "must match the power columns", value=len(modules),
                          allowed=str(shaded_w.shape[1]))
     energy = energy_kwh(shaded_w, step_minutes)
-    unshaded = energy_kwh(unshaded_w, step_minutes)
+    if basis == "DC" and power.group is not None:
+        # per plane, then per module: the sums of dc_unshaded_w's columns (laid out column
+        # by column, each its plane's), without gathering a (T, M) array
+        unshaded = energy_kwh(np.asfortranarray(power.unshaded_w), step_minutes)[power.group]
+    else:
+        unshaded = energy_kwh(_energy_arrays(power)[1], step_minutes)
     poa = energy_kwh(irradiance.poa_global, step_minutes)
     # per plane, then per module: the same sums without a (T, M) array of the planes' values
     poa_unshaded = energy_kwh(np.asfortranarray(irradiance.plane_poa_global),

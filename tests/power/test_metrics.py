@@ -63,3 +63,25 @@ def test_layout_totals_equal_pandas_sums_and_means_bit_for_bit(missing):
         expected = float(table[column].mean())
         assert totals[column] == expected or (np.isnan(expected) and np.isnan(totals[column]))
     assert totals["modules_below_tsrf"] == int((table["tsrf_pct"] < 75.0).sum())
+
+
+def test_unshaded_energy_summed_per_plane_equals_the_per_module_sums_bit_for_bit():
+    # module_table sums each plane's unshaded power and hands the sum to the plane's modules;
+    # DcPower.dc_unshaded_w gathers the same columns per module only when read, laid out
+    # column by column: its sums over the steps are the same floats (the demo: four faces)
+    from layout import load_demo_project
+    from layout.study.analysis import Analysis
+
+    result = Analysis(load_demo_project()).result
+    power = result.power
+    assert power.group is not None and power.unshaded_w.shape[1] < power.dc_w.shape[1]
+    assert "dc_unshaded_w" not in vars(power)  # the evaluation never gathered it
+    per_module = power.dc_unshaded_w
+    assert per_module.flags.f_contiguous
+    assert np.array_equal(per_module, power.unshaded_w[:, power.group])
+    step = result.weather.step_minutes
+    assert np.array_equal(result.table["energy_unshaded_kwh"].to_numpy(),
+                          energy_kwh(per_module, step))
+    monthly = metrics.monthly_table(power, step_minutes=step)
+    assert monthly["energy_unshaded_kwh"].sum() == pytest.approx(
+        result.table["energy_unshaded_kwh"].sum(), rel=1e-12)
