@@ -139,14 +139,15 @@ def _grid(plate_set: PlateSet):
     normal = np.stack([edge[..., 1] * sign, -edge[..., 0] * sign], axis=-1)
     normal /= np.linalg.norm(normal, axis=-1, keepdims=True)
     offset = np.sum(normal * ring, axis=-1)
-    keys, plates = [], []
-    for k in range(len(outlines)):
-        i0, i1 = int((low[k, 0] - u0) // cell), int((high[k, 0] - u0) // cell)
-        j0, j1 = int((low[k, 1] - v0) // cell), int((high[k, 1] - v0) // cell)
-        ii, jj = np.meshgrid(np.arange(i0, i1 + 1), np.arange(j0, j1 + 1), indexing="ij")
-        keys.append((ii * nv + jj).ravel())
-        plates.append(np.full(ii.size, k))
-    keys, plates = np.concatenate(keys), np.concatenate(plates)
+    # the cells each plate's box covers, plate by plate, each box row by row (i, then j)
+    i0, i1 = ((low[:, 0] - u0) // cell).astype(int), ((high[:, 0] - u0) // cell).astype(int)
+    j0, j1 = ((low[:, 1] - v0) // cell).astype(int), ((high[:, 1] - v0) // cell).astype(int)
+    wide = j1 - j0 + 1
+    count = (i1 - i0 + 1) * wide
+    plates = np.repeat(np.arange(len(outlines)), count)
+    local = np.arange(int(count.sum())) - np.repeat(np.cumsum(count) - count, count)
+    across = np.repeat(wide, count)
+    keys = (np.repeat(i0, count) + local // across) * nv + np.repeat(j0, count) + local % across
     order = np.argsort(keys, kind="stable")
     keys, members = keys[order], plates[order]
     count = np.bincount(keys, minlength=nu * nv)
@@ -154,10 +155,10 @@ def _grid(plate_set: PlateSet):
     # a cell is surely inside a plate when its corners, grown by _SURE_M, are inside by as much
     cu, cv = keys // nv, keys % nv
     inside = np.ones(len(keys), dtype=bool)
+    n, c = normal[members], offset[members]  # each cell's plate's edges
     for du, dv in ((0, 0), (1, 0), (0, 1), (1, 1)):
         x = u0 + (cu + du) * cell + (2 * du - 1) * _SURE_M
         y = v0 + (cv + dv) * cell + (2 * dv - 1) * _SURE_M
-        n, c = normal[members], offset[members]
         inside &= (n[..., 0] * x[:, None] + n[..., 1] * y[:, None] <= c - _SURE_M).all(axis=1)
     status = np.where(count > 0, 2, 0).astype(np.int8)
     status[keys[inside]] = 1
