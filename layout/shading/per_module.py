@@ -229,9 +229,12 @@ class _Reductions:
 
     def _allocate(self, n_rows: int) -> None:
         n_mod, n_sub = self.n_mod, len(self.cells)
-        # zeros: module tiles (:meth:`at_tiles`) fill only where some cell has shade
-        self.mean = np.zeros((n_mod, n_rows))
-        self.worst = np.zeros((n_mod, n_sub, n_rows), dtype=np.float32)
+        # zeros: module tiles (:meth:`at_tiles`) fill only where some cell has shade. Laid
+        # out step by step (Fortran order): tiles come step by step, so that their values
+        # land close together, and readers take a block of modules at all steps, as a
+        # contiguous (steps, modules) transpose
+        self.mean = np.zeros((n_mod, n_rows), order="F")
+        self.worst = np.zeros((n_mod, n_sub, n_rows), dtype=np.float32, order="F")
         if self.keep_cells:
             self.substring = np.zeros((n_mod, n_sub, n_rows), dtype=np.float32)
             self.by_cell = np.zeros((n_mod, self.n_cells, n_rows), dtype=np.float32)
