@@ -143,11 +143,11 @@ def _grid(plate_set: PlateSet):
     i0, i1 = ((low[:, 0] - u0) // cell).astype(int), ((high[:, 0] - u0) // cell).astype(int)
     j0, j1 = ((low[:, 1] - v0) // cell).astype(int), ((high[:, 1] - v0) // cell).astype(int)
     wide = j1 - j0 + 1
-    count = (i1 - i0 + 1) * wide
-    plates = np.repeat(np.arange(len(outlines)), count)
-    local = np.arange(int(count.sum())) - np.repeat(np.cumsum(count) - count, count)
-    across = np.repeat(wide, count)
-    keys = (np.repeat(i0, count) + local // across) * nv + np.repeat(j0, count) + local % across
+    boxed = (i1 - i0 + 1) * wide  # cells of each plate's box
+    plates = np.repeat(np.arange(len(outlines)), boxed)
+    local = np.arange(int(boxed.sum())) - np.repeat(np.cumsum(boxed) - boxed, boxed)
+    across = np.repeat(wide, boxed)
+    keys = (np.repeat(i0, boxed) + local // across) * nv + np.repeat(j0, boxed) + local % across
     order = np.argsort(keys, kind="stable")
     keys, members = keys[order], plates[order]
     count = np.bincount(keys, minlength=nu * nv)
