@@ -63,7 +63,6 @@ References
 
 from __future__ import annotations
 
-import dataclasses
 import math
 from dataclasses import dataclass
 from functools import cached_property
@@ -613,11 +612,12 @@ def dc_power(irradiance: ModuleIrradiance, spec: ModuleSpec,
                                  irradiance.temp_cell_unshaded, pdc0 * 1.0, groups,
                                  gamma_pdc=gamma)
         group = None  # per module already
-    power = DcPower(times=irradiance.times, module_ids=module_ids, options=options, dc_w=dc,
-                    unshaded_w=unshaded, group=group, strings=strings,
-                    string_dc_w=string_dc)
-    if options.inverter_efficiency is None:
-        return power
-    ac = _ac_share(dc, groups, pdc0, options.inverter_efficiency)
-    ac_un = _ac_share(power.dc_unshaded_w, groups, pdc0, options.inverter_efficiency)
-    return dataclasses.replace(power, ac_w=ac, ac_unshaded_w=ac_un)
+    ac = ac_un = None
+    if options.inverter_efficiency is not None:
+        if group is not None:  # the inverters need each module's: gathered once, kept
+            unshaded, group = _gather_columns(unshaded, group), None
+        ac = _ac_share(dc, groups, pdc0, options.inverter_efficiency)
+        ac_un = _ac_share(unshaded, groups, pdc0, options.inverter_efficiency)
+    return DcPower(times=irradiance.times, module_ids=module_ids, options=options, dc_w=dc,
+                   unshaded_w=unshaded, group=group, strings=strings, string_dc_w=string_dc,
+                   ac_w=ac, ac_unshaded_w=ac_un)
