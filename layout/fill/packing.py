@@ -94,7 +94,10 @@ def _first_last(mask: np.ndarray, axis: int) -> tuple[np.ndarray, np.ndarray]:
 def _lattice_fits(region, size_u, size_v, pitch_u, pitch_v, steps):
     """Fit test of every candidate on the fine lattice; returns (fits, u0, v0, du, dv).
 
-    ``fits`` has shape (rows, columns), both multiples of ``steps`` (padded with False).
+    ``fits`` has shape (rows, columns), both multiples of ``steps`` (padded with False). A
+    candidate ``[u, u + size_u] × [v, v + size_v]`` fits when its lattice row's free
+    intervals (:func:`row_free_intervals`, one band per row, not one box per candidate) hold
+    ``[u + tol, u + size_u - tol]``, as :func:`shapely.covers` would find it.
     """
     u_lo, v_lo, u_hi, v_hi = region.bounds
     du, dv = pitch_u / steps, pitch_v / steps
@@ -106,12 +109,13 @@ def _lattice_fits(region, size_u, size_v, pitch_u, pitch_v, steps):
     nv = math.floor(span_v / dv) + 1
     us = u_lo + np.arange(nu) * du
     vs = v_lo + np.arange(nv) * dv
-    uu, vv = np.meshgrid(us, vs)
-    candidates = shapely.box(uu + tol, vv + tol, uu + size_u - tol, vv + size_v - tol)
-    shapely.prepare(region)
-    fits = shapely.covers(region, candidates)
     padded = np.zeros((-(-nv // steps) * steps, -(-nu // steps) * steps), dtype=bool)
-    padded[:nv, :nu] = fits
+    first, last = us + tol, us + size_u - tol  # each candidate's extent along u
+    for row, free in enumerate(row_free_intervals(region, vs, size_v)):
+        if len(free):
+            # the one interval that can hold a candidate: the last to start at or before it
+            k = np.searchsorted(free[:, 0], first, side="right") - 1
+            padded[row, :nu] = (k >= 0) & (last <= free[np.maximum(k, 0), 1])
     return padded, u_lo, v_lo, du, dv
 
 

@@ -156,3 +156,37 @@ def test_rows_find_a_band_that_only_one_height_fits():
                             offset_steps=8)
     assert len(rects) == 3  # floor((6 + 0.02) / 1.742)
     np.testing.assert_allclose(rects[:, 1], 0.05, atol=1e-9)
+
+
+def _with_holes(seed, n):
+    """The random faces of :func:`_shapes` with up to three rectangular holes (vents)."""
+    rng = np.random.default_rng(100 + seed)
+    for region in _shapes(seed, n):
+        u_lo, v_lo, u_hi, v_hi = region.bounds
+        for _ in range(rng.integers(0, 4)):
+            u, v = rng.uniform(u_lo, u_hi), rng.uniform(v_lo, v_hi)
+            region = region.difference(shapely.box(u, v, u + rng.uniform(0.2, 1.5),
+                                                   v + rng.uniform(0.2, 1.5)))
+        yield region
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_grid_lattice_fits_are_shapely_covers_candidate_by_candidate(seed):
+    # the grid mode's fit test works a row band at a time (row_free_intervals); the outside
+    # reference is shapely's covers (GEOS) on each candidate rectangle, the test the grid
+    # mode made before; exact-fit rectangles too, where candidates touch the outline
+    from layout.fill.packing import _lattice_fits
+
+    regions = list(_with_holes(seed, 6))
+    regions.append(shapely.box(0.3, 0.7, 0.3 + 3 * SIZE_U + 2 * GAP_U, 0.7 + 2 * SIZE_V + GAP_V))
+    tol = FIT_TOLERANCE_M
+    for region in regions:
+        steps = 4
+        fits, u0, v0, du, dv = _lattice_fits(region, SIZE_U, SIZE_V, SIZE_U + GAP_U,
+                                             SIZE_V + GAP_V, steps)
+        rows, cols = np.indices(fits.shape)
+        us, vs = u0 + cols * du, v0 + rows * dv
+        expected = shapely.covers(region, shapely.box(us + tol, vs + tol, us + SIZE_U - tol,
+                                                      vs + SIZE_V - tol))
+        np.testing.assert_array_equal(fits, expected)
+    assert fits.sum() > 0
