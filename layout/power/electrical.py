@@ -317,27 +317,39 @@ def dc_module_level(substring_irradiance, temp_cell, pdc0: float, *,
                          value=g.shape)
     s = g.shape[2]
     temp = np.asarray(temp_cell, dtype=float)
-    # The k-th brightest substring G_(k) is the substring j that has k substrings at least
-    # as bright (ties share the largest k), so the candidates (k / S) G_(k) are
-    # rank_j / S * G_j, found with S² whole-array comparisons instead of a sort along the
-    # short substring axis. pvwatts_dc is G times a factor of the temperature: the best
-    # candidate is the largest while that factor is positive, the smallest otherwise.
     if s == 0:
         return np.zeros(g.shape[:2])
     if temp.shape != g.shape[:2]:
         temp = np.broadcast_to(temp, g.shape[:2])
     # no light at a step on any module: no power; the rest (about half a year of hours) are
     # worked on alone, each value as it would be among all the steps
-    out = np.zeros(g.shape[:2])
     lit = _lit_steps(g)
+    return _module_level_power(g.shape[1], lit, lambda part: g[lit, part], temp, pdc0,
+                               gamma_pdc, n_steps=len(g))
+
+
+def _module_level_power(n_modules: int, lit, lit_block, temp, pdc0: float, gamma_pdc: float,
+                        *, n_steps: int) -> np.ndarray:
+    """:func:`dc_module_level` from the substrings' irradiance at the steps ``lit`` (L,).
+
+    ``lit_block(part)`` gives the (L, width, S) irradiance of the modules ``part`` (a slice)
+    at those steps; every other step has no power. Returns (T, M) [W].
+    """
+    # The k-th brightest substring G_(k) is the substring j that has k substrings at least
+    # as bright (ties share the largest k), so the candidates (k / S) G_(k) are
+    # rank_j / S * G_j, found with S² whole-array comparisons instead of a sort along the
+    # short substring axis. pvwatts_dc is G times a factor of the temperature: the best
+    # candidate is the largest while that factor is positive, the smallest otherwise.
+    out = np.zeros((n_steps, n_modules))
     # a block of modules at a time (every step is reduced within its module): the
     # temporaries stay a few (T, block) arrays on a roof of thousands of modules
-    block = even_block(g.shape[1], _BLOCK_VALUES // max(1, len(lit)))
+    block = even_block(n_modules, _BLOCK_VALUES // max(1, len(lit)))
 
     def block_power(lo: int) -> None:  # modules lo to lo + block, their columns only
         part = slice(lo, lo + block)
         temp_lit = temp[lit, part]
-        lit_g = g[lit, part]
+        lit_g = lit_block(part)
+        s = lit_g.shape[2]
         substrings = [np.ascontiguousarray(lit_g[:, :, j]) for j in range(s)]  # S × (T, m)
         highest = lowest = None
         for brightness in substrings:
@@ -358,7 +370,7 @@ def dc_module_level(substring_irradiance, temp_cell, pdc0: float, *,
         best *= factor
         out[lit, part] = best
 
-    parallel_map(block_power, range(0, g.shape[1], block))
+    parallel_map(block_power, range(0, n_modules, block))
     return out
 
 
@@ -581,10 +593,10 @@ def dc_power(irradiance: ModuleIrradiance, spec: ModuleSpec,
     if len(module_ids) != n_modules:
         raise InputError("modules", "must give one module per irradiance column",
                          value=len(module_ids), allowed=f"{n_modules}")
-    sub = irradiance.substring_effective
-    if sub.shape[2] != spec.bypass_diodes:
+    light = irradiance.substring_light
+    if light.n_substrings != spec.bypass_diodes:
         raise InputError("spec.bypass_diodes", "does not match the substrings of the irradiance",
-                         value=spec.bypass_diodes, allowed=f"{sub.shape[2]}")
+                         value=spec.bypass_diodes, allowed=f"{light.n_substrings}")
     pdc0, gamma = spec.power_w, options.gamma_pdc
     # unshaded power depends on the plane only: once per plane, gathered per module on reading
     unshaded = dc_irradiance_only(irradiance.plane_effective, irradiance.plane_temp_cell, pdc0,
@@ -596,7 +608,11 @@ def dc_power(irradiance: ModuleIrradiance, spec: ModuleSpec,
         dc = dc_irradiance_only(irradiance.effective, irradiance.temp_cell, pdc0,
                                 gamma_pdc=gamma)
     elif options.shade_model == "module":
-        dc = dc_module_level(sub, irradiance.temp_cell, pdc0, gamma_pdc=gamma)
+        # a block of modules at a time from what the substrings' irradiance is made of,
+        # without the (T, M, S) array (dc_module_level's values, bit for bit)
+        dc = _module_level_power(n_modules, light.lit_steps, light.block,
+                                 np.asarray(irradiance.temp_cell, dtype=float), pdc0, gamma,
+                                 n_steps=len(irradiance.times))
     else:
         if options.strings is not None:
             strings = options.strings
@@ -606,7 +622,8 @@ def dc_power(irradiance: ModuleIrradiance, spec: ModuleSpec,
             raise InputError("modules", "are needed to assign strings automatically",
                              allowed="the placed modules, or strings in the options")
         groups = _string_index(strings, module_ids)
-        dc, string_dc = dc_strings(sub, irradiance.temp_cell, pdc0, groups, gamma_pdc=gamma)
+        dc, string_dc = dc_strings(irradiance.substring_effective, irradiance.temp_cell, pdc0,
+                                   groups, gamma_pdc=gamma)
         # unshaded strings still mismatch when their modules face different ways
         unshaded, _ = dc_strings(irradiance.effective_unshaded[:, :, None],
                                  irradiance.temp_cell_unshaded, pdc0 * 1.0, groups,

@@ -68,6 +68,7 @@ References
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 import pandas as pd
@@ -83,6 +84,7 @@ __all__ = [
     "MOUNTS",
     "SKY_MODELS",
     "ModuleIrradiance",
+    "SubstringLight",
     "iam_factors",
     "module_irradiance",
     "orientation_groups",
@@ -453,12 +455,101 @@ def substring_shade(beam_shaded, *, cell_substring=None, n_substrings: int | Non
 
 # --------------------------------------------------------------------------- result
 @dataclass(frozen=True, eq=False)
+class SubstringLight:
+    """What the most shaded cell of each substring receives, made a block of modules at a time.
+
+    The (T, M, S) array of :attr:`ModuleIrradiance.substring_effective` is the largest of an
+    evaluation (518 MB on a roof of 4,930 modules). This holds what it is made of, so that
+    the power of each module can be worked out a block of modules at a time without it
+    (:meth:`block`), and the array itself is made only when it is read.
+
+    Attributes
+    ----------
+    n_steps : int
+        Steps of the weather, T.
+    lit_steps : numpy.ndarray of int, shape (L,)
+        Increasing steps where some plane has light; at the others every substring receives
+        nothing.
+    group : numpy.ndarray of int, shape (M,)
+        Plane of each module.
+    beam_eff, sky_eff, ground_eff : numpy.ndarray, shape (L, O)
+        Each plane's beam (with circumsolar), sky and ground-reflected irradiance after
+        incidence-angle losses at the lit steps [W/m²].
+    sky_view : numpy.ndarray, shape (M,)
+        Sky-view ratio of each module.
+    worst_rows : numpy.ndarray of float32, shape (M, S, R)
+        Each substring's most shaded cell at the steps that have shade [fraction].
+    shade_at : numpy.ndarray of int, shape (R',)
+        Position among the lit steps of each step that has shade (those without light left
+        out, see ``shade_kept``).
+    shade_kept : numpy.ndarray of bool, shape (R,), or None
+        Which steps with shade have light; None when all do.
+    """
+
+    n_steps: int
+    lit_steps: np.ndarray
+    group: np.ndarray
+    beam_eff: np.ndarray
+    sky_eff: np.ndarray
+    ground_eff: np.ndarray
+    sky_view: np.ndarray
+    worst_rows: np.ndarray
+    shade_at: np.ndarray
+    shade_kept: np.ndarray | None
+
+    @property
+    def n_substrings(self) -> int:
+        """Substrings per module, S."""
+        return self.worst_rows.shape[1]
+
+    def block(self, part: slice) -> np.ndarray:
+        """Irradiance of each substring's most shaded cell, modules ``part``, lit steps only.
+
+        ``(1 - worst) · beam + sky · sky_view + ground`` after incidence-angle losses, in
+        single precision [W/m²].
+
+        Parameters
+        ----------
+        part : slice
+            A block of modules (columns), step 1.
+
+        Returns
+        -------
+        numpy.ndarray of float32, shape (L, width, S)
+            The values of ``substring_effective[lit_steps, part]``.
+        """
+        g = self.group[part]
+        width, n_sub = len(g), self.n_substrings
+        if width and (g == g[0]).all():  # one plane: its columns broadcast, no gather
+            g = slice(g[0], g[0] + 1)
+        out = np.zeros((len(self.lit_steps), width, n_sub), dtype=np.float32)
+        if len(self.shade_at):
+            worst = self.worst_rows[part]
+            if self.shade_kept is not None:
+                worst = worst[:, :, self.shade_kept]
+            out[self.shade_at] = worst.transpose(2, 0, 1)
+        diffuse = self.sky_eff[:, g] * self.sky_view[part]
+        diffuse += self.ground_eff[:, g]
+        # (1 - worst) · beam + diffuse in single precision, one substring at a time (a
+        # broadcast over the short last axis is slow)
+        np.subtract(np.float32(1.0), out, out=out)
+        beam32, diffuse32 = self.beam_eff[:, g].astype(np.float32), diffuse.astype(np.float32)
+        for s in range(n_sub):
+            one = out[:, :, s]
+            one *= beam32
+            one += diffuse32
+        return out
+
+
+@dataclass(frozen=True, eq=False)
 class ModuleIrradiance:
     """Irradiance and cell temperature of each module at each step. Computed, never saved.
 
     The unshaded figures depend on a module's plane only: they are held per plane
     (``plane_*``, (T, O)) and gathered into (T, M) arrays each time they are read, so a
-    roof of thousands of modules on a few planes does not hold them per module.
+    roof of thousands of modules on a few planes does not hold them per module. The
+    irradiance of each substring's most shaded cell is made from :attr:`substring_light`
+    when first read.
 
     Attributes
     ----------
@@ -475,7 +566,8 @@ class ModuleIrradiance:
         (the unshaded one gathered from :attr:`plane_effective` on each read).
     substring_effective : numpy.ndarray of float32, shape (T, M, S)
         Irradiance reaching the most shaded cell of each substring (after IAM) [W/m²]; single
-        precision, as the largest array of the evaluation.
+        precision, as the largest array of the evaluation; made from
+        :attr:`substring_light` on the first read and kept.
     temp_cell, temp_cell_unshaded : numpy.ndarray, shape (T, M)
         Cell temperature from the shaded and the unshaded irradiance [°C] (the unshaded one
         gathered from :attr:`plane_temp_cell` on each read).
@@ -488,12 +580,13 @@ class ModuleIrradiance:
     plane_poa_global, plane_effective, plane_temp_cell : numpy.ndarray, shape (T, O)
         Unshaded ``poa_global``, effective irradiance [W/m²] and cell temperature [°C] of
         each plane.
+    substring_light : SubstringLight
+        What :attr:`substring_effective` is made of, a block of modules at a time.
     """
 
     times: pd.DatetimeIndex
     poa_global: np.ndarray
     effective: np.ndarray
-    substring_effective: np.ndarray
     temp_cell: np.ndarray
     orientations: np.ndarray
     group: np.ndarray
@@ -501,6 +594,22 @@ class ModuleIrradiance:
     plane_poa_global: np.ndarray
     plane_effective: np.ndarray
     plane_temp_cell: np.ndarray
+    substring_light: SubstringLight
+
+    @cached_property
+    def substring_effective(self) -> np.ndarray:
+        """Irradiance of each substring's most shaded cell, (T, M, S) float32 [W/m²]."""
+        light = self.substring_light
+        n_modules, lit = len(self.group), light.lit_steps
+        out = np.zeros((light.n_steps, n_modules, light.n_substrings), dtype=np.float32)
+        rows = slice(None) if len(lit) == light.n_steps else lit
+        block = even_block(n_modules, _BLOCK_VALUES // max(1, len(lit)))
+
+        def fill(lo: int) -> None:  # zero where no light
+            out[rows, lo:lo + block] = light.block(slice(lo, lo + block))
+
+        parallel_map(fill, range(0, n_modules, block))
+        return out
 
     @property
     def poa_global_unshaded(self) -> np.ndarray:
@@ -680,8 +789,6 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
     poa, eff = np.zeros((n_steps, n_modules)), np.zeros((n_steps, n_modules))
     temp = np.empty((n_steps, n_modules))  # every block fills its columns, dark rows too
     dark_rows = np.flatnonzero(~lit_steps)
-    n_sub = worst_rows.shape[1]
-    sub = np.zeros((n_steps, n_modules, n_sub), dtype=np.float32)  # zero where no light
     # where each step with shade falls among the lit rows (a step without light drops out:
     # no light, however shaded)
     position = np.full(n_steps, -1)
@@ -699,16 +806,9 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
             g = slice(g[0], g[0] + 1)
         # the block's shade on the lit rows, zero where it has none
         mean_here = np.zeros((len(lit_rows), width))
-        sub_part = np.zeros((len(lit_rows), width, n_sub), dtype=np.float32)
         if len(at):
-            mean_held, worst_held = mean_rows[part], worst_rows[part]
-            if kept is not None:
-                mean_held, worst_held = mean_held[:, kept], worst_held[:, :, kept]
-            mean_here[at] = mean_held.T
-            sub_part[at] = worst_held.transpose(2, 0, 1)
-        beam_eff = here_parts["beam_eff"][:, g]
-        sky_eff = here_parts["sky_eff"][:, g]
-        ground_eff = here_parts["ground_eff"][:, g]
+            mean_held = mean_rows[part]
+            mean_here[at] = (mean_held if kept is None else mean_held[:, kept]).T
         lit = 1.0 - mean_here
         here = here_parts["beam"][:, g] * lit
         here += here_parts["sky"][:, g] * svf[part]
@@ -717,22 +817,18 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
         temp[rows, part] = pvlib.temperature.sapm_cell(here, temp_air_lit, wind_lit, **params)
         if len(dark_rows):
             temp[dark_rows, part] = temp_air[dark_rows]  # SAPM at zero irradiance
-        diffuse_eff = sky_eff * svf[part]
-        diffuse_eff += ground_eff
-        here = beam_eff * lit
+        diffuse_eff = here_parts["sky_eff"][:, g] * svf[part]
+        diffuse_eff += here_parts["ground_eff"][:, g]
+        here = here_parts["beam_eff"][:, g] * lit
         here += diffuse_eff
         eff[rows, part] = here
-        # each substring's most shaded cell: (1 - worst) · beam + diffuse, in single
-        # precision, one substring at a time (a broadcast over the short last axis is slow)
-        np.subtract(np.float32(1.0), sub_part, out=sub_part)
-        beam32, diffuse32 = beam_eff.astype(np.float32), diffuse_eff.astype(np.float32)
-        for s in range(n_sub):
-            one = sub_part[:, :, s]
-            one *= beam32
-            one += diffuse32
-        sub[rows, part] = sub_part
 
     parallel_map(shade_block, range(0, n_modules, block))
+    # each substring's most shaded cell: made a block of modules at a time where it is needed
+    light = SubstringLight(
+        n_steps=n_steps, lit_steps=lit_rows, group=group, beam_eff=here_parts["beam_eff"],
+        sky_eff=here_parts["sky_eff"], ground_eff=here_parts["ground_eff"], sky_view=svf,
+        worst_rows=worst_rows, shade_at=at, shade_kept=kept)
     # unshaded, once per plane
     plane_eff = parts["beam_eff"] + parts["sky_eff"]
     plane_eff += parts["ground_eff"]
@@ -740,7 +836,7 @@ def module_irradiance(weather: Weather, surface_tilt, surface_azimuth, *, beam_s
                                                         **params))
     settings = {"model": model, "iam_model": iam_model, "mount": mount}
     return ModuleIrradiance(
-        times=weather.times, poa_global=poa, effective=eff, substring_effective=sub,
-        temp_cell=temp, orientations=orientations, group=group, settings=settings,
+        times=weather.times, poa_global=poa, effective=eff, temp_cell=temp,
+        orientations=orientations, group=group, settings=settings,
         plane_poa_global=parts["poa_global"], plane_effective=plane_eff,
-        plane_temp_cell=plane_temp)
+        plane_temp_cell=plane_temp, substring_light=light)

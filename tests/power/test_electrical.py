@@ -426,3 +426,34 @@ def test_string_shares_equal_the_carrying_substrings_written_out(threads, monkey
             assert np.array_equal(modules[lit][:, members], share[lit])
             assert np.array_equal(string[lit, column], candidates[lit, best[lit]])
             assert not modules[~lit].any()
+
+
+@pytest.mark.parametrize("threads", ["1", "2"])
+def test_module_power_from_substring_blocks_equals_the_whole_array(threads, monkeypatch):
+    # dc_power's module model works a block of modules at a time from what the substrings'
+    # irradiance is made of (SubstringLight), without the (T, M, S) array: the same power
+    # as dc_module_level on that array, bit for bit, planes mixed, one module a block or all,
+    # one thread or two; the array is made only when read
+    from layout.power import irradiance as irradiance_module
+
+    weather = clear_sky(Site(36.1, -79.95, "UTC-05:00"))
+    up = int(weather.solar_position["sun_up"].sum())
+    rng = np.random.default_rng(5)
+    tilt, azimuth = [30.0, 10.0, 30.0, 25.0, 10.0], [180.0, 150.0, 180.0, 240.0, 150.0]
+    shade = (rng.random((up, 5, 3)) < 0.3) * rng.random((up, 5, 3))
+    kwargs = {"beam_shaded": shade, "sky_view": rng.uniform(0.6, 1.0, 5)}
+    monkeypatch.setenv(THREADS_VARIABLE, threads)
+    for block_values in (None, len(weather.data)):  # all modules at once; one a block
+        if block_values:
+            monkeypatch.setattr(electrical, "_BLOCK_VALUES", block_values)
+            monkeypatch.setattr(irradiance_module, "_BLOCK_VALUES", block_values)
+        irr = module_irradiance(weather, tilt, azimuth, **kwargs)
+        got = dc_power(irr, SPEC, module_ids=list("abcde")).dc_w
+        assert "substring_effective" not in vars(irr)  # not made for the module model
+        light = irr.substring_light
+        np.testing.assert_array_equal(light.block(slice(1, 4)),
+                                      irr.substring_effective[light.lit_steps, 1:4])
+        want = dc_module_level(irr.substring_effective, irr.temp_cell, SPEC.power_w)
+        np.testing.assert_array_equal(got, want)
+        dark = np.setdiff1d(np.arange(len(got)), light.lit_steps)
+        assert len(dark) and (got[dark] == 0).all() and got.sum() > 0
