@@ -77,13 +77,19 @@ class ShadeHits:
         """
         step, point, crown = self.step, self.point, self.crown_only
         opaque = crown.strides == (0,) or not crown.any()
+        small = n_steps <= 65535
         if sort and len(step) > 1:
-            order = _step_window_order(step, n_steps, window)
-            if order is not None:
-                step, point = step[order], point[order]
-                if not opaque:
-                    crown = crown[order]
-        if n_steps <= 65535:
+            if opaque and small and len(step) > _COMPACT_CHUNK:
+                # millions of hits: put in order a chunk at a time, straight into the kept
+                # arrays (the same order; no whole-size temporaries, each fresh memory)
+                step, point = _in_window_order(step, point, n_steps, window)
+            else:
+                order = _step_window_order(step, n_steps, window)
+                if order is not None:
+                    step, point = step[order], point[order]
+                    if not opaque:
+                        crown = crown[order]
+        if small:
             step = step.astype(np.uint16, copy=False)
         if opaque:
             crown = np.broadcast_to(np.False_, crown.shape)
@@ -114,6 +120,43 @@ def _step_window_order(step: np.ndarray, n_steps: int, window: int):
     if (key[1:] >= key[:-1]).all():
         return None
     return np.argsort(key, kind="stable")
+
+
+#: Hits put in order of their step window at once by :meth:`ShadeHits.compact`; more go a
+#: chunk of this many at a time (:func:`_in_window_order`).
+_COMPACT_CHUNK = 1 << 20
+
+
+def _in_window_order(step: np.ndarray, point: np.ndarray, n_steps: int, window: int):
+    """Return ``(step, point)`` in the order :func:`_step_window_order` gives, made by chunks.
+
+    A counting sort: the hits of each window are counted, then each chunk of
+    :data:`_COMPACT_CHUNK` hits is put in order on its own (a stable sort of a small key) and
+    written where its windows' places begin, chunk after chunk, so that every window holds
+    its hits in the order found, as a stable sort of all of them would. Steps come back as
+    uint16 (``n_steps`` at most 65,535), points as int32.
+    """
+    n_windows = -(-n_steps // window)
+    kind = np.uint8 if n_windows <= 256 else np.uint16
+    chunks = range(0, len(step), _COMPACT_CHUNK)
+
+    def keys(lo: int) -> np.ndarray:
+        return _step_windows(step[lo:lo + _COMPACT_CHUNK], window).astype(kind, copy=False)
+
+    counts = [np.bincount(keys(lo), minlength=n_windows) for lo in chunks]
+    cursor = np.cumsum(np.sum(counts, axis=0)) - np.sum(counts, axis=0)  # each window's start
+    out_step = np.empty(len(step), dtype=np.uint16)
+    out_point = np.empty(len(point), dtype=np.int32)
+    for lo, count in zip(chunks, counts, strict=True):
+        key = keys(lo)
+        order = np.argsort(key, kind="stable")
+        sorted_key = key[order]
+        first = np.cumsum(count) - count  # where each window begins in the sorted chunk
+        places = cursor[sorted_key] + (np.arange(len(order)) - first[sorted_key])
+        out_step[places] = step[lo:lo + _COMPACT_CHUNK][order]
+        out_point[places] = point[lo:lo + _COMPACT_CHUNK][order]
+        cursor += count
+    return out_step, out_point
 
 
 def obstruction_hits(points, sun, obstruction, *, ray_start: float = RAY_START_M,
@@ -322,8 +365,7 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
                 hits = _obstruction_hits(pts[near], sun_v, obstruction, start, max_pairs, cull,
                                          sun_order, sub_facing,
                                          coarse=not isinstance(obstruction, Plate))
-                return ShadeHits(hits.step, near[hits.point].astype(np.int32),
-                                 hits.crown_only)
+                return _renumbered(hits, near)
     if cull and facing is not None:
         ahead = _in_front(pts, facing, obstruction)  # the rest have it behind their surface
         if ahead is not None:
@@ -333,7 +375,7 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
             hits = _obstruction_hits(pts[ahead], sun_v, obstruction, start, max_pairs, cull,
                                      sun_order, facing.subset(ahead), coarse=coarse,
                                      runs=_runs_kept(runs, ahead, len(pts)))
-            return ShadeHits(hits.step, ahead[hits.point].astype(np.int32), hits.crown_only)
+            return _renumbered(hits, ahead)
     side = None
     # a plate set is culled as its hull, a plate in the same plane (plate_sets.py)
     cull_as = obstruction.hull if isinstance(obstruction, PlateSet) else obstruction
@@ -350,7 +392,7 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
             hits = _obstruction_hits(pts[active], sun_v, obstruction, start, max_pairs, cull,
                                      sun_order, sub_facing, coarse=coarse,
                                      runs=_runs_kept(runs, active, len(pts)))
-            return ShadeHits(hits.step, active[hits.point].astype(np.int32), hits.crown_only)
+            return _renumbered(hits, active)
         # a ray meets the plane only when the sun lies on the far side from the point
         side = (dist > 0, sun_v @ _plate_geometry(cull_as)[3] < 0)
     sub = max(256, max_pairs // _kernel_cost(obstruction))
@@ -397,6 +439,23 @@ def _obstruction_hits(pts, sun_v, obstruction, start, max_pairs, cull, sun_order
     return found.result()
 
 
+def _renumbered(hits: ShadeHits, index: np.ndarray) -> ShadeHits:
+    """Return the hits of a subset of points with each point renumbered ``index[point]``.
+
+    The hits come from a call on ``points[index]`` and are used by no one else: their point
+    array, int32 and its own, is renumbered in place, so that an obstruction with millions
+    of hits makes no array of their size for it (one would be fresh memory, page faults and
+    all, at every level of culling).
+    """
+    point = hits.point
+    if point.dtype == np.int32 and point.flags.owndata and point.flags.writeable:
+        # element by element, each index read before its place is written; mode "clip" is
+        # not buffered (the indices are in range: they index the subset)
+        np.take(index.astype(np.int32, copy=False), point, out=point, mode="clip")
+        return hits
+    return ShadeHits(hits.step, index[point].astype(np.int32), hits.crown_only)
+
+
 def _runs_kept(runs, index, n_points: int):
     """Return the candidate runs of the points ``index`` only, renumbered, or None."""
     if runs is None:
@@ -422,8 +481,7 @@ def _split_hits(pts, sun_v, obstruction, start, max_pairs, sun_order, facing, gr
             sub_facing = None if facing is None else facing.subset(index)
             hits = _obstruction_hits(pts[index], sun_v, obstruction, start, max_pairs, True,
                                      sun_order, sub_facing, coarse=False, runs=runs)
-            parts.append(ShadeHits(hits.step, index[hits.point].astype(np.int32),
-                                   hits.crown_only))
+            parts.append(_renumbered(hits, index))
     if not parts:
         empty = np.zeros(0, dtype=np.int32)
         return ShadeHits(empty, empty, np.zeros(0, dtype=bool))

@@ -1071,6 +1071,45 @@ def test_hits_in_window_order_keep_each_window_in_the_order_found(n_steps, windo
     assert again.point is kept.point
 
 
+@pytest.mark.parametrize("n_steps, window", [(4430, 32), (8760, 16), (4430, 1)])
+def test_many_opaque_hits_put_in_order_chunk_by_chunk_as_a_stable_sort_would(n_steps, window,
+                                                                            monkeypatch):
+    # an obstruction with more hits than a chunk (_COMPACT_CHUNK, made small here) is put in
+    # window order chunk by chunk, straight into the kept arrays: the same order as numpy's
+    # stable argsort of step // window, steps as uint16
+    from layout.shading import hits as hits_module
+
+    monkeypatch.setattr(hits_module, "_COMPACT_CHUNK", 997)
+    rng = np.random.default_rng(n_steps - window)
+    step = rng.integers(0, n_steps, 20_000).astype(np.int32)
+    point = rng.integers(0, 3_000, 20_000).astype(np.int32)
+    kept = ShadeHits(step, point, np.zeros(20_000, dtype=bool)).compact(n_steps, window=window)
+    order = np.argsort(step // window, kind="stable")
+    assert kept.step.dtype == np.uint16 and kept.point.dtype == np.int32
+    assert np.array_equal(kept.step.astype(np.int64), step[order])
+    assert np.array_equal(kept.point, point[order]) and not kept.crown_only.any()
+
+
+def test_hits_of_a_subset_renumbered_in_place_equal_numpys_gather():
+    # culling calls itself on a subset of the points and renumbers the hits it gets back;
+    # the point array it owns is renumbered in place, any other is gathered anew
+    from layout.shading.hits import _renumbered
+
+    rng = np.random.default_rng(3)
+    index = np.sort(rng.choice(100_000, 5_000, replace=False))
+    point = rng.integers(0, 5_000, 40_000).astype(np.int32)
+    step = rng.integers(0, 4_000, 40_000).astype(np.int32)
+    expected = index[point]
+    owned = ShadeHits(step, point.copy(), np.zeros(40_000, dtype=bool))
+    got = _renumbered(owned, index)
+    assert got.point is owned.point and np.array_equal(got.point, expected)
+    before = point.copy()
+    view = ShadeHits(step[10:], point[10:], np.zeros(39_990, dtype=bool))  # not its own
+    got = _renumbered(view, index)
+    assert np.array_equal(got.point, expected[10:]) and got.point.dtype == np.int32
+    assert np.array_equal(point, before)  # the array it views is left as it was
+
+
 @pytest.mark.parametrize("per, window", [(40, 32), (7, 4), (64, 64), (5, 64)])
 def test_blocks_of_rows_end_where_windows_do_and_hold_every_hit_once(per, window):
     # blocks of at most `per` rows, cut where a window of steps begins, each entry's hits at
