@@ -449,9 +449,12 @@ def _renumbered(hits: ShadeHits, index: np.ndarray) -> ShadeHits:
     """
     point = hits.point
     if point.dtype == np.int32 and point.flags.owndata and point.flags.writeable:
-        # element by element, each index read before its place is written; mode "clip" is
-        # not buffered (the indices are in range: they index the subset)
-        np.take(index.astype(np.int32, copy=False), point, out=point, mode="clip")
+        # a chunk at a time: numpy's take or fancy indexing would make an index array of
+        # the whole size (intp) for it
+        index = index.astype(np.int32, copy=False)
+        for lo in range(0, len(point), _COMPACT_CHUNK):
+            chunk = point[lo:lo + _COMPACT_CHUNK]
+            chunk[...] = index[chunk]
         return hits
     return ShadeHits(hits.step, index[point].astype(np.int32), hits.crown_only)
 

@@ -1090,10 +1090,14 @@ def test_many_opaque_hits_put_in_order_chunk_by_chunk_as_a_stable_sort_would(n_s
     assert np.array_equal(kept.point, point[order]) and not kept.crown_only.any()
 
 
-def test_hits_of_a_subset_renumbered_in_place_equal_numpys_gather():
+def test_hits_of_a_subset_renumbered_in_place_equal_numpys_gather(monkeypatch):
     # culling calls itself on a subset of the points and renumbers the hits it gets back;
-    # the point array it owns is renumbered in place, any other is gathered anew
+    # the point array it owns is renumbered in place a chunk at a time (made small here),
+    # any other is gathered anew
+    from layout.shading import hits as hits_module
     from layout.shading.hits import _renumbered
+
+    monkeypatch.setattr(hits_module, "_COMPACT_CHUNK", 997)
 
     rng = np.random.default_rng(3)
     index = np.sort(rng.choice(100_000, 5_000, replace=False))
