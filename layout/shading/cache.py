@@ -72,7 +72,7 @@ class ShadeCache:
             if normals.shape != self.points.shape:
                 raise InputError("normals", "needs one (x, y, z) normal per point",
                                  value=normals.shape, allowed=str(self.points.shape))
-            self.facing = Facing.from_normals(self.sun, normals)
+            self.facing = Facing.from_normals(self.sun, normals, self.points)
         self.month = None if month is None else _check_month(month, len(self.sun))
         self.ray_start = check_positive("ray_start", ray_start, unit="m")
         self.max_pairs = int(max_pairs)

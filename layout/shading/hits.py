@@ -210,15 +210,23 @@ class Facing:
         The normal of each orientation, as ``lit`` was computed with it; with it an
         obstruction wholly behind a point's surface is not ray-tested from that point
         (:func:`_in_front`).
+    heights : numpy.ndarray, shape (N,), optional
+        Each point's height along its surface's normal (``normal · point``) [m], which
+        :func:`_in_front` compares with each obstruction's reach; computed once here instead
+        of for every obstruction.
     """
 
     lit: np.ndarray
     group: np.ndarray
     normals: np.ndarray | None = None
+    heights: np.ndarray | None = None
 
     @classmethod
-    def from_normals(cls, sun, normals) -> Facing:
-        """Build the table from unit vectors toward the sun (T, 3) and point normals (N, 3)."""
+    def from_normals(cls, sun, normals, points=None) -> Facing:
+        """Build the table from unit vectors toward the sun (T, 3) and point normals (N, 3).
+
+        With the points (N, 3) [m], their :attr:`heights` too.
+        """
         rounded = np.round(np.asarray(normals, dtype=float), 9).reshape(-1, 3)
         # the distinct rows, in the order of np.unique(axis=0), found by a lexicographic
         # sort of the columns (an order of magnitude faster on a roof of many modules)
@@ -228,7 +236,10 @@ class Facing:
         group = np.empty(len(rounded), dtype=np.intp)
         group[order] = np.cumsum(first) - 1
         lit = np.asarray(sun, dtype=float) @ ranked[first].T > 0.0
-        return cls(lit=lit, group=group, normals=ranked[first])
+        normals = ranked[first]
+        heights = None if points is None \
+            else _heights(np.asarray(points, dtype=float), normals, group)
+        return cls(lit=lit, group=group, normals=normals, heights=heights)
 
     def lit_at(self, step, point) -> np.ndarray:
         """Whether the sun of each ``step`` lights the front of the surface of each ``point``."""
@@ -238,7 +249,8 @@ class Facing:
 
     def subset(self, index) -> Facing:
         """Return the same table for the points ``index`` only."""
-        return Facing(self.lit, self.group[index], self.normals)
+        return Facing(self.lit, self.group[index], self.normals,
+                      None if self.heights is None else self.heights[index])
 
 
 #: [m] How far behind a point's surface an obstruction's box must lie, all of it, to be left
@@ -261,10 +273,15 @@ def _in_front(pts, facing: Facing, obstruction) -> np.ndarray | None:
         return None
     corners = _solid_corners(obstruction)
     reach = (facing.normals @ corners.T).max(axis=1)  # farthest corner along each normal
-    normals = facing.normals[facing.group]
-    ahead = np.flatnonzero(reach[facing.group] - np.einsum("ij,ij->i", pts, normals)
-                           > -_BEHIND_MARGIN_M)
+    heights = facing.heights if facing.heights is not None \
+        else _heights(pts, facing.normals, facing.group)
+    ahead = np.flatnonzero(reach[facing.group] - heights > -_BEHIND_MARGIN_M)
     return None if len(ahead) == len(pts) else ahead
+
+
+def _heights(pts: np.ndarray, normals: np.ndarray, group: np.ndarray) -> np.ndarray:
+    """Each point's height along the normal of its surface group, ``normal · point`` [m]."""
+    return np.einsum("ij,ij->i", pts, normals[group])
 
 
 def _solid_corners(obstruction) -> np.ndarray:

@@ -402,7 +402,7 @@ def module_shade(modules, spec, sun, obstructions, *, samples_per_cell: int = 1,
                               n_mod * n_cells, sums, 0)
     else:
         order = _sun_order(sun_v)
-        facing = Facing.from_normals(sun_v, samples.normals)
+        facing = Facing.from_normals(sun_v, samples.normals, samples.points)
         steps = np.arange(len(sun_v))  # chunks of modules: every step held
         sums = _Reductions(n_mod, cell_substring, keep_cells)
         per_module = len(samples.points) // n_mod

@@ -1010,10 +1010,22 @@ def test_obstructions_behind_a_surface_are_not_tested_and_the_hits_stay_the_same
     sun = sun_vectors(rng.uniform(0, 360, 50), rng.uniform(1, 89, 50))
     with_normals = Facing.from_normals(sun, normals)
     without = Facing(with_normals.lit, with_normals.group)  # the same rule, no cull
+    # the points' heights along their normals, taken once with the points, cull the same
+    with_heights = Facing.from_normals(sun, normals, pts)
+    half = np.arange(0, 120, 2)
+    rounded = with_normals.normals[with_normals.group]  # the table's normals (to 1e-9)
+    assert np.array_equal(with_heights.subset(half).heights,
+                          np.einsum("ij,ij->i", pts[half], rounded[half]))
     culled_somewhere = False
     for ob in scene:
         ahead = _in_front(pts, with_normals, ob)
         culled_somewhere |= ahead is not None
+        assert np.array_equal(*(np.arange(120) if a is None else a
+                                for a in (ahead, _in_front(pts, with_heights, ob))))
+        kept_half = _in_front(pts[half], with_heights.subset(half), ob)
+        assert np.array_equal(*(np.arange(60) if a is None else a
+                                for a in (kept_half, _in_front(pts[half],
+                                                               with_normals.subset(half), ob))))
         kept = _obstruction_hits(pts, sun, ob, RAY_START_M, 1 << 16, True, None,
                                  with_normals)
         plain = _obstruction_hits(pts, sun, ob, RAY_START_M, 1 << 16, True, None, without)
