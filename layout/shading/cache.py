@@ -60,10 +60,14 @@ class ShadeCache:
         (:class:`Facing`).
     ray_start, max_pairs
         As in :func:`layout.shading.shaded`.
+    threads : int, keyword-only, optional
+        Threads that ray-test new obstructions; default: :func:`layout.runtime.worker_threads`
+        from :data:`THREADED_RAYS` rays on, else one.
     """
 
     def __init__(self, points, sun, obstructions=(), *, month=None, normals=None,
-                 ray_start: float = RAY_START_M, max_pairs: int = DEFAULT_MAX_PAIRS):
+                 ray_start: float = RAY_START_M, max_pairs: int = DEFAULT_MAX_PAIRS,
+                 threads: int | None = None):
         self.points = _check_points(points)
         self.sun = _check_sun(sun)
         self.facing = None
@@ -76,6 +80,7 @@ class ShadeCache:
         self.month = None if month is None else _check_month(month, len(self.sun))
         self.ray_start = check_positive("ray_start", ray_start, unit="m")
         self.max_pairs = int(max_pairs)
+        self.threads = threads
         self._order = _sun_order(self.sun)
         self._groups = _point_groups(self.points)
         self._sorted = _needs_step_order(len(self.sun), len(self.points))
@@ -103,7 +108,9 @@ class ShadeCache:
             else:
                 new[ob] = None
                 untested.append(ob)
-        threads = None if len(self.points) * len(self.sun) >= THREADED_RAYS else 1
+        threads = self.threads
+        if threads is None:
+            threads = None if len(self.points) * len(self.sun) >= THREADED_RAYS else 1
         tested = parallel_map(self._test, untested, threads=threads)
         new.update(zip(untested, tested, strict=True))
         computed = len(untested)

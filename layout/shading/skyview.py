@@ -297,8 +297,12 @@ class SkyViewCache:
                 # cache skips what stands wholly behind it (the same rays, Facing)
                 front = (np.tile(normal, (len(pts), 1))
                          if len(open_) and (open_ @ np.round(normal, 9) > 0.0).all() else None)
+                # on one thread: a direction set is a quarter of a year's sun steps, and
+                # each obstruction's work is many small array operations, which two
+                # threads contend for (on the 4,930-module warehouse of
+                # benchmarks/warehouse.py, 1.2-1.45 s on one thread, 2.0-2.4 s on two)
                 cache = ShadeCache(pts, open_, ray_start=self.ray_start,
-                                   max_pairs=self.max_pairs, normals=front) \
+                                   max_pairs=self.max_pairs, normals=front, threads=1) \
                     if len(open_) else None
             kept[key] = cache
             if cache is None:

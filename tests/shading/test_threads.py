@@ -89,3 +89,24 @@ def test_tile_blocks_on_threads_equal_one_thread(steps_a_block, monkeypatch):
     for name in ("mean", "worst", "substring", "by_cell"):
         assert np.array_equal(getattr(one, name), getattr(two, name))
     assert one.mean.any()
+
+
+def test_a_cache_told_one_thread_keeps_to_it_whatever_the_size(threaded, monkeypatch):
+    # the sky view's caches test on one thread (many small array operations, which two
+    # threads contend for); threads=1 overrides the size rule, with the same hits
+    spec, mods, sun, month, _, scene = _small_rack_scene(5, 80, 3)
+    samples = module_samples(mods, spec)
+    seen = []
+    real_map = cache_module.parallel_map
+
+    def spy(function, items, *, threads=None):
+        seen.append(threads)
+        return real_map(function, items, threads=threads)
+
+    monkeypatch.setattr(cache_module, "parallel_map", spy)
+    one = ShadeCache(samples.points, sun, scene, month=month, threads=1)
+    by_size = ShadeCache(samples.points, sun, scene, month=month)
+    assert seen == [1, None]  # threaded by size (THREADED_RAYS 0 here) unless told
+    for ob in scene:
+        a, b = one.hits(ob), by_size.hits(ob)
+        assert np.array_equal(a.step, b.step) and np.array_equal(a.point, b.point)
