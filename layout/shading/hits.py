@@ -29,7 +29,7 @@ from .rays import RAY_START_M, _check_points, _check_sun
 from .round_solids import _cone_tree_kernels, _tree_kernel, _tree_kernels
 from .sun_sectors import _sun_order, _SunOrder
 
-__all__ = ["DEFAULT_MAX_PAIRS", "Facing", "ShadeHits", "obstruction_hits"]
+__all__ = ["DEFAULT_MAX_PAIRS", "BlockedPairs", "Facing", "ShadeHits", "obstruction_hits"]
 
 
 #: Default upper bound on (time step, point) pairs handled at once; bounds working memory to
@@ -214,12 +214,19 @@ class Facing:
         Each point's height along its surface's normal (``normal · point``) [m], which
         :func:`_in_front` compares with each obstruction's reach; computed once here instead
         of for every obstruction.
+    point_ids : numpy.ndarray of int, shape (N,), optional
+        Each point's number among all the points of :attr:`blocked`.
+    blocked : BlockedPairs, optional
+        (step, point) pairs already found blocked by other casters: not tested again, and
+        each opaque hit found is added (:class:`_HitList`).
     """
 
     lit: np.ndarray
     group: np.ndarray
     normals: np.ndarray | None = None
     heights: np.ndarray | None = None
+    point_ids: np.ndarray | None = None
+    blocked: BlockedPairs | None = None
 
     @classmethod
     def from_normals(cls, sun, normals, points=None) -> Facing:
@@ -250,7 +257,52 @@ class Facing:
     def subset(self, index) -> Facing:
         """Return the same table for the points ``index`` only."""
         return Facing(self.lit, self.group[index], self.normals,
-                      None if self.heights is None else self.heights[index])
+                      None if self.heights is None else self.heights[index],
+                      None if self.point_ids is None else self.point_ids[index], self.blocked)
+
+    def skipping(self, blocked: BlockedPairs) -> Facing:
+        """Return the same table that skips, and adds to, the pairs ``blocked`` holds."""
+        return Facing(self.lit, self.group, self.normals, self.heights,
+                      np.arange(len(self.group)), blocked)
+
+
+@dataclass(frozen=True, eq=False)
+class BlockedPairs:
+    """(step, point) pairs known to be blocked by an opaque caster, one bit each.
+
+    The module casters of a layout (its rack rows, :class:`PlateSet`) change together, so
+    only the union of their hits matters: tested one after another, each skips the pairs
+    the ones before it blocked (a ray blocked once is blocked), which the shade keeps exact.
+
+    Attributes
+    ----------
+    bits : numpy.ndarray of uint8, shape (ceil(T · N / 8),)
+        Bit ``step · N + point``, set when the pair is blocked.
+    n_points : int
+        N.
+    """
+
+    bits: np.ndarray
+    n_points: int
+
+    @classmethod
+    def none(cls, n_steps: int, n_points: int) -> BlockedPairs:
+        """Return an empty set for ``n_steps`` steps and ``n_points`` points."""
+        return cls(np.zeros(-(-n_steps * n_points // 8), dtype=np.uint8), int(n_points))
+
+    def _bits_of(self, step, point_ids):
+        flat = step.astype(np.int64) * self.n_points + point_ids
+        return flat >> 3, (flat & 7).astype(np.uint8)
+
+    def free(self, step, point_ids) -> np.ndarray:
+        """Whether each (step, point) pair is not known to be blocked."""
+        byte, bit = self._bits_of(step, point_ids)
+        return (np.take(self.bits, byte) >> bit) & 1 == 0
+
+    def add(self, step, point_ids) -> None:
+        """Mark the (step, point) pairs blocked."""
+        byte, bit = self._bits_of(step, point_ids)
+        np.bitwise_or.at(self.bits, byte, np.left_shift(np.uint8(1), bit))
 
 
 #: [m] How far behind a point's surface an obstruction's box must lie, all of it, to be left
@@ -313,13 +365,21 @@ class _HitList:
         self.steps, self.points, self.crowns = [], [], []
 
     def test(self, pt, st):
+        blocked = None
         if self.facing is not None:  # rays of back-lit points carry no beam: not tested
             keep = self.facing.lit_at(st, pt)
+            if not keep.all():
+                pt, st = pt[keep], st[keep]
+            blocked, ids = self.facing.blocked, self.facing.point_ids
+        if blocked is not None and len(pt):  # pairs another caster blocked: not again
+            keep = blocked.free(st, ids[pt])
             if not keep.all():
                 pt, st = pt[keep], st[keep]
         for i in range(0, len(pt), self.sub):
             p, s = pt[i:i + self.sub], st[i:i + self.sub]
             opaque, crown = self.effect(p, s)
+            if blocked is not None and opaque is not None:
+                blocked.add(s[opaque], ids[p[opaque]])
             hit = crown if opaque is None else opaque if crown is None else opaque | crown
             count = int(hit.sum())
             self.steps.append(s[hit].astype(np.int32))
