@@ -10,6 +10,7 @@ tested on its own), whose agreement with trimesh's ray caster is checked in
 from __future__ import annotations
 
 import numpy as np
+import pytest
 
 from layout.scene.modules import generic_60_cell
 from layout.shading import ShadeCache, module_samples, module_shade
@@ -19,11 +20,13 @@ from layout.sky.sun import sun_vectors
 from tests.shading.test_shading import _rack_modules
 
 
-def _rows_scene(seed: int):
+def _rows_scene(seed: int, facing_sun: float = 180.0):
+    """Four rack rows of three modules; 150 random suns within 80° of ``facing_sun``."""
     spec = generic_60_cell(330.0)
     mods = _rack_modules(spec, "portrait", 20.0, 2.4, n_rows=4, n_cols=3)
     rng = np.random.default_rng(seed)
-    sun = sun_vectors(rng.uniform(100, 260, 150), rng.uniform(2, 45, 150))
+    azimuth = rng.uniform(facing_sun - 80, facing_sun + 80, 150) % 360
+    sun = sun_vectors(azimuth, rng.uniform(2, 45, 150))
     return spec, mods, sun
 
 
@@ -31,8 +34,9 @@ def _pairs(hits) -> set:
     return set(zip(hits.step.tolist(), hits.point.tolist(), strict=True))
 
 
-def test_rows_together_keep_the_union_of_their_hits_and_skip_the_rest():
-    spec, mods, sun = _rows_scene(4)
+@pytest.mark.parametrize("facing_sun", [180.0, 100.0])  # suns around south, around east-south-east
+def test_rows_together_keep_the_union_of_their_hits_and_skip_the_rest(facing_sun):
+    spec, mods, sun = _rows_scene(4, facing_sun)
     samples = module_samples(mods, spec)
     rows = module_casters(mods)
     assert len(rows) >= 3 and all(isinstance(row, PlateSet) for row in rows)
