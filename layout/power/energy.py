@@ -32,8 +32,9 @@ from ..shading.skyview import SkyViewCache
 from ..sky.sun import sun_vectors
 from ..sky.weather import Weather, clear_sky, read_weather_file
 from .electrical import ElectricalOptions
-from .irradiance import IAM_MODELS, MOUNTS, SKY_MODELS
+from .irradiance import MOUNTS
 from .metrics import DEFAULT_TSRF_THRESHOLD_PCT
+from .transposition import IAM_MODELS, SKY_MODELS
 
 __all__ = [
     "EnergyOptions",

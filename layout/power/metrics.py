@@ -32,7 +32,7 @@ import pandas as pd
 
 from ..errors import InputError, check_nonnegative, check_range
 from ..sky.weather import Weather
-from .irradiance import plane_insolation, plane_of_array
+from .transposition import plane_insolation, plane_of_array
 
 __all__ = [
     "COMPARISON_COLUMNS",
@@ -88,14 +88,14 @@ def best_orientation(weather: Weather, *, model: str = "perez") -> BestOrientati
     A coarse scan (tilt every 10°, azimuth every 30° over the equator-facing half) picks the
     start; then 5 × 5 grids of ever finer spacing, each centred on the best plane so far,
     refine it to about 0.05° in tilt and 0.1° in azimuth. Every grid is one vectorised call
-    of pvlib's transposition (:func:`layout.power.irradiance.plane_insolation`).
+    of pvlib's transposition (:func:`layout.power.transposition.plane_insolation`).
 
     Parameters
     ----------
     weather : layout.sky.weather.Weather
         Weather and sun of the site.
     model : str, keyword-only, default "perez"
-        Sky diffuse model, as in :func:`layout.power.irradiance.plane_of_array`.
+        Sky diffuse model, as in :func:`layout.power.transposition.plane_of_array`.
 
     Returns
     -------

@@ -91,7 +91,7 @@ class ShadeCache:
         self._window = _step_window(len(self.points))
         self._hits: dict = {}
         self._prepared: dict = {}
-        self._together: frozenset = frozenset()  # rack rows whose hits were found together
+        self._together: tuple = ()  # rack rows whose hits were found together
         # hits of obstructions lately dropped from the list, newest last: an undo that puts a
         # moved obstruction back finds its hits here
         self._dropped: OrderedDict = OrderedDict()
@@ -102,14 +102,16 @@ class ShadeCache:
         """Set the obstruction list; return how many obstructions had to be ray-tested."""
         obstructions = tuple(obstructions)
         # rack rows tested together keep only their union: all again if any of them changed
-        rows = frozenset(ob for ob in obstructions if isinstance(ob, PlateSet))
-        together = self._together if rows == self._together else frozenset()
+        # (compared as a tuple: the same objects compare at once, where hashing a set of
+        # rows takes milliseconds on a large roof at every update)
+        rows = tuple(ob for ob in obstructions if isinstance(ob, PlateSet))
+        same_rows = rows == self._together
         new: dict = {}
         untested = []
         for ob in obstructions:
             if ob in new:
                 continue
-            if ob in self._hits and (ob in together or not isinstance(ob, PlateSet)):
+            if ob in self._hits and (same_rows or not isinstance(ob, PlateSet)):
                 new[ob] = self._hits[ob]
             elif ob in self._dropped:
                 new[ob] = self._dropped.pop(ob)

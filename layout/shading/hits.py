@@ -82,7 +82,7 @@ class ShadeHits:
             if opaque and small and len(step) > _COMPACT_CHUNK:
                 # millions of hits: put in order a chunk at a time, straight into the kept
                 # arrays (the same order; no whole-size temporaries, each fresh memory)
-                step, point = _in_window_order(step, point, n_steps, window)
+                step, point = _window_order_by_chunks(step, point, n_steps, window)
             else:
                 order = _step_window_order(step, n_steps, window)
                 if order is not None:
@@ -123,11 +123,11 @@ def _step_window_order(step: np.ndarray, n_steps: int, window: int):
 
 
 #: Hits put in order of their step window at once by :meth:`ShadeHits.compact`; more go a
-#: chunk of this many at a time (:func:`_in_window_order`).
+#: chunk of this many at a time (:func:`_window_order_by_chunks`).
 _COMPACT_CHUNK = 1 << 20
 
 
-def _in_window_order(step: np.ndarray, point: np.ndarray, n_steps: int, window: int):
+def _window_order_by_chunks(step: np.ndarray, point: np.ndarray, n_steps: int, window: int):
     """Return ``(step, point)`` in the order :func:`_step_window_order` gives, made by chunks.
 
     A counting sort: the hits of each window are counted, then each chunk of

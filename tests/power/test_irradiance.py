@@ -11,14 +11,8 @@ import pytest
 
 from layout.errors import InputError
 from layout.fill.racking import sun_from_hour_angle
-from layout.power.irradiance import (
-    iam_factors,
-    module_irradiance,
-    orientation_groups,
-    plane_insolation,
-    plane_of_array,
-    substring_shade,
-)
+from layout.power.irradiance import module_irradiance, orientation_groups, substring_shade
+from layout.power.transposition import iam_factors, plane_insolation, plane_of_array
 from layout.runtime import THREADS_VARIABLE
 from layout.scene.site import Site
 from layout.sky.weather import Weather, clear_sky, read_weather_file
@@ -317,7 +311,7 @@ def test_only_lit_steps_are_worked_and_dark_steps_are_exact(clear):
     # the same order of operations, bit for bit.
     import dataclasses
 
-    from layout.power.irradiance import plane_components
+    from layout.power.transposition import plane_components
 
     data = clear.data.copy()
     up = np.flatnonzero(clear.solar_position["sun_up"].to_numpy())

@@ -154,7 +154,7 @@ def test_a_fully_enclosed_module_keeps_only_the_ground_reflected_share(open_roof
     result = evaluate(enclosed)
     # the ground-reflected share of the unshaded plane-of-array insolation, from pvlib directly
     from layout.power.energy import load_weather
-    from layout.power.irradiance import plane_of_array
+    from layout.power.transposition import plane_of_array
 
     weather = load_weather(enclosed.site, enclosed.energy)
     frame = plane_of_array(weather, face.pitch_deg, face.azimuth_deg)
